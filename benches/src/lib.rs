@@ -1,0 +1,1 @@
+//! criterion benchmarks for rotaframe live in `benches/`; this library is empty.

@@ -1,0 +1,195 @@
+//! The crate's one error type for bad input.
+//!
+//! Every fallible constructor and conversion returns [`Result<T>`](Result). Every variant names the
+//! quantity (the argument or field) that was rejected, so that a binding can pass the message on
+//! unchanged: "`attitude` must be a unit quaternion (norm 0.5, allowed 1 ± 1e-6)".
+//!
+//! Batch functions over slices report the index of the first bad element with [`BatchError`].
+//! Nothing is written to an output slice when a batch function fails.
+//!
+//! With the `std` feature the error implements `std::error::Error`; without it, it still
+//! implements `core::error::Error` and `Display`.
+
+use core::fmt;
+
+/// Bad input rejected by a rotaframe function. Every variant names the rejected quantity.
+///
+/// # Example
+/// ```
+/// use rotaframe::rotation::quaternion_from_wxyz;
+/// use rotaframe::Error;
+///
+/// let err = quaternion_from_wxyz([0.0, 0.0, 0.0, 0.0], "attitude").unwrap_err();
+/// assert_eq!(err, Error::ZeroNorm { quantity: "attitude" });
+/// assert_eq!(err.to_string(), "`attitude` has zero norm");
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, thiserror::Error)]
+#[non_exhaustive]
+pub enum Error {
+    /// A component is NaN or infinite.
+    #[error("`{quantity}` must be finite, got NaN or infinity")]
+    NonFinite {
+        /// The rejected quantity.
+        quantity: &'static str,
+    },
+    /// A vector or quaternion that must have a direction has (nearly) zero norm.
+    #[error("`{quantity}` has zero norm")]
+    ZeroNorm {
+        /// The rejected quantity.
+        quantity: &'static str,
+    },
+    /// A quaternion whose norm is too far from one to be a rotation.
+    #[error("`{quantity}` must be a unit quaternion (norm {norm}, allowed 1 ± {tolerance})")]
+    NotUnitQuaternion {
+        /// The rejected quantity.
+        quantity: &'static str,
+        /// Its norm.
+        norm: f64,
+        /// The largest accepted deviation of the norm from one.
+        tolerance: f64,
+    },
+    /// A 3×3 matrix that is not a proper rotation (orthonormal with determinant +1).
+    #[error("`{quantity}` must be a rotation matrix (largest |MᵀM − I| entry {orthogonality_error}, determinant {determinant})")]
+    NotRotationMatrix {
+        /// The rejected quantity.
+        quantity: &'static str,
+        /// Largest absolute entry of `MᵀM − I`.
+        orthogonality_error: f64,
+        /// Determinant of the matrix.
+        determinant: f64,
+    },
+    /// A scalar outside its allowed closed interval.
+    #[error("`{quantity}` = {value} is outside [{min}, {max}]")]
+    OutOfRange {
+        /// The rejected quantity.
+        quantity: &'static str,
+        /// The value given.
+        value: f64,
+        /// Smallest allowed value.
+        min: f64,
+        /// Largest allowed value.
+        max: f64,
+    },
+    /// A scalar that must be strictly positive is not.
+    #[error("`{quantity}` = {value} must be positive")]
+    NotPositive {
+        /// The rejected quantity.
+        quantity: &'static str,
+        /// The value given.
+        value: f64,
+    },
+    /// A latitude so close to a pole that the local-level (north, east) axes are undefined.
+    #[error(
+        "`{quantity}` = {value} rad is within {limit} rad of a pole, where north-east-down axes are singular; use an Earth-fixed formulation there"
+    )]
+    NearPole {
+        /// The rejected quantity.
+        quantity: &'static str,
+        /// The latitude given, in radians.
+        value: f64,
+        /// The exclusion distance from the pole, in radians of latitude.
+        limit: f64,
+    },
+    /// A position so close to the Earth's centre that geodetic coordinates are not unique.
+    #[error(
+        "`{quantity}` is {distance} m from the Earth's centre, inside the {limit} m region where geodetic coordinates are not unique"
+    )]
+    NearEarthCentre {
+        /// The rejected quantity.
+        quantity: &'static str,
+        /// Distance from the centre in metres.
+        distance: f64,
+        /// Radius of the excluded region in metres.
+        limit: f64,
+    },
+    /// Two inputs whose lengths or shapes must agree do not.
+    #[error("`{quantity}` has length {found}, expected {expected}")]
+    LengthMismatch {
+        /// The rejected quantity.
+        quantity: &'static str,
+        /// The length given.
+        found: usize,
+        /// The length required.
+        expected: usize,
+    },
+    /// A set of parameters that is inconsistent for a reason given in the message.
+    #[error("`{quantity}` is invalid: {reason}")]
+    Invalid {
+        /// The rejected quantity.
+        quantity: &'static str,
+        /// Why it was rejected.
+        reason: &'static str,
+    },
+}
+
+impl Error {
+    /// The name of the rejected quantity.
+    ///
+    /// ```
+    /// # use rotaframe::Error;
+    /// assert_eq!(Error::NonFinite { quantity: "velocity" }.quantity(), "velocity");
+    /// ```
+    #[must_use]
+    pub fn quantity(&self) -> &'static str {
+        match *self {
+            Error::NonFinite { quantity }
+            | Error::ZeroNorm { quantity }
+            | Error::NotUnitQuaternion { quantity, .. }
+            | Error::NotRotationMatrix { quantity, .. }
+            | Error::OutOfRange { quantity, .. }
+            | Error::NotPositive { quantity, .. }
+            | Error::NearPole { quantity, .. }
+            | Error::NearEarthCentre { quantity, .. }
+            | Error::LengthMismatch { quantity, .. }
+            | Error::Invalid { quantity, .. } => quantity,
+        }
+    }
+}
+
+/// Shorthand for `core::result::Result<T, rotaframe::Error>`.
+pub type Result<T> = core::result::Result<T, Error>;
+
+/// The first bad element of a batch: its index in the input slices and what was wrong with it.
+///
+/// ```
+/// # use rotaframe::{BatchError, Error};
+/// let e = BatchError { index: 7, error: Error::NonFinite { quantity: "position" } };
+/// assert_eq!(e.to_string(), "element 7: `position` must be finite, got NaN or infinity");
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct BatchError {
+    /// Index of the first rejected element.
+    pub index: usize,
+    /// Why it was rejected.
+    pub error: Error,
+}
+
+impl fmt::Display for BatchError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "element {}: {}", self.index, self.error)
+    }
+}
+
+impl core::error::Error for BatchError {
+    fn source(&self) -> Option<&(dyn core::error::Error + 'static)> {
+        Some(&self.error)
+    }
+}
+
+/// Checks that every component of a value is finite.
+#[inline]
+pub(crate) fn ensure_finite(values: &[f64], quantity: &'static str) -> Result<()> {
+    if values.iter().all(|v| v.is_finite()) { Ok(()) } else { Err(Error::NonFinite { quantity }) }
+}
+
+/// Checks that a 3-vector is finite.
+#[inline]
+pub(crate) fn ensure_finite3(v: &nalgebra::Vector3<f64>, quantity: &'static str) -> Result<()> {
+    ensure_finite(v.as_slice(), quantity)
+}
+
+/// Checks that a scalar is finite.
+#[inline]
+pub(crate) fn ensure_finite1(v: f64, quantity: &'static str) -> Result<()> {
+    if v.is_finite() { Ok(()) } else { Err(Error::NonFinite { quantity }) }
+}

@@ -1,0 +1,65 @@
+//! Shared printing helpers for the rotaframe examples.
+
+use rotaframe::apparent::ApparentAcceleration;
+use rotaframe::frames::Frame;
+use rotaframe::nalgebra::Vector3;
+
+/// Standard gravity, for expressing accelerations in g (CGPM 1901 conventional value).
+pub const STANDARD_GRAVITY: f64 = 9.806_65;
+
+/// Formats a number in scientific notation with a signed two-digit exponent ("1.4622e+00"),
+/// printing negative zero as zero.
+#[must_use]
+pub fn sci(x: f64) -> String {
+    let s = format!("{:.4e}", x + 0.0);
+    match s.split_once('e') {
+        Some((mantissa, exp)) => {
+            let e: i32 = exp.parse().unwrap_or(0);
+            format!("{mantissa}e{}{:02}", if e < 0 { '-' } else { '+' }, e.abs())
+        }
+        None => s,
+    }
+}
+
+/// Formats a direction as a unit vector, or "—" for a zero vector.
+#[must_use]
+pub fn direction(v: &Vector3<f64>) -> String {
+    let n = v.norm();
+    if n == 0.0 {
+        "—".to_string()
+    } else {
+        let u = v / n;
+        format!("({:+.3}, {:+.3}, {:+.3})", u.x + 0.0, u.y + 0.0, u.z + 0.0)
+    }
+}
+
+/// Prints an apparent-acceleration budget as a table: each term's components, magnitude in
+/// m/s² and in g, and direction, resolved in the frame `B` whose axis names are given.
+pub fn print_budget<B: Frame>(title: &str, axes: [&str; 3], terms: &ApparentAcceleration<B>) {
+    println!("{title}");
+    println!("resolved in {} axes ({}, {}, {})", B::NAME, axes[0], axes[1], axes[2]);
+    println!("{:<14} {:>13} {:>13} {:>13} {:>13} {:>11}   direction", "term", axes[0], axes[1], axes[2], "|a| m/s²", "|a| g");
+    let rows = [
+        ("translational", terms.translational),
+        ("Coriolis", terms.coriolis),
+        ("centrifugal", terms.centrifugal),
+        ("Euler", terms.euler),
+        ("total", terms.total),
+    ];
+    for (i, (name, v)) in rows.iter().enumerate() {
+        if i == rows.len() - 1 {
+            println!("{}", "-".repeat(100));
+        }
+        println!(
+            "{:<14} {:>13} {:>13} {:>13} {:>13} {:>11}   {}",
+            name,
+            sci(v.x),
+            sci(v.y),
+            sci(v.z),
+            sci(v.norm()),
+            sci(v.norm() / STANDARD_GRAVITY),
+            direction(v)
+        );
+    }
+    println!();
+}
