@@ -70,8 +70,10 @@ impl FrameDynamics {
     }
 }
 
-/// The apparent accelerations acting on a point that moves relative to frame `B`, each
-/// resolved in `B` (m/s²). `total` is the sum of the four terms.
+/// The apparent accelerations acting on a point that moves relative to a non-inertial frame,
+/// each resolved in frame `B` (m/s²). `total` is the sum of the four terms. As produced they
+/// belong to `B` and are resolved in it; [`resolved_in`](Self::resolved_in) re-expresses them
+/// in other axes, and then `B` names those axes.
 pub struct ApparentAcceleration<B: Frame = AnyFrame> {
     /// `−a₀`, from the acceleration of B's origin.
     pub translational: Vector3<f64>,
@@ -115,6 +117,36 @@ impl<B: Frame> fmt::Debug for ApparentAcceleration<B> {
 }
 
 impl<B: Frame> ApparentAcceleration<B> {
+    /// The same terms (still the apparent accelerations *of frame B*) resolved in the axes of
+    /// frame `P`, using the rotation of `motion` (B relative to P); translation and rates of
+    /// `motion` play no part.
+    ///
+    /// ```
+    /// use approx::assert_relative_eq;
+    /// use nalgebra::{UnitQuaternion, Vector3};
+    /// use rotaframe::{apparent::apparent_acceleration, frames::PointKinematics, motion::FrameMotion};
+    /// rotaframe::frame!(Lab: inertial);
+    /// rotaframe::frame!(Table);
+    /// rotaframe::frame!(Display);
+    /// let table = FrameMotion::<Lab, Table>::spin(Vector3::z(), 1.0, 0.0).unwrap();
+    /// let terms = apparent_acceleration(&table, &PointKinematics::at_rest(Vector3::x()));
+    /// let quarter = UnitQuaternion::from_axis_angle(&Vector3::z_axis(), std::f64::consts::FRAC_PI_2);
+    /// let shown = terms.resolved_in(&FrameMotion::<Display, Table>::from_rotation(quarter).unwrap());
+    /// assert_relative_eq!(shown.centrifugal, Vector3::y(), epsilon = 1e-15);
+    /// ```
+    #[must_use]
+    pub fn resolved_in<P: Frame>(&self, motion: &FrameMotion<P, B>) -> ApparentAcceleration<P> {
+        let r = motion.rotation_matrix();
+        ApparentAcceleration {
+            translational: r * self.translational,
+            coriolis: r * self.coriolis,
+            centrifugal: r * self.centrifugal,
+            euler: r * self.euler,
+            total: r * self.total,
+            frame: PhantomData,
+        }
+    }
+
     /// The same terms with the frame type forgotten.
     #[must_use]
     pub fn erase_frame(&self) -> ApparentAcceleration<AnyFrame> {

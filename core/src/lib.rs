@@ -5,6 +5,16 @@
 //! apparent (Coriolis, centrifugal, Euler, translational) accelerations that appear when a
 //! frame rotates or accelerates.
 //!
+//! ## Modules
+//!
+//! * [`frames`]: frame markers (`Eci`, `Ecef`, `Ned`, `Enu`, `Body`, your own with [`frame!`]),
+//!   free vectors and point kinematics;
+//! * [`motion`]: [`FrameMotion<P, C>`](motion::FrameMotion), the transport theorem, composition
+//!   and inverse;
+//! * [`apparent`]: translational, Coriolis, centrifugal and Euler accelerations;
+//! * [`rotation`]: quaternions, direction-cosine matrices, Euler angles, rotation vectors;
+//! * [`earth`]: ellipsoids, geodetic coordinates, local-level frames, Earth rotation, gravity.
+//!
 //! ## Conventions
 //!
 //! * SI units throughout; angles in radians (functions that take degrees say so in their name).
@@ -43,9 +53,12 @@
 #![deny(missing_docs)]
 #![forbid(unsafe_code)]
 
+mod dd;
+mod dd_tables;
 mod math;
 
 pub mod apparent;
+pub mod earth;
 pub mod error;
 pub mod frames;
 pub mod motion;

@@ -70,6 +70,10 @@ mod imp {
         x.round()
     }
     #[inline(always)]
+    pub fn round_ties_even(x: f64) -> f64 {
+        x.round_ties_even()
+    }
+    #[inline(always)]
     pub fn mul_add(a: f64, b: f64, c: f64) -> f64 {
         a.mul_add(b, c)
     }
@@ -136,6 +140,10 @@ mod imp {
     #[inline(always)]
     pub fn round(x: f64) -> f64 {
         libm::round(x)
+    }
+    #[inline(always)]
+    pub fn round_ties_even(x: f64) -> f64 {
+        libm::rint(x)
     }
     #[inline(always)]
     pub fn mul_add(a: f64, b: f64, c: f64) -> f64 {

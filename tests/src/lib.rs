@@ -11,10 +11,12 @@ use rotaframe::nalgebra;
 /// exercises a few thousand random frames and points per property.
 pub const PROPTEST_CASES: u32 = 2048;
 
-/// proptest configuration used by every property in this crate.
+/// proptest configuration used by every property in this crate: [`PROPTEST_CASES`] cases, or
+/// the number in the `PROPTEST_CASES` environment variable when it is set (for longer runs).
 #[must_use]
 pub fn config() -> ProptestConfig {
-    ProptestConfig { cases: PROPTEST_CASES, ..ProptestConfig::default() }
+    let default = ProptestConfig::default();
+    if std::env::var_os("PROPTEST_CASES").is_some() { default } else { ProptestConfig { cases: PROPTEST_CASES, ..default } }
 }
 
 /// Relative rounding tolerance for the closed-form kinematic formulas: each result is a sum of

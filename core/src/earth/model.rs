@@ -1,0 +1,270 @@
+//! Reference ellipsoids with their normal gravity fields.
+//!
+//! An [`EarthModel`] is a level ellipsoid: a rotating ellipsoid of revolution whose surface is
+//! an equipotential of its own normal gravity field. Four defining constants fix it: the
+//! semi-major axis `a`, the flattening `f`, the geocentric gravitational constant `GM` and the
+//! rotation rate `ω`. Everything else follows:
+//!
+//! ```text
+//! b   = a (1 − f)                       semi-minor axis
+//! e²  = f (2 − f)                       first eccentricity squared
+//! e′² = e² / (1 − e²)                   second eccentricity squared
+//! m   = ω² a² b / GM
+//! q₀  = ½ [(1 + 3/e′²) atan e′ − 3/e′]
+//! q₀′ = 3 (1 + 1/e′²) (1 − atan(e′)/e′) − 1
+//! γe  = GM/(a b) · [1 − m − (m/6) e′ q₀′/q₀]      normal gravity at the equator
+//! γp  = GM/a² · [1 + (m/3) e′ q₀′/q₀]             normal gravity at the poles
+//! J₂  = (e²/3) · [1 − (2/15) m e′/q₀]              dynamical form factor
+//! k   = b γp / (a γe) − 1                          Somigliana's constant
+//! ```
+//!
+//! (H. Moritz, "Geodetic Reference System 1980", *Journal of Geodesy* 74 (2000) 128–133, and
+//! W. A. Heiskanen & H. Moritz, *Physical Geodesy* (1967), ch. 2.) The presets store the
+//! published values of γe, γp and J₂; [`EarthModel::from_defining_constants`] derives them with
+//! the formulas above, and the tests check that the two agree.
+//!
+//! Presets:
+//! * [`WGS84`]: NIMA TR8350.2, 3rd ed. (1997, Amendment 1 of 2000), Tables 3.1–3.4.
+//! * [`GRS80`]: Moritz (2000).
+
+use crate::error::{Error, Result, ensure_finite1};
+use crate::math;
+
+/// A level ellipsoid: geometry, mass, rotation and normal gravity. See the
+/// [module documentation](self).
+///
+/// ```
+/// use rotaframe::earth::WGS84;
+/// assert_eq!(WGS84.semi_major_axis(), 6378137.0);
+/// assert!((WGS84.semi_minor_axis() - 6356752.3142).abs() < 1e-4);
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct EarthModel {
+    a: f64,
+    f: f64,
+    gm: f64,
+    omega: f64,
+    gamma_equator: f64,
+    gamma_pole: f64,
+    j2: f64,
+    // Derived, stored so that hot paths do not recompute them.
+    b: f64,
+    e2: f64,
+    ep2: f64,
+    k: f64,
+    m: f64,
+}
+
+/// WGS 84 (NIMA TR8350.2, 3rd ed., Amendment 1, 2000): `a` = 6378137 m,
+/// `1/f` = 298.257223563, `GM` = 3.986004418e14 m³/s² (atmosphere included),
+/// `ω` = 7.292115e-5 rad/s; normal gravity γe = 9.7803253359 m/s², γp = 9.8321849378 m/s²
+/// (Table 3.4); `J₂` = −√5 · C̄₂,₀ with the ellipsoid's C̄₂,₀ = −0.484166774985e-3.
+/// Somigliana's constant is the published k = 0.00193185265241 (TR8350.2, ch. 4), computed
+/// there from the unrounded γe and γp.
+pub const WGS84: EarthModel = EarthModel::from_published(
+    6_378_137.0,
+    1.0 / 298.257_223_563,
+    3.986_004_418e14,
+    7.292_115e-5,
+    9.780_325_335_9,
+    9.832_184_937_8,
+    1.082_629_821_313_3e-3,
+    0.001_931_852_652_41,
+);
+
+/// GRS 80 (H. Moritz, *Journal of Geodesy* 74, 2000): `a` = 6378137 m, `GM` = 3.986005e14 m³/s²,
+/// `J₂` = 1.08263e-3 (defining), `ω` = 7.292115e-5 rad/s; derived `1/f` = 298.257222101,
+/// γe = 9.7803267715 m/s², γp = 9.8321863685 m/s², k = 0.001931851353.
+pub const GRS80: EarthModel = EarthModel::from_published(
+    6_378_137.0,
+    1.0 / 298.257_222_101,
+    3.986_005e14,
+    7.292_115e-5,
+    9.780_326_771_5,
+    9.832_186_368_5,
+    1.082_63e-3,
+    0.001_931_851_353,
+);
+
+/// Largest flattening a custom model may have. The geodetic inversion is verified for Earth-like
+/// flattening and, by property tests, up to this value.
+pub const MAX_FLATTENING: f64 = 0.1;
+
+impl EarthModel {
+    /// A model from published constants, deriving only what needs no square root (so that
+    /// presets can be constants). Not validated.
+    #[allow(clippy::too_many_arguments)]
+    const fn from_published(a: f64, f: f64, gm: f64, omega: f64, gamma_equator: f64, gamma_pole: f64, j2: f64, k: f64) -> Self {
+        let b = a * (1.0 - f);
+        let e2 = f * (2.0 - f);
+        Self { a, f, gm, omega, gamma_equator, gamma_pole, j2, b, e2, ep2: e2 / (1.0 - e2), k, m: omega * omega * a * a * b / gm }
+    }
+
+    /// A level ellipsoid from its four defining constants, with γe, γp and `J₂` derived by the
+    /// closed formulas in the [module documentation](self).
+    ///
+    /// # Errors
+    /// [`Error::NonFinite`], [`Error::NotPositive`] or [`Error::OutOfRange`] naming the constant
+    /// (`semi_major_axis`, `flattening` in (0, [`MAX_FLATTENING`]], `gm`, `rotation_rate` ≥ 0).
+    ///
+    /// # Example
+    /// ```
+    /// use approx::assert_relative_eq;
+    /// use rotaframe::earth::{EarthModel, WGS84};
+    /// let m = EarthModel::from_defining_constants(6378137.0, 1.0 / 298.257223563, 3.986004418e14, 7.292115e-5).unwrap();
+    /// assert_relative_eq!(m.gamma_equator(), WGS84.gamma_equator(), max_relative = 1e-10);
+    /// ```
+    pub fn from_defining_constants(semi_major_axis: f64, flattening: f64, gm: f64, rotation_rate: f64) -> Result<Self> {
+        validate_geometry(semi_major_axis, flattening, gm, rotation_rate)?;
+        if flattening == 0.0 {
+            return Err(Error::OutOfRange { quantity: "flattening", value: 0.0, min: f64::MIN_POSITIVE, max: MAX_FLATTENING });
+        }
+        let (a, f) = (semi_major_axis, flattening);
+        let b = a * (1.0 - f);
+        let e2 = f * (2.0 - f);
+        let ep = math::sqrt(e2 / (1.0 - e2));
+        let atan_ep = math::atan(ep);
+        let q0 = 0.5 * ((1.0 + 3.0 / (ep * ep)) * atan_ep - 3.0 / ep);
+        let q0p = 3.0 * (1.0 + 1.0 / (ep * ep)) * (1.0 - atan_ep / ep) - 1.0;
+        let m = rotation_rate * rotation_rate * a * a * b / gm;
+        let gamma_equator = gm / (a * b) * (1.0 - m - m / 6.0 * ep * q0p / q0);
+        let gamma_pole = gm / (a * a) * (1.0 + m / 3.0 * ep * q0p / q0);
+        let j2 = e2 / 3.0 * (1.0 - 2.0 / 15.0 * m * ep / q0);
+        let k = b * gamma_pole / (a * gamma_equator) - 1.0;
+        Ok(Self::from_published(a, f, gm, rotation_rate, gamma_equator, gamma_pole, j2, k))
+    }
+
+    /// A model with every constant given, for ellipsoids whose gravity constants are published
+    /// separately. Checks ranges and that the gravity constants are positive and finite; it
+    /// does not check that they are consistent with the geometry.
+    ///
+    /// # Errors
+    /// As [`from_defining_constants`](Self::from_defining_constants), and for `gamma_equator`,
+    /// `gamma_pole` (positive) and `j2` (finite).
+    ///
+    /// ```
+    /// use rotaframe::earth::EarthModel;
+    /// let bad = EarthModel::custom(6378137.0, 0.0033, -1.0, 7.29e-5, 9.78, 9.83, 1.08e-3);
+    /// assert_eq!(bad.unwrap_err().quantity(), "gm");
+    /// ```
+    #[allow(clippy::too_many_arguments)]
+    pub fn custom(
+        semi_major_axis: f64,
+        flattening: f64,
+        gm: f64,
+        rotation_rate: f64,
+        gamma_equator: f64,
+        gamma_pole: f64,
+        j2: f64,
+    ) -> Result<Self> {
+        validate_geometry(semi_major_axis, flattening, gm, rotation_rate)?;
+        positive(gamma_equator, "gamma_equator")?;
+        positive(gamma_pole, "gamma_pole")?;
+        ensure_finite1(j2, "j2")?;
+        let b = semi_major_axis * (1.0 - flattening);
+        let k = b * gamma_pole / (semi_major_axis * gamma_equator) - 1.0;
+        Ok(Self::from_published(semi_major_axis, flattening, gm, rotation_rate, gamma_equator, gamma_pole, j2, k))
+    }
+
+    /// Semi-major (equatorial) axis `a` (m).
+    #[must_use]
+    #[inline]
+    pub const fn semi_major_axis(&self) -> f64 {
+        self.a
+    }
+    /// Flattening `f = (a − b)/a`.
+    #[must_use]
+    #[inline]
+    pub const fn flattening(&self) -> f64 {
+        self.f
+    }
+    /// Semi-minor (polar) axis `b = a(1 − f)` (m).
+    #[must_use]
+    #[inline]
+    pub const fn semi_minor_axis(&self) -> f64 {
+        self.b
+    }
+    /// First eccentricity squared `e² = f(2 − f)`.
+    #[must_use]
+    #[inline]
+    pub const fn eccentricity_squared(&self) -> f64 {
+        self.e2
+    }
+    /// Second eccentricity squared `e′² = e²/(1 − e²)`.
+    #[must_use]
+    #[inline]
+    pub const fn second_eccentricity_squared(&self) -> f64 {
+        self.ep2
+    }
+    /// Geocentric gravitational constant `GM` (m³/s²).
+    #[must_use]
+    #[inline]
+    pub const fn gm(&self) -> f64 {
+        self.gm
+    }
+    /// Rotation rate `ω` relative to inertial space (rad/s).
+    #[must_use]
+    #[inline]
+    pub const fn rotation_rate(&self) -> f64 {
+        self.omega
+    }
+    /// Normal gravity on the ellipsoid at the equator, γe (m/s²).
+    #[must_use]
+    #[inline]
+    pub const fn gamma_equator(&self) -> f64 {
+        self.gamma_equator
+    }
+    /// Normal gravity on the ellipsoid at the poles, γp (m/s²).
+    #[must_use]
+    #[inline]
+    pub const fn gamma_pole(&self) -> f64 {
+        self.gamma_pole
+    }
+    /// Second-degree zonal harmonic (dynamical form factor) `J₂`.
+    #[must_use]
+    #[inline]
+    pub const fn j2(&self) -> f64 {
+        self.j2
+    }
+    /// Somigliana's constant `k = b γp / (a γe) − 1` (the presets store the published value,
+    /// computed from unrounded γe and γp).
+    #[must_use]
+    #[inline]
+    pub const fn somigliana_k(&self) -> f64 {
+        self.k
+    }
+    /// The ratio `m = ω² a² b / GM` of centrifugal to gravitational acceleration at the equator
+    /// (approximately).
+    #[must_use]
+    #[inline]
+    pub const fn gravity_ratio_m(&self) -> f64 {
+        self.m
+    }
+    /// Radius of the sphere about the Earth's centre inside which geodetic coordinates are not
+    /// unique: `(a² − b²)/b`, the larger half-axis of the evolute of the meridian ellipse
+    /// (42.8 km for WGS 84). More than one ellipsoidal normal passes through points inside it.
+    #[must_use]
+    #[inline]
+    pub fn centre_exclusion_radius(&self) -> f64 {
+        (self.a - self.b) * (self.a + self.b) / self.b
+    }
+}
+
+fn positive(value: f64, quantity: &'static str) -> Result<()> {
+    ensure_finite1(value, quantity)?;
+    if value > 0.0 { Ok(()) } else { Err(Error::NotPositive { quantity, value }) }
+}
+
+fn validate_geometry(a: f64, f: f64, gm: f64, omega: f64) -> Result<()> {
+    positive(a, "semi_major_axis")?;
+    ensure_finite1(f, "flattening")?;
+    if !(0.0..=MAX_FLATTENING).contains(&f) {
+        return Err(Error::OutOfRange { quantity: "flattening", value: f, min: 0.0, max: MAX_FLATTENING });
+    }
+    positive(gm, "gm")?;
+    ensure_finite1(omega, "rotation_rate")?;
+    if omega < 0.0 {
+        return Err(Error::OutOfRange { quantity: "rotation_rate", value: omega, min: 0.0, max: f64::INFINITY });
+    }
+    Ok(())
+}
