@@ -1,6 +1,6 @@
 #!/usr/bin/env python3
-"""Generates core/src/dd_tables.rs: double-double tables for the table-driven sine, cosine and
-arctangent in core/src/dd.rs, and the three-part split of pi/2 used for argument reduction.
+"""Generates core/src/dd_tables.rs: the double-double table for the table-driven arctangent in
+core/src/dd.rs, and the three-part split of pi/2 used for argument reduction.
 Values are computed with mpmath at 60 digits and written as hi, lo pairs (hi + lo = value to
 about 1e-32). Usage: python3 scripts/gen_dd_tables.py  (needs `pip install mpmath`)."""
 import os
@@ -45,13 +45,6 @@ def main():
     for j in range(65):
         hi, lo = pair(mp.atan(mp.mpf(j) / 64))
         out.append(f"    ({hi!r}, {lo!r}),")
-    out.append("];")
-    out.append("")
-    out.append("/// `(sin(j/64), cos(j/64))` for j = −51..=51 (index j + 51).")
-    out.append("pub(crate) const SIN_COS_TABLE: [((f64, f64), (f64, f64)); 103] = [")
-    for j in range(-51, 52):
-        c = mp.mpf(j) / 64
-        out.append(f"    ({pair(mp.sin(c))!r}, {pair(mp.cos(c))!r}),")
     out.append("];")
     path = os.path.join(os.path.dirname(__file__), "..", "core", "src", "dd_tables.rs")
     with open(path, "w") as f:

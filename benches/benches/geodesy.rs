@@ -10,24 +10,13 @@ use std::hint::black_box;
 
 use criterion::{BenchmarkId, Criterion, Throughput, criterion_group, criterion_main};
 use rotaframe::earth::{WGS84, ecef_to_geodetic_slices, geodetic_to_ecef_slices};
-
-struct Seeded(u64);
-impl Seeded {
-    fn unit(&mut self) -> f64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^= z >> 31;
-        (z >> 11) as f64 / (1u64 << 53) as f64
-    }
-}
+use rotaframe_tests::Seeded;
 
 fn inputs(n: usize) -> (Vec<f64>, Vec<f64>, Vec<f64>) {
     let mut rng = Seeded(7);
-    let lat = (0..n).map(|_| (rng.unit() - 0.5) * std::f64::consts::PI).collect();
-    let lon = (0..n).map(|_| (rng.unit() - 0.5) * 2.0 * std::f64::consts::PI).collect();
-    let h = (0..n).map(|_| (rng.unit() - 0.5) * 2.0e4).collect();
+    let lat = (0..n).map(|_| (rng.next_unit() - 0.5) * std::f64::consts::PI).collect();
+    let lon = (0..n).map(|_| (rng.next_unit() - 0.5) * 2.0 * std::f64::consts::PI).collect();
+    let h = (0..n).map(|_| (rng.next_unit() - 0.5) * 2.0e4).collect();
     (lat, lon, h)
 }
 

@@ -1,2 +1,62 @@
-//! Python bindings for rotaframe. The pyo3 module arrives with the Python-bindings work; this
-//! crate currently only links the core so that the workspace layout is in place.
+//! Python bindings for rotaframe (module `rotaframe._native`, wrapped by the pure-Python
+//! package `rotaframe`).
+//!
+//! The bindings are thin: they convert array-likes to float64, broadcast leading axes, loop
+//! over the batch with the GIL released calling the core, and map the core's errors to Python
+//! exceptions. No formula is written here.
+
+mod apparent;
+mod broadcast;
+mod errors;
+mod geodesy;
+mod model;
+mod motion;
+mod rotations;
+
+use pyo3::prelude::*;
+
+/// The native part of the `rotaframe` package.
+#[pymodule(gil_used = false)]
+fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
+    errors::register(m)?;
+    m.add_class::<model::PyEarthModel>()?;
+    m.add("WGS84", model::PyEarthModel::preset(rotaframe::earth::WGS84, "WGS84"))?;
+    m.add("GRS80", model::PyEarthModel::preset(rotaframe::earth::GRS80, "GRS80"))?;
+    m.add_function(wrap_pyfunction!(model::_earth_model_from_constants, m)?)?;
+    m.add_class::<motion::PyFrameMotion>()?;
+    m.add_class::<apparent::PyApparentAcceleration>()?;
+    m.add_function(wrap_pyfunction!(motion::_frame_motion_from_parts, m)?)?;
+    m.add_function(wrap_pyfunction!(motion::earth_motion, m)?)?;
+    m.add_function(wrap_pyfunction!(motion::local_level_motion, m)?)?;
+    m.add_function(wrap_pyfunction!(apparent::apparent_acceleration, m)?)?;
+    for f in [
+        wrap_pyfunction!(geodesy::geodetic_to_ecef, m)?,
+        wrap_pyfunction!(geodesy::ecef_to_geodetic, m)?,
+        wrap_pyfunction!(geodesy::ned_from_ecef, m)?,
+        wrap_pyfunction!(geodesy::enu_from_ecef, m)?,
+        wrap_pyfunction!(geodesy::radii_of_curvature, m)?,
+        wrap_pyfunction!(geodesy::normal_gravity, m)?,
+        wrap_pyfunction!(geodesy::gravity_ned, m)?,
+        wrap_pyfunction!(geodesy::gravitation_ecef, m)?,
+        wrap_pyfunction!(geodesy::gravity_ecef, m)?,
+        wrap_pyfunction!(geodesy::centripetal_acceleration_ecef, m)?,
+        wrap_pyfunction!(geodesy::earth_rate_ned, m)?,
+        wrap_pyfunction!(geodesy::transport_rate_ned, m)?,
+        wrap_pyfunction!(geodesy::coriolis_ned, m)?,
+        wrap_pyfunction!(geodesy::eotvos_correction, m)?,
+        wrap_pyfunction!(geodesy::coriolis_parameter, m)?,
+        wrap_pyfunction!(geodesy::earth_rotation_angle, m)?,
+        wrap_pyfunction!(rotations::quat_from_euler, m)?,
+        wrap_pyfunction!(rotations::euler_from_quat, m)?,
+        wrap_pyfunction!(rotations::quat_to_matrix, m)?,
+        wrap_pyfunction!(rotations::matrix_to_quat, m)?,
+        wrap_pyfunction!(rotations::quat_multiply, m)?,
+        wrap_pyfunction!(rotations::quat_inverse, m)?,
+        wrap_pyfunction!(rotations::quat_rotate, m)?,
+        wrap_pyfunction!(rotations::quat_from_rotvec, m)?,
+        wrap_pyfunction!(rotations::quat_to_rotvec, m)?,
+    ] {
+        m.add_function(f)?;
+    }
+    Ok(())
+}

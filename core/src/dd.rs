@@ -7,7 +7,7 @@
 //! A [`Dd`] value is `hi + lo` with `|lo| ≤ ulp(hi)/2`; the operations here are accurate to a
 //! few units of 2⁻¹⁰⁴ relative, far beyond what the callers need (about 2⁻⁶⁰).
 
-use crate::dd_tables::{ATAN_TABLE, HALF_PI_DD, HALF_PI_PARTS, PI_DD, SIN_COS_TABLE};
+use crate::dd_tables::{ATAN_TABLE, HALF_PI_DD, HALF_PI_PARTS, PI_DD};
 use crate::math;
 
 /// `a + b = s + e` exactly.
@@ -119,6 +119,16 @@ impl Dd {
     }
 }
 
+/// 1.5·2⁵²: adding it to a float of magnitude below 2⁵¹ rounds the float to an integer held in
+/// the low bits of the sum's mantissa (round half to even).
+const ROUNDING_SHIFT: f64 = 6_755_399_441_055_744.0;
+
+/// The integer held by `x + ROUNDING_SHIFT` (two's complement in the low 32 bits).
+#[inline(always)]
+fn shifted_integer(shifted: f64) -> i32 {
+    shifted.to_bits() as u32 as i32
+}
+
 /// Largest |x| for which [`sin_cos_dd`] reduces its argument with the three-part π/2
 /// (the products `k·P1`, `k·P2` stay exact for |k| < 2²⁰).
 pub(crate) const SIN_COS_DD_LIMIT: f64 = 524_288.0;
@@ -127,37 +137,46 @@ pub(crate) const SIN_COS_DD_LIMIT: f64 = 524_288.0;
 /// |x| ≤ [`SIN_COS_DD_LIMIT`] (outside that range the result is meaningless; callers reduce
 /// first).
 ///
-/// Method: `x = k·π/2 + r` (Cody–Waite reduction in double-double), `r = c + d` with
-/// `c = j/64` from a 103-entry table of double-double `sin c`, `cos c` and `|d| ≤ 1/128`, then
-/// `sin(c + d) = sin c · cos d + cos c · sin d` with the Taylor series of `sin d − d` and
-/// `cos d − 1` to `d⁷` and `d⁶` (truncation below 4e-19). The code is branch-free so that batch
-/// loops vectorise. (J.-M. Muller, *Elementary Functions*, 3rd ed. (2016), ch. 6 and 11.)
+/// Method: `x = k·π/2 + r` (Cody–Waite reduction in double-double, |r| ≤ π/4), then the Taylor
+/// series of sin and cos about 0, with the terms that matter at 2⁻⁶⁰ (`r`, `r³/6`, `1`, `r²/2`,
+/// `r⁴/24`) in double-double and the rest in f64 Horner form to `r¹⁷` and `r²⁰` (truncation
+/// below 1e-19), and the low part of `r` carried to first order. No table: the code is
+/// branch-free and free of gathers, so batch loops vectorise. (J.-M. Muller, *Elementary
+/// Functions*, 3rd ed. (2016), ch. 11, for the reduction.)
 #[inline(always)]
 pub(crate) fn sin_cos_dd(x: f64) -> (Dd, Dd) {
     use core::f64::consts::FRAC_2_PI;
     let [p1, p2, p3] = HALF_PI_PARTS;
-    let k = math::round_ties_even(x * FRAC_2_PI);
+    // Round to an integer by adding 1.5·2⁵²: the sum's low mantissa bits are the integer, so
+    // the quadrant comes from a bit mask rather than a (slow to vectorise) float-to-int cast.
+    let k_shifted = x * FRAC_2_PI + ROUNDING_SHIFT;
+    let k = k_shifted - ROUNDING_SHIFT;
     let t1 = x - k * p1; // exact (Sterbenz)
-    let (r_hi, e) = two_sum(t1, -(k * p2));
+    let (r, e) = two_sum(t1, -(k * p2));
     let r_lo = e - k * p3;
-    let j = math::round_ties_even(r_hi * 64.0);
-    let d = r_hi - j / 64.0; // exact (Sterbenz)
-    // The clamp is a no-op for valid input; it lets the compiler drop the bounds check.
-    let ((s_hi, s_lo), (c_hi, c_lo)) = SIN_COS_TABLE[(j as i32 + 51).clamp(0, 102) as usize];
-    let d2 = d * d;
-    let sin_d_minus_d = d * d2 * (-1.0 / 6.0 + d2 * (1.0 / 120.0 - d2 * (1.0 / 5040.0)));
-    let cos_d_minus_1 = d2 * (-0.5 + d2 * (1.0 / 24.0 - d2 * (1.0 / 720.0))) - d * r_lo;
-    let small_sin = r_lo + sin_d_minus_d; // sin(d + r_lo) − d, to the accuracy needed
-    // sin(c + δ) = S + C·d + [S·(cos δ − 1) + C·(sin δ − d)], likewise for cos.
-    let (p, pe) = two_prod(c_hi, d);
-    let (s, se) = two_sum(s_hi, p);
-    let sin_r = Dd::new(s, se + pe + s_lo + c_lo * d + s_hi * cos_d_minus_1 + c_hi * small_sin);
-    let (q, qe) = two_prod(-s_hi, d);
-    let (c, ce) = two_sum(c_hi, q);
-    let cos_r = Dd::new(c, ce + qe + c_lo - s_lo * d + c_hi * cos_d_minus_1 - s_hi * small_sin);
+    let u = Dd::prod(r, r);
+    let u1 = u.hi;
+    // sin r = r − r³/6 + r⁵·Q(r²), plus r_lo·cos r.
+    let cube = u.mul_f64(r).mul(Dd { hi: SIXTH.0, lo: SIXTH.1 });
+    let q = SIN_TAIL[0]
+        + u1 * (SIN_TAIL[1]
+            + u1 * (SIN_TAIL[2] + u1 * (SIN_TAIL[3] + u1 * (SIN_TAIL[4] + u1 * (SIN_TAIL[5] + u1 * SIN_TAIL[6])))));
+    let tail = r * u1 * u1 * q;
+    let (s, se) = two_sum(r, -cube.hi);
+    let sin_r = Dd::new(s, se - cube.lo + tail + r_lo * (1.0 - 0.5 * u1));
+    // cos r = 1 − r²/2 + r⁴/24 + r⁶·R(r²), minus r_lo·sin r.
+    let quartic = u.mul(u).mul(Dd { hi: TWENTY_FOURTH.0, lo: TWENTY_FOURTH.1 });
+    let rr = COS_TAIL[0]
+        + u1 * (COS_TAIL[1]
+            + u1 * (COS_TAIL[2]
+                + u1 * (COS_TAIL[3] + u1 * (COS_TAIL[4] + u1 * (COS_TAIL[5] + u1 * (COS_TAIL[6] + u1 * COS_TAIL[7]))))));
+    let tail = u1 * u1 * u1 * rr;
+    let (c, ce) = two_sum(1.0, -0.5 * u.hi);
+    let (c, ce2) = fast_two_sum(c, quartic.hi);
+    let cos_r = Dd::new(c, ce + ce2 - 0.5 * u.lo + quartic.lo + tail - r_lo * r * (1.0 - u1 / 6.0));
     // Rotate by the quadrant k mod 4, without branches: odd quadrants swap sine and cosine,
     // quadrants 2 and 3 negate the sine, quadrants 1 and 2 negate the cosine.
-    let quadrant = (k as i64) & 3;
+    let quadrant = shifted_integer(k_shifted) & 3;
     let swap = quadrant & 1 == 1;
     let sin_sign = if quadrant & 2 == 2 { -1.0 } else { 1.0 };
     let cos_sign = if (quadrant + 1) & 2 == 2 { -1.0 } else { 1.0 };
@@ -165,6 +184,33 @@ pub(crate) fn sin_cos_dd(x: f64) -> (Dd, Dd) {
     let cos_x = Dd { hi: cos_sign * select(swap, sin_r.hi, cos_r.hi), lo: cos_sign * select(swap, sin_r.lo, cos_r.lo) };
     (sin_x, cos_x)
 }
+
+/// 1/6 and 1/24 as double-doubles.
+const SIXTH: (f64, f64) = (0.166_666_666_666_666_66, 9.251_858_538_542_97e-18);
+const TWENTY_FOURTH: (f64, f64) = (0.041_666_666_666_666_664, 2.312_964_634_635_742_7e-18);
+/// Taylor coefficients (−1)ᵏ/(2k + 5)!, k = 0..6, of `(sin r − r + r³/6)/r⁵` in r².
+#[allow(clippy::excessive_precision)]
+const SIN_TAIL: [f64; 7] = [
+    8.333_333_333_333_333e-3,
+    -1.984_126_984_126_984e-4,
+    2.755_731_922_398_589_3e-6,
+    -2.505_210_838_544_172e-8,
+    1.605_904_383_682_161_3e-10,
+    -7.647_163_731_819_816e-13,
+    2.811_457_254_345_520_6e-15,
+];
+/// Taylor coefficients (−1)ᵏ⁺¹/(2k + 6)!, k = 0..7, of `(cos r − 1 + r²/2 − r⁴/24)/r⁶` in r².
+#[allow(clippy::excessive_precision)]
+const COS_TAIL: [f64; 8] = [
+    -1.388_888_888_888_889e-3,
+    2.480_158_730_158_73e-5,
+    -2.755_731_922_398_589e-7,
+    2.087_675_698_786_81e-9,
+    -1.147_074_559_772_972_5e-11,
+    4.779_477_332_387_385e-14,
+    -1.561_920_696_858_622_5e-16,
+    4.110_317_623_312_165e-19,
+];
 
 /// `atan2(y, x)` as a double-double, accurate to about 1e-19 absolute, with the usual quadrant
 /// conventions (result in (−π, π], the sign of a zero `y` kept).
@@ -182,12 +228,12 @@ pub(crate) fn atan2_dd(y: f64, x: f64) -> Dd {
     let den_safe = if den == 0.0 { 1.0 } else { den };
     let t = num / den_safe;
     let t_lo = math::mul_add(-t, den_safe, num) / den_safe;
-    let j = math::round_ties_even(t * 64.0);
-    let c = j / 64.0;
+    let j_shifted = t * 64.0 + ROUNDING_SHIFT;
+    let c = (j_shifted - ROUNDING_SHIFT) / 64.0;
     let u = ((t - c) + t_lo) / math::mul_add(t, c, 1.0);
     let u2 = u * u;
     let poly = u * u2 * (-1.0 / 3.0 + u2 * (0.2 - u2 * (1.0 / 7.0)));
-    let (a_hi, a_lo) = ATAN_TABLE[(j as i32).clamp(0, 64) as usize];
+    let (a_hi, a_lo) = ATAN_TABLE[shifted_integer(j_shifted).clamp(0, 64) as usize];
     let (s, e) = two_sum(a_hi, u);
     let r = Dd::new(s, e + a_lo + poly);
     // Undo the octant reduction without branches: with r in [0, π/4], the angle is

@@ -146,6 +146,34 @@ impl Error {
     }
 }
 
+impl Error {
+    /// The same error naming a different quantity, for callers whose argument names differ
+    /// from the core's (a binding's `xyz` for the core's `ecef`).
+    ///
+    /// ```
+    /// # use rotaframe::Error;
+    /// let e = Error::NonFinite { quantity: "ecef" }.with_quantity("xyz");
+    /// assert_eq!(e.to_string(), "`xyz` must be finite, got NaN or infinity");
+    /// ```
+    #[must_use]
+    pub fn with_quantity(self, quantity: &'static str) -> Self {
+        match self {
+            Error::NonFinite { .. } => Error::NonFinite { quantity },
+            Error::ZeroNorm { .. } => Error::ZeroNorm { quantity },
+            Error::NotUnitQuaternion { norm, tolerance, .. } => Error::NotUnitQuaternion { quantity, norm, tolerance },
+            Error::NotRotationMatrix { orthogonality_error, determinant, .. } => {
+                Error::NotRotationMatrix { quantity, orthogonality_error, determinant }
+            }
+            Error::OutOfRange { value, min, max, .. } => Error::OutOfRange { quantity, value, min, max },
+            Error::NotPositive { value, .. } => Error::NotPositive { quantity, value },
+            Error::NearPole { value, limit, .. } => Error::NearPole { quantity, value, limit },
+            Error::NearEarthCentre { distance, limit, .. } => Error::NearEarthCentre { quantity, distance, limit },
+            Error::LengthMismatch { found, expected, .. } => Error::LengthMismatch { quantity, found, expected },
+            Error::Invalid { reason, .. } => Error::Invalid { quantity, reason },
+        }
+    }
+}
+
 /// Shorthand for `core::result::Result<T, rotaframe::Error>`.
 pub type Result<T> = core::result::Result<T, Error>;
 

@@ -1,11 +1,40 @@
 //! Shared helpers for rotaframe's integration tests: proptest strategies (one per type),
 //! finite-difference stencils and named tolerances.
 
+pub mod shared;
+
 use nalgebra::{Matrix3, Quaternion, UnitQuaternion, Vector3};
 use proptest::prelude::*;
 use rotaframe::frames::{Frame, PointKinematics};
 use rotaframe::motion::{FrameMotion, MotionParts};
 use rotaframe::nalgebra;
+
+/// Deterministic pseudo-random numbers (SplitMix64) for benchmarks and generated vectors, so
+/// that every run and every contender sees the same inputs.
+#[derive(Debug, Clone)]
+pub struct Seeded(pub u64);
+
+impl Seeded {
+    /// The next number, uniform in [−1, 1).
+    pub fn next_signed(&mut self) -> f64 {
+        self.next_unit() * 2.0 - 1.0
+    }
+
+    /// The next number, uniform in [0, 1).
+    pub fn next_unit(&mut self) -> f64 {
+        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
+        let mut z = self.0;
+        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+        z ^= z >> 31;
+        (z >> 11) as f64 / (1u64 << 53) as f64
+    }
+
+    /// A vector with components uniform in [−scale, scale).
+    pub fn vector(&mut self, scale: f64) -> Vector3<f64> {
+        Vector3::new(self.next_signed(), self.next_signed(), self.next_signed()) * scale
+    }
+}
 
 /// Number of cases for each property test. The default of 256 is raised so that every CI run
 /// exercises a few thousand random frames and points per property.

@@ -285,6 +285,9 @@ fn check_len(found: usize, expected: usize, quantity: &'static str) -> core::res
 /// geodetic_to_ecef_slices(&WGS84, &lat, &lon, &h, &mut xyz).unwrap();
 /// assert_eq!(xyz[0], [6378137.0, 0.0, 0.0]);
 /// ```
+// Kept out of line: inlined into a large caller (a Python binding's function body) the loop
+// was left scalar by the optimiser, 4 times slower.
+#[inline(never)]
 pub fn geodetic_to_ecef_slices(
     model: &EarthModel,
     latitude: &[f64],
@@ -301,14 +304,15 @@ pub fn geodetic_to_ecef_slices(
         Geodetic::new(latitude[i], longitude[i], height[i]).validate().map_err(|error| BatchError { index: i, error })?;
         largest_longitude = largest_longitude.max(longitude[i].abs());
     }
+    // Zipped iterators carry no bounds checks, so the common case vectorises.
+    let points = ecef.iter_mut().zip(latitude).zip(longitude).zip(height);
     if largest_longitude <= SIN_COS_DD_LIMIT {
-        // The common case, kept free of branches so that it vectorises.
-        for (i, out) in ecef.iter_mut().enumerate() {
-            *out = forward(model, latitude[i], longitude[i], height[i]);
+        for (((out, &lat), &lon), &h) in points {
+            *out = forward(model, lat, lon, h);
         }
     } else {
-        for (i, out) in ecef.iter_mut().enumerate() {
-            *out = forward_any(model, latitude[i], longitude[i], height[i]);
+        for (((out, &lat), &lon), &h) in points {
+            *out = forward_any(model, lat, lon, h);
         }
     }
     Ok(())
@@ -320,6 +324,8 @@ pub fn geodetic_to_ecef_slices(
 /// # Errors
 /// [`BatchError`] with the index of the first bad element (as [`ecef_to_geodetic`]), or
 /// [`Error::LengthMismatch`] (index 0) if the slices differ in length.
+// Kept out of line for the reason given at `geodetic_to_ecef_slices`.
+#[inline(never)]
 pub fn ecef_to_geodetic_slices(
     model: &EarthModel,
     ecef: &[[f64; 3]],
@@ -334,14 +340,16 @@ pub fn ecef_to_geodetic_slices(
     for (i, p) in ecef.iter().enumerate() {
         check_ecef(model, &Vector3::from(*p), "ecef").map_err(|error| BatchError { index: i, error })?;
     }
-    // Two loops with the step count fixed at compile time, so that each vectorises.
+    // Two loops with the step count fixed at compile time, over zipped iterators (no bounds
+    // checks), so that each vectorises.
+    let points = ecef.iter().zip(latitude.iter_mut()).zip(longitude.iter_mut()).zip(height.iter_mut());
     if model.flattening() <= FLAT_LIMIT {
-        for (i, p) in ecef.iter().enumerate() {
-            [latitude[i], longitude[i], height[i]] = inverse::<BOWRING_STEPS>(model, p[0], p[1], p[2]);
+        for (((p, lat), lon), h) in points {
+            [*lat, *lon, *h] = inverse::<BOWRING_STEPS>(model, p[0], p[1], p[2]);
         }
     } else {
-        for (i, p) in ecef.iter().enumerate() {
-            [latitude[i], longitude[i], height[i]] = inverse::<{ BOWRING_STEPS + 1 }>(model, p[0], p[1], p[2]);
+        for (((p, lat), lon), h) in points {
+            [*lat, *lon, *h] = inverse::<{ BOWRING_STEPS + 1 }>(model, p[0], p[1], p[2]);
         }
     }
     Ok(())

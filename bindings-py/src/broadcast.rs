@@ -1,0 +1,393 @@
+//! Array arguments: conversion to float64, trailing-shape checks, numpy broadcasting over the
+//! leading axes, and element access for the batch loops.
+//!
+//! Every array argument has a *core* shape (`()` for a scalar, `(3,)` for a vector, `(4,)` for
+//! a quaternion, `(3, 3)` for a matrix) that must match its trailing axes exactly, and a
+//! *leading* shape that broadcasts with the other arguments by numpy's rules. A Python number
+//! or a 0-d array broadcasts over everything, core axes included (so `velocity=0` means the
+//! zero vector). C-contiguous float64 input is read in place; anything else (lists, other
+//! dtypes, strided views, partial broadcasts) is converted once.
+
+use numpy::{AllowTypeChange, PyArrayDyn, PyArrayLikeDyn, PyArrayMethods, PyUntypedArrayMethods};
+use pyo3::prelude::*;
+use pyo3::types::{PyBool, PyFloat, PyInt, PyTuple};
+
+use crate::errors::{ShapeError, to_py};
+
+/// Largest core size (a 3×3 matrix).
+const MAX_CORE: usize = 9;
+
+enum Storage<'py> {
+    /// One number broadcast over every element and every core slot.
+    Scalar([f64; MAX_CORE]),
+    /// A C-contiguous float64 numpy array, read in place.
+    Array(PyArrayLikeDyn<'py, f64, AllowTypeChange>),
+    /// A contiguous copy (of a strided view, or of a partially broadcast operand).
+    Owned(Vec<f64>),
+}
+
+/// One array argument of a batch function.
+pub struct Operand<'py> {
+    /// The Python argument name, used in messages.
+    pub name: &'static str,
+    core: usize,
+    leading: Vec<usize>,
+    storage: Storage<'py>,
+}
+
+fn shape_text(shape: &[usize]) -> String {
+    match shape.len() {
+        0 => "()".to_string(),
+        1 => format!("({},)", shape[0]),
+        _ => format!("({})", shape.iter().map(ToString::to_string).collect::<Vec<_>>().join(", ")),
+    }
+}
+
+impl<'py> Operand<'py> {
+    /// Converts `obj` (a number, sequence or array) into an operand with the given core shape.
+    pub fn extract(obj: &Bound<'py, PyAny>, name: &'static str, core_shape: &[usize]) -> PyResult<Self> {
+        let core: usize = core_shape.iter().product();
+        // Plain Python numbers skip numpy entirely (this keeps single-sample calls cheap).
+        if (obj.is_exact_instance_of::<PyFloat>() || obj.is_instance_of::<PyInt>()) && !obj.is_instance_of::<PyBool>() {
+            let v: f64 = obj.extract()?;
+            return Ok(Self { name, core, leading: Vec::new(), storage: Storage::Scalar([v; MAX_CORE]) });
+        }
+        let array: PyArrayLikeDyn<'py, f64, AllowTypeChange> = obj.extract().map_err(|e| {
+            pyo3::exceptions::PyTypeError::new_err(format!("`{name}` must be a number or an array of numbers: {e}"))
+        })?;
+        let shape = array.shape().to_vec();
+        if shape.is_empty() {
+            let v = array.as_array().first().copied().unwrap_or(f64::NAN);
+            return Ok(Self { name, core, leading: Vec::new(), storage: Storage::Scalar([v; MAX_CORE]) });
+        }
+        let k = core_shape.len();
+        if shape.len() < k || shape[shape.len() - k..] != *core_shape {
+            return Err(ShapeError::new_err(format!(
+                "`{name}` must have trailing shape {}, got shape {}",
+                shape_text(core_shape),
+                shape_text(&shape)
+            )));
+        }
+        let leading = shape[..shape.len() - k].to_vec();
+        let storage = if array.is_c_contiguous() {
+            Storage::Array(array)
+        } else {
+            Storage::Owned(array.as_array().iter().copied().collect())
+        };
+        Ok(Self { name, core, leading, storage })
+    }
+
+    fn size(&self) -> usize {
+        self.leading.iter().product()
+    }
+
+    /// Makes the operand readable with a stride of 0 or `core` for the broadcast `shape`:
+    /// an operand of a different size than the batch is expanded into a contiguous copy.
+    pub fn prepare(&mut self, plan: &Plan) {
+        let size = self.size();
+        if matches!(self.storage, Storage::Scalar(_)) || size == plan.n || size == 1 {
+            return;
+        }
+        let source = self.data();
+        let mut owned = Vec::with_capacity(plan.n * self.core);
+        for i in 0..plan.n {
+            let j = self.source_flat_index(i, plan);
+            owned.extend_from_slice(&source[j * self.core..(j + 1) * self.core]);
+        }
+        self.storage = Storage::Owned(owned);
+        self.leading = plan.shape.clone();
+    }
+
+    /// The operand's values as one slice covering the whole batch, when they can be used as
+    /// they are (no scaling, no broadcasting).
+    pub fn full_slice(&self, plan: &Plan, scale: f64) -> Option<&[f64]> {
+        (scale == 1.0 && !matches!(self.storage, Storage::Scalar(_)) && self.size() == plan.n).then(|| self.data())
+    }
+
+    fn data(&self) -> &[f64] {
+        match &self.storage {
+            Storage::Scalar(v) => &v[..self.core],
+            Storage::Array(a) => a.as_slice().expect("checked C-contiguous"),
+            Storage::Owned(v) => v,
+        }
+    }
+
+    /// Element reader for a prepared operand.
+    pub fn access(&self, plan: &Plan) -> Access<'_> {
+        let stride = if self.size() == plan.n && !matches!(self.storage, Storage::Scalar(_)) { self.core } else { 0 };
+        Access { data: self.data(), stride, core: self.core }
+    }
+
+    fn source_flat_index(&self, flat: usize, plan: &Plan) -> usize {
+        plan.source_index(flat, &self.leading)
+    }
+
+    /// The index, in this argument's own shape, of batch element `flat`, as Python would write it.
+    pub fn describe_index(&self, flat: usize, plan: &Plan) -> String {
+        if self.leading.is_empty() {
+            return String::new();
+        }
+        let index = plan.unravel(flat);
+        let offset = plan.shape.len() - self.leading.len();
+        let own: Vec<usize> =
+            self.leading.iter().enumerate().map(|(d, &len)| if len == 1 { 0 } else { index[offset + d] }).collect();
+        format!("(first bad element at index {} of `{}`)", shape_text(&own), self.name)
+    }
+}
+
+/// Evaluates `kernel` for every batch element with the GIL released: the kernel receives the
+/// core values of each argument and fills one slot slice per output (all outputs have core
+/// shape `out_core`). Errors are rewritten for Python by `rename` (which also sees the failing
+/// element's inputs) and located in the argument they name.
+pub fn map_elements<'py, const N: usize, const M: usize, K, R>(
+    py: Python<'py>,
+    mut ops: [Operand<'py>; N],
+    out_core: &[usize],
+    rename: R,
+    kernel: K,
+) -> PyResult<(Plan, [Bound<'py, PyArrayDyn<f64>>; M])>
+where
+    K: Fn(&[&[f64]; N], &mut [&mut [f64]; M]) -> rotaframe::Result<()> + Sync,
+    R: Fn(rotaframe::Error, &[&[f64]; N]) -> rotaframe::Error + Sync,
+{
+    let plan = {
+        let mut refs: Vec<&mut Operand<'py>> = ops.iter_mut().collect();
+        Plan::for_operands(&mut refs, &[])?
+    };
+    let outs: [Bound<'py, PyArrayDyn<f64>>; M] = core::array::from_fn(|_| plan.output(py, out_core));
+    let k: usize = out_core.iter().product();
+    {
+        let accesses: [Access<'_>; N] = core::array::from_fn(|j| ops[j].access(&plan));
+        let mut guards: Vec<numpy::PyReadwriteArrayDyn<'py, f64>> = outs.iter().map(|o| o.readwrite()).collect();
+        let mut bufs: Vec<&mut [f64]> = guards.iter_mut().map(out_slice).collect();
+        let bufs: &mut [&mut [f64]; M] = (&mut bufs[..]).try_into().expect("M outputs");
+        let n = plan.n;
+        let result = py.detach(|| {
+            for i in 0..n {
+                let inputs: [&[f64]; N] = core::array::from_fn(|j| accesses[j].slice(i));
+                let mut slots = bufs.each_mut().map(|b| &mut b[i * k..(i + 1) * k]);
+                kernel(&inputs, &mut slots).map_err(|error| Failure { index: i, error: rename(error, &inputs) })?;
+            }
+            Ok(())
+        });
+        if let Err(f) = result {
+            let refs: Vec<&Operand<'py>> = ops.iter().collect();
+            return Err(failure_to_py(&f, &plan, &refs));
+        }
+    }
+    Ok((plan, outs))
+}
+
+/// Reads element `i` of a prepared operand: `core` consecutive values starting at `i·stride`.
+#[derive(Clone, Copy)]
+pub struct Access<'a> {
+    data: &'a [f64],
+    stride: usize,
+    core: usize,
+}
+
+impl Access<'_> {
+    /// The `core` values of element `i`.
+    #[inline(always)]
+    pub fn slice(&self, i: usize) -> &[f64] {
+        let o = i * self.stride;
+        &self.data[o..o + self.core]
+    }
+
+    /// The whole batch as 3-vectors, when the operand holds one vector per element (not
+    /// broadcast): lets hot loops iterate without strides or bounds checks.
+    pub fn full_vec3(&self, n: usize) -> Option<&[[f64; 3]]> {
+        (self.core == 3 && self.stride == 3).then(|| &self.data.as_chunks::<3>().0[..n])
+    }
+
+    /// Element `i` of a scalar operand.
+    #[inline(always)]
+    pub fn scalar(&self, i: usize) -> f64 {
+        self.data[i * self.stride]
+    }
+
+    /// Element `i` of a 3-vector operand.
+    #[inline(always)]
+    pub fn vec3(&self, i: usize) -> rotaframe::nalgebra::Vector3<f64> {
+        let o = i * self.stride;
+        match self.data.get(o..o + 3) {
+            Some(&[x, y, z]) => rotaframe::nalgebra::Vector3::new(x, y, z),
+            _ => rotaframe::nalgebra::Vector3::repeat(f64::NAN),
+        }
+    }
+}
+
+/// The broadcast batch shape of a call.
+pub struct Plan {
+    /// Broadcast leading shape.
+    pub shape: Vec<usize>,
+    /// Number of elements (product of `shape`).
+    pub n: usize,
+}
+
+impl Plan {
+    /// Broadcasts the leading shapes (numpy rules), naming the arguments on failure.
+    pub fn new(shapes: &[(&str, &[usize])]) -> PyResult<Self> {
+        let ndim = shapes.iter().map(|(_, s)| s.len()).max().unwrap_or(0);
+        let mut shape = vec![1usize; ndim];
+        for (_, s) in shapes {
+            let offset = ndim - s.len();
+            for (d, &len) in s.iter().enumerate() {
+                let slot = &mut shape[offset + d];
+                if *slot == 1 {
+                    *slot = len;
+                } else if len != 1 && len != *slot {
+                    let described: Vec<String> = shapes.iter().map(|(n, s)| format!("`{n}` {}", shape_text(s))).collect();
+                    return Err(ShapeError::new_err(format!("batch shapes do not broadcast: {}", described.join(", "))));
+                }
+            }
+        }
+        let n = shape.iter().product();
+        Ok(Self { shape, n })
+    }
+
+    /// Broadcasts the leading shapes of `operands` and prepares each of them.
+    pub fn for_operands(operands: &mut [&mut Operand<'_>], extra: &[(&str, &[usize])]) -> PyResult<Self> {
+        let mut shapes: Vec<(&str, &[usize])> = operands.iter().map(|o| (o.name, o.leading.as_slice())).collect();
+        shapes.extend_from_slice(extra);
+        let plan = Self::new(&shapes)?;
+        for o in operands.iter_mut() {
+            o.prepare(&plan);
+        }
+        Ok(plan)
+    }
+
+    /// Flat index, into an operand with leading shape `leading` (which broadcasts to this
+    /// plan), of batch element `flat`.
+    pub fn source_index(&self, flat: usize, leading: &[usize]) -> usize {
+        let index = self.unravel(flat);
+        let offset = self.shape.len() - leading.len();
+        leading.iter().enumerate().fold(0, |acc, (d, &len)| acc * len + if len == 1 { 0 } else { index[offset + d] })
+    }
+
+    fn unravel(&self, mut flat: usize) -> Vec<usize> {
+        let mut index = vec![0; self.shape.len()];
+        for (d, &len) in self.shape.iter().enumerate().rev() {
+            index[d] = flat % len.max(1);
+            flat /= len.max(1);
+        }
+        index
+    }
+
+    /// A new zero-filled output array of shape `batch + core`.
+    pub fn output<'py>(&self, py: Python<'py>, core: &[usize]) -> Bound<'py, PyArrayDyn<f64>> {
+        let mut dims = self.shape.clone();
+        dims.extend_from_slice(core);
+        PyArrayDyn::zeros(py, dims, false)
+    }
+}
+
+/// Non-zero when some component is NaN or infinite. An integer, so that a batch loop can OR it
+/// into an accumulator: integer OR reductions vectorise, floating-point sums do not (their
+/// order of evaluation is fixed).
+#[inline(always)]
+pub fn non_finite_flag(vectors: &[rotaframe::nalgebra::Vector3<f64>]) -> u64 {
+    vectors.iter().fold(0, |acc, v| acc | u64::from(!v.x.is_finite()) | u64::from(!v.y.is_finite()) | u64::from(!v.z.is_finite()))
+}
+
+/// One uninitialised output slot of a `(..., 3)` [`RawOutput`].
+pub type Slot<'a> = &'a mut core::mem::MaybeUninit<[f64; 3]>;
+
+/// An output array allocated by numpy (so that large outputs get numpy's huge-page friendly
+/// allocation) without zero-filling, with `K` values per batch element. Its buffer is lent out
+/// only as `MaybeUninit` slots, so no reference to uninitialised memory is ever formed, and the
+/// array is handed to Python by [`RawOutput::into_array`] only after the batch loop has
+/// written every slot.
+pub struct RawOutput<'py, const K: usize = 3> {
+    array: Bound<'py, PyArrayDyn<f64>>,
+    n: usize,
+}
+
+impl<'py, const K: usize> RawOutput<'py, K> {
+    /// An uninitialised C-contiguous float64 array of shape `batch + core` (`core` holds `K`
+    /// values).
+    pub fn new(py: Python<'py>, plan: &Plan, core: &[usize]) -> Self {
+        assert_eq!(core.iter().product::<usize>(), K, "core shape holds K values");
+        let mut dims = plan.shape.clone();
+        dims.extend_from_slice(core);
+        // SAFETY: see the type's documentation: nothing reads the buffer before it is written.
+        let array = unsafe { PyArrayDyn::<f64>::new(py, dims, false) };
+        Self { array, n: plan.n }
+    }
+
+    /// The output's `n` slots of `K` values, to be written by the batch loop.
+    pub fn slots(&mut self) -> &mut [core::mem::MaybeUninit<[f64; K]>] {
+        // SAFETY: the buffer is a fresh, C-contiguous, f64-aligned allocation of exactly
+        // `K n` f64 owned by `self.array`, which outlives the returned borrow; `MaybeUninit`
+        // makes the uninitialised contents sound to refer to; the `&mut self` borrow makes the
+        // slice unique.
+        unsafe { core::slice::from_raw_parts_mut(self.array.data().cast::<core::mem::MaybeUninit<[f64; K]>>(), self.n) }
+    }
+
+    /// The filled array. Call only after every slot has been written.
+    pub fn into_array(self) -> Bound<'py, PyArrayDyn<f64>> {
+        self.array
+    }
+}
+
+impl<'py> RawOutput<'py, 3> {
+    /// An uninitialised C-contiguous float64 array of shape `batch + (3,)`.
+    pub fn vec3(py: Python<'py>, plan: &Plan) -> Self {
+        Self::new(py, plan, &[3])
+    }
+}
+
+/// A batch failure: the flat element index and the core error (already named after the
+/// Python argument).
+pub struct Failure {
+    /// Flat index of the first bad element.
+    pub index: usize,
+    /// What was wrong with it.
+    pub error: rotaframe::Error,
+}
+
+/// Maps a batch failure to a Python exception, locating the element in the argument it names.
+pub fn failure_to_py(failure: &Failure, plan: &Plan, operands: &[&Operand<'_>]) -> PyErr {
+    let context = operands
+        .iter()
+        .find(|o| o.name == failure.error.quantity())
+        .map(|o| o.describe_index(failure.index, plan))
+        .unwrap_or_else(|| {
+            if plan.shape.is_empty() { String::new() } else { format!("(first bad element at batch index {})", failure.index) }
+        });
+    to_py(&failure.error, &context)
+}
+
+/// Returns a scalar output as a Python float when the call had no batch axes, else the array.
+pub fn scalar_or_array<'py>(py: Python<'py>, plan: &Plan, array: Bound<'py, PyArrayDyn<f64>>) -> PyResult<Bound<'py, PyAny>> {
+    if plan.shape.is_empty() && array.ndim() == 0 {
+        let v: f64 = array.readonly().as_array().first().copied().unwrap_or(f64::NAN);
+        Ok(PyFloat::new(py, v).into_any())
+    } else {
+        Ok(array.into_any())
+    }
+}
+
+/// A tuple of outputs, each a float or an array as [`scalar_or_array`] decides.
+pub fn tuple_of<'py>(py: Python<'py>, plan: &Plan, arrays: Vec<Bound<'py, PyArrayDyn<f64>>>) -> PyResult<Bound<'py, PyTuple>> {
+    let items: PyResult<Vec<Bound<'py, PyAny>>> = arrays.into_iter().map(|a| scalar_or_array(py, plan, a)).collect();
+    PyTuple::new(py, items?)
+}
+
+/// Runs `kernel` for every batch element with the GIL released, stopping at the first error.
+pub fn run<F>(py: Python<'_>, n: usize, mut kernel: F) -> Result<(), Failure>
+where
+    F: FnMut(usize) -> Result<(), rotaframe::Error> + Send,
+{
+    py.detach(move || {
+        for i in 0..n {
+            kernel(i).map_err(|error| Failure { index: i, error })?;
+        }
+        Ok(())
+    })
+}
+
+/// Mutable float64 slice of an output array created by [`Plan::output`] (always C-contiguous).
+pub fn out_slice<'a>(array: &'a mut numpy::PyReadwriteArrayDyn<'_, f64>) -> &'a mut [f64] {
+    array.as_slice_mut().expect("outputs are created C-contiguous")
+}

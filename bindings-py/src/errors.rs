@@ -1,0 +1,91 @@
+//! Python exceptions and the mapping from the core's errors.
+//!
+//! Every exception derives from `RotaframeError`, itself a `ValueError`, so `except ValueError`
+//! keeps working. Messages come from the core (they name the quantity), with the Python
+//! argument name and the index of the first bad element added by the batch loops.
+
+use pyo3::exceptions::PyValueError;
+use pyo3::prelude::*;
+use rotaframe::Error;
+
+pyo3::create_exception!(
+    rotaframe,
+    RotaframeError,
+    PyValueError,
+    "Base class of every rotaframe error (a ValueError): bad input, named in the message."
+);
+pyo3::create_exception!(rotaframe, NonFiniteError, RotaframeError, "An input holds NaN or infinity.");
+pyo3::create_exception!(
+    rotaframe,
+    OutOfRangeError,
+    RotaframeError,
+    "A value lies outside its allowed range (for example a latitude beyond ±90°)."
+);
+pyo3::create_exception!(rotaframe, NotPositiveError, OutOfRangeError, "A value that must be strictly positive is not.");
+pyo3::create_exception!(rotaframe, ZeroNormError, RotaframeError, "A vector or quaternion that needs a direction has zero norm.");
+pyo3::create_exception!(
+    rotaframe,
+    NotUnitQuaternionError,
+    RotaframeError,
+    "A quaternion's norm is too far from one to be a rotation."
+);
+pyo3::create_exception!(
+    rotaframe,
+    NotRotationMatrixError,
+    RotaframeError,
+    "A 3×3 matrix is not orthonormal with determinant +1."
+);
+pyo3::create_exception!(
+    rotaframe,
+    NearPoleError,
+    OutOfRangeError,
+    "A latitude is too close to a pole for north-east-down rates."
+);
+pyo3::create_exception!(
+    rotaframe,
+    NearEarthCentreError,
+    OutOfRangeError,
+    "A position is too close to the Earth's centre for geodetic coordinates."
+);
+pyo3::create_exception!(
+    rotaframe,
+    ShapeError,
+    RotaframeError,
+    "Array shapes do not fit: a wrong trailing dimension, or shapes that do not broadcast."
+);
+pyo3::create_exception!(rotaframe, FrameMismatchError, RotaframeError, "Frame motions whose labels do not chain were composed.");
+
+/// Python exception for a core error, with the core's message and `context` appended (the
+/// position of the bad element, when there is one).
+pub fn to_py(error: &Error, context: &str) -> PyErr {
+    let message = if context.is_empty() { error.to_string() } else { format!("{error} {context}") };
+    match error {
+        Error::NonFinite { .. } => NonFiniteError::new_err(message),
+        Error::ZeroNorm { .. } => ZeroNormError::new_err(message),
+        Error::NotUnitQuaternion { .. } => NotUnitQuaternionError::new_err(message),
+        Error::NotRotationMatrix { .. } => NotRotationMatrixError::new_err(message),
+        Error::NotPositive { .. } => NotPositiveError::new_err(message),
+        Error::NearPole { .. } => NearPoleError::new_err(message),
+        Error::NearEarthCentre { .. } => NearEarthCentreError::new_err(message),
+        Error::OutOfRange { .. } => OutOfRangeError::new_err(message),
+        Error::LengthMismatch { .. } => ShapeError::new_err(message),
+        _ => RotaframeError::new_err(message),
+    }
+}
+
+/// Registers the exception classes on the module.
+pub fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
+    let py = m.py();
+    m.add("RotaframeError", py.get_type::<RotaframeError>())?;
+    m.add("NonFiniteError", py.get_type::<NonFiniteError>())?;
+    m.add("OutOfRangeError", py.get_type::<OutOfRangeError>())?;
+    m.add("NotPositiveError", py.get_type::<NotPositiveError>())?;
+    m.add("ZeroNormError", py.get_type::<ZeroNormError>())?;
+    m.add("NotUnitQuaternionError", py.get_type::<NotUnitQuaternionError>())?;
+    m.add("NotRotationMatrixError", py.get_type::<NotRotationMatrixError>())?;
+    m.add("NearPoleError", py.get_type::<NearPoleError>())?;
+    m.add("NearEarthCentreError", py.get_type::<NearEarthCentreError>())?;
+    m.add("ShapeError", py.get_type::<ShapeError>())?;
+    m.add("FrameMismatchError", py.get_type::<FrameMismatchError>())?;
+    Ok(())
+}

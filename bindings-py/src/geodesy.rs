@@ -1,0 +1,440 @@
+//! Geodesy, gravity, field quantities and the Earth Rotation Angle on numpy arrays.
+//!
+//! Each function converts and broadcasts its arguments, loops over the batch with the GIL
+//! released calling the core, and maps errors; no formula lives here.
+
+use numpy::PyArrayMethods;
+use pyo3::prelude::*;
+use pyo3::types::PyTuple;
+use rotaframe::earth::{self, EarthModel};
+use rotaframe::nalgebra::Vector3;
+
+use crate::broadcast::{Failure, Operand, Plan, failure_to_py, map_elements, out_slice, scalar_or_array, tuple_of};
+use crate::model::{PyEarthModel, model_or_default};
+
+/// Degrees-to-radians factor when `degrees` is set.
+fn angle_scale(degrees: bool) -> f64 {
+    if degrees { core::f64::consts::PI / 180.0 } else { 1.0 }
+}
+
+/// Renames the core's quantity names to this module's Python argument names.
+pub fn python_name(error: rotaframe::Error) -> rotaframe::Error {
+    let to = match error.quantity() {
+        "latitude" => "lat",
+        "longitude" => "lon",
+        "height" => "h",
+        "ecef" | "position_ecef" => "xyz",
+        "velocity_ned" => "v_ned",
+        "acceleration_ned" => "a_ned",
+        _ => return error,
+    };
+    error.with_quantity(to)
+}
+
+/// A core error for Python: argument names, and for `degrees=True` calls the rejected latitude
+/// shown in degrees (`lat` is the caller's input value, before conversion).
+pub fn python_error(error: rotaframe::Error, degrees: bool, lat: f64) -> rotaframe::Error {
+    use rotaframe::Error;
+    let error = python_name(error);
+    if !degrees || error.quantity() != "lat" {
+        return error;
+    }
+    match error {
+        Error::OutOfRange { quantity, .. } => Error::OutOfRange { quantity, value: lat, min: -90.0, max: 90.0 },
+        Error::NearPole { quantity, limit, .. } => Error::NearPole { quantity, value: lat, limit: limit.to_degrees() },
+        other => other,
+    }
+}
+
+/// [`python_error`] for kernels whose first argument is the latitude.
+fn lat_first<const N: usize>(degrees: bool) -> impl Fn(rotaframe::Error, &[&[f64]; N]) -> rotaframe::Error + Sync {
+    move |e, x| python_error(e, degrees, x[0][0])
+}
+
+/// All `plan.n` values of a scalar operand, scaled, as one contiguous vector.
+fn expanded(op: &Operand<'_>, plan: &Plan, scale: f64) -> Vec<f64> {
+    let access = op.access(plan);
+    (0..plan.n).map(|i| access.scalar(i) * scale).collect()
+}
+
+fn v3(s: &[f64]) -> Vector3<f64> {
+    Vector3::new(s[0], s[1], s[2])
+}
+
+fn put3(o: &mut [f64], v: &Vector3<f64>) {
+    o.copy_from_slice(v.as_slice());
+}
+
+/// ECEF coordinates (m), shape `(..., 3)`, of geodetic latitude, longitude and ellipsoidal height.
+#[pyfunction]
+#[pyo3(signature = (lat, lon, h, *, model=None, degrees=false))]
+pub fn geodetic_to_ecef<'py>(
+    py: Python<'py>,
+    lat: &Bound<'py, PyAny>,
+    lon: &Bound<'py, PyAny>,
+    h: &Bound<'py, PyAny>,
+    model: Option<&Bound<'py, PyEarthModel>>,
+    degrees: bool,
+) -> PyResult<Bound<'py, PyAny>> {
+    let model = model_or_default(model);
+    let (mut lat, mut lon, mut h) =
+        (Operand::extract(lat, "lat", &[])?, Operand::extract(lon, "lon", &[])?, Operand::extract(h, "h", &[])?);
+    let plan = Plan::for_operands(&mut [&mut lat, &mut lon, &mut h], &[])?;
+    let out = plan.output(py, &[3]);
+    {
+        let scale = angle_scale(degrees);
+        // Radian inputs that already cover the batch are read in place; others are expanded.
+        let owned: [Option<Vec<f64>>; 3] = [
+            lat.full_slice(&plan, scale).is_none().then(|| expanded(&lat, &plan, scale)),
+            lon.full_slice(&plan, scale).is_none().then(|| expanded(&lon, &plan, scale)),
+            h.full_slice(&plan, 1.0).is_none().then(|| expanded(&h, &plan, 1.0)),
+        ];
+        let la = owned[0].as_deref().or(lat.full_slice(&plan, scale)).expect("one of the two");
+        let lo = owned[1].as_deref().or(lon.full_slice(&plan, scale)).expect("one of the two");
+        let hh = owned[2].as_deref().or(h.full_slice(&plan, 1.0)).expect("one of the two");
+        let mut w = out.readwrite();
+        let (xyz, _) = out_slice(&mut w).as_chunks_mut::<3>();
+        let result = py.detach(|| earth::geodetic_to_ecef_slices(&model, la, lo, hh, xyz));
+        result.map_err(|e| {
+            let error = python_error(e.error, degrees, la[e.index] / scale);
+            failure_to_py(&Failure { index: e.index, error }, &plan, &[&lat, &lon, &h])
+        })?;
+    }
+    Ok(out.into_any())
+}
+
+/// Geodetic `(lat, lon, h)` of ECEF points `xyz` (m), shape `(..., 3)`.
+#[pyfunction]
+#[pyo3(signature = (xyz, *, model=None, degrees=false))]
+pub fn ecef_to_geodetic<'py>(
+    py: Python<'py>,
+    xyz: &Bound<'py, PyAny>,
+    model: Option<&Bound<'py, PyEarthModel>>,
+    degrees: bool,
+) -> PyResult<Bound<'py, PyTuple>> {
+    let model = model_or_default(model);
+    let mut xyz = Operand::extract(xyz, "xyz", &[3])?;
+    let plan = Plan::for_operands(&mut [&mut xyz], &[])?;
+    let outs = vec![plan.output(py, &[]), plan.output(py, &[]), plan.output(py, &[])];
+    {
+        let owned = xyz.full_slice(&plan, 1.0).is_none().then(|| {
+            let access = xyz.access(&plan);
+            (0..plan.n).flat_map(|i| access.slice(i).to_vec()).collect::<Vec<f64>>()
+        });
+        let points = owned.as_deref().or(xyz.full_slice(&plan, 1.0)).expect("one of the two");
+        let (points, _) = points.as_chunks::<3>();
+        let mut guards: Vec<_> = outs.iter().map(|o| o.readwrite()).collect();
+        let [lat, lon, h] = &mut guards[..] else { unreachable!("three outputs") };
+        let (lat, lon, h) = (out_slice(lat), out_slice(lon), out_slice(h));
+        let result = py.detach(|| {
+            earth::ecef_to_geodetic_slices(&model, points, lat, lon, h)?;
+            if degrees {
+                lat.iter_mut().chain(lon.iter_mut()).for_each(|v| *v = v.to_degrees());
+            }
+            Ok::<(), rotaframe::BatchError>(())
+        });
+        result.map_err(|e| failure_to_py(&Failure { index: e.index, error: python_name(e.error) }, &plan, &[&xyz]))?;
+    }
+    tuple_of(py, &plan, outs)
+}
+
+/// `C_e^n` matrices `(..., 3, 3)` with `v_ned = C @ v_ecef`.
+#[pyfunction]
+#[pyo3(signature = (lat, lon, *, degrees=false))]
+pub fn ned_from_ecef<'py>(
+    py: Python<'py>,
+    lat: &Bound<'py, PyAny>,
+    lon: &Bound<'py, PyAny>,
+    degrees: bool,
+) -> PyResult<Bound<'py, PyAny>> {
+    local_rotation(py, lat, lon, degrees, earth::ned_from_ecef)
+}
+
+/// `C_e^enu` matrices `(..., 3, 3)` with `v_enu = C @ v_ecef`.
+#[pyfunction]
+#[pyo3(signature = (lat, lon, *, degrees=false))]
+pub fn enu_from_ecef<'py>(
+    py: Python<'py>,
+    lat: &Bound<'py, PyAny>,
+    lon: &Bound<'py, PyAny>,
+    degrees: bool,
+) -> PyResult<Bound<'py, PyAny>> {
+    local_rotation(py, lat, lon, degrees, earth::enu_from_ecef)
+}
+
+type RotationAt = fn(f64, f64) -> rotaframe::Result<rotaframe::nalgebra::Matrix3<f64>>;
+
+fn local_rotation<'py>(
+    py: Python<'py>,
+    lat: &Bound<'py, PyAny>,
+    lon: &Bound<'py, PyAny>,
+    degrees: bool,
+    f: RotationAt,
+) -> PyResult<Bound<'py, PyAny>> {
+    let s = angle_scale(degrees);
+    let ops = [Operand::extract(lat, "lat", &[])?, Operand::extract(lon, "lon", &[])?];
+    let (_, [out]) = map_elements(py, ops, &[3, 3], lat_first(degrees), |x, [o]| {
+        let m = f(x[0][0] * s, x[1][0] * s)?;
+        // Row-major (C order), matching numpy's `m[..., row, column]`.
+        o.copy_from_slice(m.transpose().as_slice());
+        Ok(())
+    })?;
+    Ok(out.into_any())
+}
+
+/// `(meridian, prime_vertical)` radii of curvature (m) at geodetic latitudes.
+#[pyfunction]
+#[pyo3(signature = (lat, *, model=None, degrees=false))]
+pub fn radii_of_curvature<'py>(
+    py: Python<'py>,
+    lat: &Bound<'py, PyAny>,
+    model: Option<&Bound<'py, PyEarthModel>>,
+    degrees: bool,
+) -> PyResult<Bound<'py, PyTuple>> {
+    let (model, s) = (model_or_default(model), angle_scale(degrees));
+    let (plan, [m, n]) = map_elements(py, [Operand::extract(lat, "lat", &[])?], &[], lat_first(degrees), |x, [m, n]| {
+        let r = earth::radii_of_curvature(&model, x[0][0] * s)?;
+        m[0] = r.meridian;
+        n[0] = r.prime_vertical;
+        Ok(())
+    })?;
+    tuple_of(py, &plan, vec![m, n])
+}
+
+/// A scalar function of latitude and an optional second scalar (height), per element.
+fn lat_scalar<'py>(
+    py: Python<'py>,
+    lat: &Bound<'py, PyAny>,
+    h: &Bound<'py, PyAny>,
+    degrees: bool,
+    f: impl Fn(f64, f64) -> rotaframe::Result<f64> + Sync,
+) -> PyResult<Bound<'py, PyAny>> {
+    let s = angle_scale(degrees);
+    let ops = [Operand::extract(lat, "lat", &[])?, Operand::extract(h, "h", &[])?];
+    let (plan, [out]) = map_elements(py, ops, &[], lat_first(degrees), |x, [o]| {
+        o[0] = f(x[0][0] * s, x[1][0])?;
+        Ok(())
+    })?;
+    scalar_or_array(py, &plan, out)
+}
+
+/// Normal gravity (m/s²) at geodetic latitude and ellipsoidal height (Somigliana, TR8350.2).
+#[pyfunction]
+#[pyo3(signature = (lat, h=None, *, model=None, degrees=false))]
+pub fn normal_gravity<'py>(
+    py: Python<'py>,
+    lat: &Bound<'py, PyAny>,
+    h: Option<&Bound<'py, PyAny>>,
+    model: Option<&Bound<'py, PyEarthModel>>,
+    degrees: bool,
+) -> PyResult<Bound<'py, PyAny>> {
+    let model = model_or_default(model);
+    let zero = 0.0f64.into_pyobject(py)?.into_any();
+    lat_scalar(py, lat, h.unwrap_or(&zero), degrees, |lat, h| earth::normal_gravity_at_height(&model, lat, h))
+}
+
+/// Plumb-line gravity `(0, 0, γ(φ, h))` resolved in NED (m/s²), shape `(..., 3)`.
+#[pyfunction]
+#[pyo3(signature = (lat, h=None, *, model=None, degrees=false))]
+pub fn gravity_ned<'py>(
+    py: Python<'py>,
+    lat: &Bound<'py, PyAny>,
+    h: Option<&Bound<'py, PyAny>>,
+    model: Option<&Bound<'py, PyEarthModel>>,
+    degrees: bool,
+) -> PyResult<Bound<'py, PyAny>> {
+    let (model, s) = (model_or_default(model), angle_scale(degrees));
+    let zero = 0.0f64.into_pyobject(py)?.into_any();
+    let ops = [Operand::extract(lat, "lat", &[])?, Operand::extract(h.unwrap_or(&zero), "h", &[])?];
+    let (_, [out]) = map_elements(py, ops, &[3], lat_first(degrees), |x, [o]| {
+        put3(o, &earth::gravity_ned(&model, x[0][0] * s, x[1][0])?);
+        Ok(())
+    })?;
+    Ok(out.into_any())
+}
+
+fn ecef_vector<'py>(
+    py: Python<'py>,
+    xyz: &Bound<'py, PyAny>,
+    model: &EarthModel,
+    f: fn(&EarthModel, &Vector3<f64>) -> rotaframe::Result<Vector3<f64>>,
+) -> PyResult<Bound<'py, PyAny>> {
+    let (_, [out]) = map_elements(
+        py,
+        [Operand::extract(xyz, "xyz", &[3])?],
+        &[3],
+        |e, _| python_name(e),
+        |x, [o]| {
+            put3(o, &f(model, &v3(x[0]))?);
+            Ok(())
+        },
+    )?;
+    Ok(out.into_any())
+}
+
+/// J2 gravitation (no centrifugal part) at ECEF positions, resolved in ECEF (m/s²).
+#[pyfunction]
+#[pyo3(signature = (xyz, *, model=None))]
+pub fn gravitation_ecef<'py>(
+    py: Python<'py>,
+    xyz: &Bound<'py, PyAny>,
+    model: Option<&Bound<'py, PyEarthModel>>,
+) -> PyResult<Bound<'py, PyAny>> {
+    ecef_vector(py, xyz, &model_or_default(model), earth::gravitation_ecef)
+}
+
+/// Gravity (J2 gravitation plus centrifugal) at ECEF positions, resolved in ECEF (m/s²).
+#[pyfunction]
+#[pyo3(signature = (xyz, *, model=None))]
+pub fn gravity_ecef<'py>(
+    py: Python<'py>,
+    xyz: &Bound<'py, PyAny>,
+    model: Option<&Bound<'py, PyEarthModel>>,
+) -> PyResult<Bound<'py, PyAny>> {
+    ecef_vector(py, xyz, &model_or_default(model), earth::gravity_ecef)
+}
+
+/// Centripetal acceleration `ω × (ω × r)` of Earth-fixed points at ECEF positions (m/s²).
+#[pyfunction]
+#[pyo3(signature = (xyz, *, model=None))]
+pub fn centripetal_acceleration_ecef<'py>(
+    py: Python<'py>,
+    xyz: &Bound<'py, PyAny>,
+    model: Option<&Bound<'py, PyEarthModel>>,
+) -> PyResult<Bound<'py, PyAny>> {
+    ecef_vector(py, xyz, &model_or_default(model), earth::centripetal_acceleration_ecef)
+}
+
+/// Earth rate `Ω (cos φ, 0, −sin φ)` resolved in NED (rad/s), shape `(..., 3)`.
+#[pyfunction]
+#[pyo3(signature = (lat, *, model=None, degrees=false))]
+pub fn earth_rate_ned<'py>(
+    py: Python<'py>,
+    lat: &Bound<'py, PyAny>,
+    model: Option<&Bound<'py, PyEarthModel>>,
+    degrees: bool,
+) -> PyResult<Bound<'py, PyAny>> {
+    let (model, s) = (model_or_default(model), angle_scale(degrees));
+    let (_, [out]) = map_elements(py, [Operand::extract(lat, "lat", &[])?], &[3], lat_first(degrees), |x, [o]| {
+        put3(o, &earth::earth_rate_ned(&model, x[0][0] * s)?);
+        Ok(())
+    })?;
+    Ok(out.into_any())
+}
+
+/// A 3-vector function of latitude, height and NED velocity, per element.
+fn lat_h_velocity<'py>(
+    py: Python<'py>,
+    [lat, h, v]: [&Bound<'py, PyAny>; 3],
+    degrees: bool,
+    out_core: &[usize],
+    f: impl Fn(f64, f64, &Vector3<f64>, &mut [f64]) -> rotaframe::Result<()> + Sync,
+) -> PyResult<(Plan, Bound<'py, numpy::PyArrayDyn<f64>>)> {
+    let s = angle_scale(degrees);
+    let ops = [Operand::extract(lat, "lat", &[])?, Operand::extract(h, "h", &[])?, Operand::extract(v, "v_ned", &[3])?];
+    let (plan, [out]) = map_elements(py, ops, out_core, lat_first(degrees), |x, [o]| f(x[0][0] * s, x[1][0], &v3(x[2]), o))?;
+    Ok((plan, out))
+}
+
+type VectorAtVelocity = fn(&EarthModel, f64, f64, &Vector3<f64>) -> rotaframe::Result<Vector3<f64>>;
+
+fn velocity_vector<'py>(
+    py: Python<'py>,
+    args: [&Bound<'py, PyAny>; 3],
+    model: Option<&Bound<'py, PyEarthModel>>,
+    degrees: bool,
+    f: VectorAtVelocity,
+) -> PyResult<Bound<'py, PyAny>> {
+    let model = model_or_default(model);
+    let (_, out) = lat_h_velocity(py, args, degrees, &[3], |lat, h, v, o| {
+        put3(o, &f(&model, lat, h, v)?);
+        Ok(())
+    })?;
+    Ok(out.into_any())
+}
+
+/// Transport rate (angular velocity of NED relative to the Earth) resolved in NED (rad/s).
+#[pyfunction]
+#[pyo3(signature = (lat, h, v_ned, *, model=None, degrees=false))]
+pub fn transport_rate_ned<'py>(
+    py: Python<'py>,
+    lat: &Bound<'py, PyAny>,
+    h: &Bound<'py, PyAny>,
+    v_ned: &Bound<'py, PyAny>,
+    model: Option<&Bound<'py, PyEarthModel>>,
+    degrees: bool,
+) -> PyResult<Bound<'py, PyAny>> {
+    velocity_vector(py, [lat, h, v_ned], model, degrees, earth::transport_rate_ned)
+}
+
+/// The Coriolis and transport-rate term `−(2 ω_ie + ω_en) × v` of the NED velocity equation (m/s²).
+#[pyfunction]
+#[pyo3(signature = (lat, h, v_ned, *, model=None, degrees=false))]
+pub fn coriolis_ned<'py>(
+    py: Python<'py>,
+    lat: &Bound<'py, PyAny>,
+    h: &Bound<'py, PyAny>,
+    v_ned: &Bound<'py, PyAny>,
+    model: Option<&Bound<'py, PyEarthModel>>,
+    degrees: bool,
+) -> PyResult<Bound<'py, PyAny>> {
+    velocity_vector(py, [lat, h, v_ned], model, degrees, earth::coriolis_ned)
+}
+
+/// Eötvös correction (m/s², to add to a moving gravimeter's reading).
+#[pyfunction]
+#[pyo3(signature = (lat, v_ned, h=None, *, model=None, degrees=false))]
+pub fn eotvos_correction<'py>(
+    py: Python<'py>,
+    lat: &Bound<'py, PyAny>,
+    v_ned: &Bound<'py, PyAny>,
+    h: Option<&Bound<'py, PyAny>>,
+    model: Option<&Bound<'py, PyEarthModel>>,
+    degrees: bool,
+) -> PyResult<Bound<'py, PyAny>> {
+    let model = model_or_default(model);
+    let zero = 0.0f64.into_pyobject(py)?.into_any();
+    let (plan, out) = lat_h_velocity(py, [lat, h.unwrap_or(&zero), v_ned], degrees, &[], |lat, h, v, o| {
+        o[0] = earth::eotvos_correction(&model, lat, h, v)?;
+        Ok(())
+    })?;
+    scalar_or_array(py, &plan, out)
+}
+
+/// Coriolis parameter `2 Ω sin φ` (1/s).
+#[pyfunction]
+#[pyo3(signature = (lat, *, model=None, degrees=false))]
+pub fn coriolis_parameter<'py>(
+    py: Python<'py>,
+    lat: &Bound<'py, PyAny>,
+    model: Option<&Bound<'py, PyEarthModel>>,
+    degrees: bool,
+) -> PyResult<Bound<'py, PyAny>> {
+    let model = model_or_default(model);
+    let zero = 0.0f64.into_pyobject(py)?.into_any();
+    lat_scalar(py, lat, &zero, degrees, |lat, _| earth::coriolis_parameter(&model, lat))
+}
+
+/// Earth Rotation Angle (rad, in [0, 2π)) at UT1 Julian dates given in two parts.
+#[pyfunction]
+#[pyo3(signature = (jd_ut1, jd_ut1_fraction=None))]
+pub fn earth_rotation_angle<'py>(
+    py: Python<'py>,
+    jd_ut1: &Bound<'py, PyAny>,
+    jd_ut1_fraction: Option<&Bound<'py, PyAny>>,
+) -> PyResult<Bound<'py, PyAny>> {
+    let zero = 0.0f64.into_pyobject(py)?.into_any();
+    let ops =
+        [Operand::extract(jd_ut1, "jd_ut1", &[])?, Operand::extract(jd_ut1_fraction.unwrap_or(&zero), "jd_ut1_fraction", &[])?];
+    let (plan, [out]) = map_elements(
+        py,
+        ops,
+        &[],
+        |e, _| python_name(e),
+        |x, [o]| {
+            o[0] = earth::earth_rotation_angle(x[0][0], x[1][0])?;
+            Ok(())
+        },
+    )?;
+    scalar_or_array(py, &plan, out)
+}

@@ -1,0 +1,633 @@
+//! `FrameMotion`: the core's frame motion, batched over leading axes, with optional frame
+//! labels checked at run time; and the ready-made Earth and local-level motions.
+
+use numpy::{PyArrayDyn, PyArrayMethods, PyUntypedArrayMethods};
+use pyo3::prelude::*;
+use pyo3::types::{PySlice, PyTuple};
+use rotaframe::earth;
+use rotaframe::frames::{AnyFrame, PointKinematics};
+use rotaframe::motion::{FrameMotion, MotionParts};
+use rotaframe::nalgebra::Vector3;
+
+use crate::broadcast::{Operand, Plan, RawOutput, failure_to_py, non_finite_flag, out_slice, run};
+use crate::errors::{FrameMismatchError, ShapeError};
+use crate::geodesy::python_error;
+use crate::model::{PyEarthModel, model_or_default};
+use crate::rotations::{matrix, put_matrix, put_quaternion, quaternion};
+
+pub type Motion = FrameMotion<AnyFrame, AnyFrame>;
+
+/// A batch of motions stored part by part (rotation, then the five vectors, each contiguous):
+/// the batch loops read it as unit-stride streams, which keeps memory-bound loops near the
+/// memory floor (an array of whole motions, 19 values each, was markedly slower).
+#[derive(Debug, Clone, Default)]
+pub struct MotionBatch {
+    rotation: Vec<[f64; 4]>,
+    vectors: [Vec<[f64; 3]>; 5],
+}
+
+impl MotionBatch {
+    fn with_capacity(n: usize) -> Self {
+        Self { rotation: Vec::with_capacity(n), vectors: core::array::from_fn(|_| Vec::with_capacity(n)) }
+    }
+
+    fn push(&mut self, m: &Motion) {
+        let p = m.parts();
+        let q = p.rotation.into_inner();
+        self.rotation.push([q.w, q.i, q.j, q.k]);
+        for (store, v) in
+            self.vectors.iter_mut().zip([p.position, p.velocity, p.acceleration, p.angular_velocity, p.angular_acceleration])
+        {
+            store.push(v.into());
+        }
+    }
+
+    /// Number of motions.
+    pub fn len(&self) -> usize {
+        self.rotation.len()
+    }
+
+    /// Motion `i` (its parts were validated when it was stored).
+    #[inline(always)]
+    pub fn get(&self, i: usize) -> Motion {
+        Self::assemble(
+            &self.rotation[i],
+            [&self.vectors[0][i], &self.vectors[1][i], &self.vectors[2][i], &self.vectors[3][i], &self.vectors[4][i]],
+        )
+    }
+
+    #[inline(always)]
+    fn assemble(q: &[f64; 4], v: [&[f64; 3]; 5]) -> Motion {
+        let vector = |x: &[f64; 3]| Vector3::new(x[0], x[1], x[2]);
+        Motion::from_parts_unchecked(MotionParts {
+            rotation: rotaframe::nalgebra::UnitQuaternion::new_unchecked(rotaframe::nalgebra::Quaternion::new(
+                q[0], q[1], q[2], q[3],
+            )),
+            position: vector(v[0]),
+            velocity: vector(v[1]),
+            acceleration: vector(v[2]),
+            angular_velocity: vector(v[3]),
+            angular_acceleration: vector(v[4]),
+        })
+    }
+
+    /// Every motion in order, assembled from the part streams.
+    pub fn iter(&self) -> impl Iterator<Item = Motion> + '_ {
+        let [p, v, a, w, al] = &self.vectors;
+        self.rotation
+            .iter()
+            .zip(p)
+            .zip(v)
+            .zip(a)
+            .zip(w)
+            .zip(al)
+            .map(|(((((q, p), v), a), w), al)| Self::assemble(q, [p, v, a, w, al]))
+    }
+}
+
+impl FromIterator<Motion> for MotionBatch {
+    fn from_iter<I: IntoIterator<Item = Motion>>(iter: I) -> Self {
+        let iter = iter.into_iter();
+        let mut batch = Self::with_capacity(iter.size_hint().0);
+        for m in iter {
+            batch.push(&m);
+        }
+        batch
+    }
+}
+
+/// The motion of a child frame relative to a parent frame at one or many instants.
+///
+/// The rotation maps child coordinates to parent coordinates; every vector is resolved in the
+/// parent (see the README's conventions). A batched motion has a leading shape, one motion per
+/// element; every operation broadcasts over it.
+#[pyclass(frozen, name = "FrameMotion", module = "rotaframe._native")]
+#[derive(Debug)]
+pub struct PyFrameMotion {
+    pub motions: MotionBatch,
+    pub shape: Vec<usize>,
+    pub parent: Option<String>,
+    pub child: Option<String>,
+}
+
+impl PyFrameMotion {
+    pub fn new_batch(
+        motions: impl IntoIterator<Item = Motion>,
+        shape: Vec<usize>,
+        parent: Option<String>,
+        child: Option<String>,
+    ) -> Self {
+        Self { motions: motions.into_iter().collect(), shape, parent, child }
+    }
+
+    /// The motions as seen by a broadcast plan: element `i` of the plan uses motion `index(i)`.
+    fn indexer<'a>(&'a self, plan: &'a Plan) -> impl Fn(usize) -> usize + Sync + 'a {
+        let n = self.motions.len();
+        move |i| {
+            if n == plan.n {
+                i
+            } else if n == 1 {
+                0
+            } else {
+                plan.source_index(i, &self.shape)
+            }
+        }
+    }
+
+    fn label(value: &Option<String>) -> String {
+        value.as_deref().map_or_else(|| "None".to_string(), |s| format!("{s:?}"))
+    }
+
+    /// A 3-vector part of every motion as an array `(..., 3)`.
+    fn vector_part<'py>(&self, py: Python<'py>, part: impl Fn(&Motion) -> Vector3<f64>) -> Bound<'py, PyArrayDyn<f64>> {
+        let mut dims = self.shape.clone();
+        dims.push(3);
+        let out = PyArrayDyn::zeros(py, dims, false);
+        {
+            let mut w = out.readwrite();
+            for (o, m) in out_slice(&mut w).chunks_exact_mut(3).zip(self.motions.iter()) {
+                o.copy_from_slice(part(&m).as_slice());
+            }
+        }
+        out
+    }
+
+    fn with_core<'py>(&self, py: Python<'py>, core: &[usize], fill: impl Fn(&mut [f64], &Motion)) -> Bound<'py, PyArrayDyn<f64>> {
+        let mut dims = self.shape.clone();
+        dims.extend_from_slice(core);
+        let out = PyArrayDyn::zeros(py, dims, false);
+        let k: usize = core.iter().product();
+        {
+            let mut w = out.readwrite();
+            for (o, m) in out_slice(&mut w).chunks_exact_mut(k).zip(self.motions.iter()) {
+                fill(o, &m);
+            }
+        }
+        out
+    }
+}
+
+/// Extracts a `rotation` argument: quaternions `(..., 4)` or matrices `(..., 3, 3)`.
+fn rotation_operand<'py>(obj: &Bound<'py, PyAny>) -> PyResult<(Operand<'py>, bool)> {
+    let array = if obj.cast::<numpy::PyUntypedArray>().is_ok() {
+        obj.clone()
+    } else {
+        obj.py().import("numpy")?.getattr("asarray")?.call1((obj, "float64"))?
+    };
+    let shape = array.cast::<numpy::PyUntypedArray>().map(|a| a.shape().to_vec()).unwrap_or_default();
+    if shape.len() >= 2 && shape[shape.len() - 2..] == [3, 3] {
+        Ok((Operand::extract(&array, "rotation", &[3, 3])?, true))
+    } else if shape.last() == Some(&4) {
+        Ok((Operand::extract(&array, "rotation", &[4])?, false))
+    } else {
+        Err(ShapeError::new_err(format!(
+            "`rotation` must be quaternions (..., 4) as (w, x, y, z) or rotation matrices (..., 3, 3), got shape {shape:?}"
+        )))
+    }
+}
+
+#[pymethods]
+impl PyFrameMotion {
+    #[new]
+    #[pyo3(signature = (*, rotation=None, position=None, velocity=None, acceleration=None, angular_velocity=None, angular_acceleration=None, parent=None, child=None))]
+    #[allow(clippy::too_many_arguments)]
+    fn py_new<'py>(
+        py: Python<'py>,
+        rotation: Option<&Bound<'py, PyAny>>,
+        position: Option<&Bound<'py, PyAny>>,
+        velocity: Option<&Bound<'py, PyAny>>,
+        acceleration: Option<&Bound<'py, PyAny>>,
+        angular_velocity: Option<&Bound<'py, PyAny>>,
+        angular_acceleration: Option<&Bound<'py, PyAny>>,
+        parent: Option<String>,
+        child: Option<String>,
+    ) -> PyResult<Self> {
+        let identity = numpy::PyArray1::from_slice(py, &[1.0, 0.0, 0.0, 0.0]).into_any();
+        let (mut rot, is_matrix) = rotation_operand(rotation.filter(|r| !r.is_none()).unwrap_or(&identity))?;
+        let zero = 0.0f64.into_pyobject(py)?.into_any();
+        let vector = |obj: Option<&Bound<'py, PyAny>>, name| Operand::extract(obj.unwrap_or(&zero), name, &[3]);
+        let mut parts = [
+            vector(position, "position")?,
+            vector(velocity, "velocity")?,
+            vector(acceleration, "acceleration")?,
+            vector(angular_velocity, "angular_velocity")?,
+            vector(angular_acceleration, "angular_acceleration")?,
+        ];
+        let plan = {
+            let [a, b, c, d, e] = &mut parts;
+            Plan::for_operands(&mut [&mut rot, a, b, c, d, e], &[])?
+        };
+        let mut motions = vec![Motion::identity(); plan.n];
+        {
+            let r = rot.access(&plan);
+            let acc: Vec<_> = parts.iter().map(|p| p.access(&plan)).collect();
+            let result = run(py, plan.n, |i| {
+                let rotation = if is_matrix { matrix(r.slice(i), "rotation")? } else { quaternion(r.slice(i), "rotation")? };
+                motions[i] = Motion::from_parts(MotionParts {
+                    rotation,
+                    position: acc[0].vec3(i),
+                    velocity: acc[1].vec3(i),
+                    acceleration: acc[2].vec3(i),
+                    angular_velocity: acc[3].vec3(i),
+                    angular_acceleration: acc[4].vec3(i),
+                })?;
+                Ok(())
+            });
+            if let Err(f) = result {
+                let refs: Vec<&Operand<'_>> = std::iter::once(&rot).chain(parts.iter()).collect();
+                return Err(failure_to_py(&f, &plan, &refs));
+            }
+        }
+        Ok(Self::new_batch(motions, plan.shape, parent, child))
+    }
+
+    /// Leading (batch) shape; `()` for a single motion.
+    #[getter]
+    fn shape<'py>(&self, py: Python<'py>) -> PyResult<Bound<'py, PyTuple>> {
+        PyTuple::new(py, &self.shape)
+    }
+
+    /// Label of the parent frame, or None.
+    #[getter]
+    fn parent(&self) -> Option<String> {
+        self.parent.clone()
+    }
+
+    /// Label of the child frame, or None.
+    #[getter]
+    fn child(&self) -> Option<String> {
+        self.child.clone()
+    }
+
+    /// Rotation (child to parent) as quaternions `(..., 4)`, (w, x, y, z).
+    #[getter]
+    fn rotation<'py>(&self, py: Python<'py>) -> Bound<'py, PyArrayDyn<f64>> {
+        self.with_core(py, &[4], |o, m| put_quaternion(o, &m.rotation()))
+    }
+
+    /// Rotation (child to parent) as matrices `(..., 3, 3)`: `v_parent = R @ v_child`.
+    #[getter]
+    fn rotation_matrix<'py>(&self, py: Python<'py>) -> Bound<'py, PyArrayDyn<f64>> {
+        self.with_core(py, &[3, 3], |o, m| put_matrix(o, &m.rotation()))
+    }
+
+    /// Child origin relative to the parent, resolved in the parent (m).
+    #[getter]
+    fn position<'py>(&self, py: Python<'py>) -> Bound<'py, PyArrayDyn<f64>> {
+        self.vector_part(py, Motion::position)
+    }
+
+    /// Child origin velocity relative to the parent, resolved in the parent (m/s).
+    #[getter]
+    fn velocity<'py>(&self, py: Python<'py>) -> Bound<'py, PyArrayDyn<f64>> {
+        self.vector_part(py, Motion::velocity)
+    }
+
+    /// Child origin acceleration relative to the parent, resolved in the parent (m/s²).
+    #[getter]
+    fn acceleration<'py>(&self, py: Python<'py>) -> Bound<'py, PyArrayDyn<f64>> {
+        self.vector_part(py, Motion::acceleration)
+    }
+
+    /// Angular velocity of the child relative to the parent, resolved in the parent (rad/s).
+    #[getter]
+    fn angular_velocity<'py>(&self, py: Python<'py>) -> Bound<'py, PyArrayDyn<f64>> {
+        self.vector_part(py, Motion::angular_velocity)
+    }
+
+    /// Angular acceleration of the child relative to the parent, resolved in the parent (rad/s²).
+    #[getter]
+    fn angular_acceleration<'py>(&self, py: Python<'py>) -> Bound<'py, PyArrayDyn<f64>> {
+        self.vector_part(py, Motion::angular_acceleration)
+    }
+
+    /// Angular velocity of the child relative to the parent, resolved in the child (rad/s).
+    #[getter]
+    fn angular_velocity_in_child<'py>(&self, py: Python<'py>) -> Bound<'py, PyArrayDyn<f64>> {
+        self.vector_part(py, Motion::angular_velocity_in_child)
+    }
+
+    /// Angular acceleration of the child relative to the parent, resolved in the child (rad/s²).
+    #[getter]
+    fn angular_acceleration_in_child<'py>(&self, py: Python<'py>) -> Bound<'py, PyArrayDyn<f64>> {
+        self.vector_part(py, Motion::angular_acceleration_in_child)
+    }
+
+    /// Composes this motion (C relative to P) with `other` (D relative to C) into D relative to P.
+    fn then(&self, py: Python<'_>, other: &Bound<'_, PyFrameMotion>) -> PyResult<PyFrameMotion> {
+        let other = other.get();
+        if let (Some(c), Some(p)) = (&self.child, &other.parent)
+            && c != p
+        {
+            return Err(FrameMismatchError::new_err(format!(
+                "cannot compose: this motion's child frame is {c:?} but the next motion's parent frame is {p:?}"
+            )));
+        }
+        let plan = Plan::new(&[("self", &self.shape), ("other", &other.shape)])?;
+        let (a, b) = (self.indexer(&plan), other.indexer(&plan));
+        let motions: Vec<Motion> =
+            py.detach(|| (0..plan.n).map(|i| self.motions.get(a(i)).then(&other.motions.get(b(i)))).collect());
+        Ok(PyFrameMotion::new_batch(motions, plan.shape.clone(), self.parent.clone(), other.child.clone()))
+    }
+
+    /// The motion of the parent relative to the child (labels swapped).
+    fn inverse(&self, py: Python<'_>) -> PyFrameMotion {
+        let motions: Vec<Motion> = py.detach(|| self.motions.iter().map(|m| m.inverse()).collect());
+        PyFrameMotion::new_batch(motions, self.shape.clone(), self.child.clone(), self.parent.clone())
+    }
+
+    /// Maps points given relative to the child (resolved in the child) to the parent:
+    /// returns `(position, velocity, acceleration)` arrays `(..., 3)`.
+    #[pyo3(signature = (position, velocity=None, acceleration=None))]
+    fn map_point<'py>(
+        &self,
+        py: Python<'py>,
+        position: &Bound<'py, PyAny>,
+        velocity: Option<&Bound<'py, PyAny>>,
+        acceleration: Option<&Bound<'py, PyAny>>,
+    ) -> PyResult<Bound<'py, PyTuple>> {
+        let zero = 0.0f64.into_pyobject(py)?.into_any();
+        let mut r = Operand::extract(position, "position", &[3])?;
+        let mut v = Operand::extract(velocity.unwrap_or(&zero), "velocity", &[3])?;
+        let mut a = Operand::extract(acceleration.unwrap_or(&zero), "acceleration", &[3])?;
+        let plan = Plan::for_operands(&mut [&mut r, &mut v, &mut a], &[("motion", &self.shape)])?;
+        let n = plan.n;
+        let (ra, va, aa) = (r.access(&plan), v.access(&plan), a.access(&plan));
+        let expanded;
+        let motions: &MotionBatch = if self.motions.len() == n {
+            &self.motions
+        } else {
+            let index = self.indexer(&plan);
+            expanded = (0..n).map(|i| self.motions.get(index(i))).collect::<MotionBatch>();
+            &expanded
+        };
+        // One output buffer `(..., 3, 3)` (position, velocity, acceleration per element),
+        // returned as three views: one write stream is markedly faster than three.
+        let mut out = RawOutput::<9>::new(py, &plan, &[3, 3]);
+        let slots = out.slots();
+        // One pass writes every slot; the motion is valid by construction and each point input
+        // reaches the output of the same name, so checking the outputs finds bad input.
+        let finite = py.detach(|| {
+            let mut bad = 0u64;
+            let [mp, mv, ma, mw, mal] = &motions.vectors;
+            let slots = slots.iter_mut().zip(&motions.rotation).zip(mp).zip(mv).zip(ma).zip(mw).zip(mal);
+            // Inputs arrive as references, read straight into registers (copying them through
+            // a stack array first caused store-forwarding stalls).
+            type Parts<'a> = (
+                (
+                    ((((&'a mut core::mem::MaybeUninit<[f64; 9]>, &'a [f64; 4]), &'a [f64; 3]), &'a [f64; 3]), &'a [f64; 3]),
+                    &'a [f64; 3],
+                ),
+                &'a [f64; 3],
+            );
+            let mut element = |((((((slot, q), p), v), a), w), al): Parts<'_>, r: &[f64; 3], vel: &[f64; 3], acc: &[f64; 3]| {
+                let vector = |x: &[f64; 3]| rotaframe::nalgebra::Vector3::new(x[0], x[1], x[2]);
+                let m = MotionBatch::assemble(q, [p, v, a, w, al]);
+                let k = m.map_point(&PointKinematics::new(vector(r), vector(vel), vector(acc)));
+                bad |= non_finite_flag(&[k.position, k.velocity, k.acceleration]);
+                let (p, v, a) = (k.position, k.velocity, k.acceleration);
+                slot.write([p.x, p.y, p.z, v.x, v.y, v.z, a.x, a.y, a.z]);
+            };
+            match (ra.full_vec3(n), va.full_vec3(n), aa.full_vec3(n)) {
+                (Some(r), Some(v), Some(a)) => slots.zip(r.iter().zip(v).zip(a)).for_each(|(s, ((r, v), a))| element(s, r, v, a)),
+                _ => slots.enumerate().for_each(|(i, s)| element(s, &ra.vec3(i).into(), &va.vec3(i).into(), &aa.vec3(i).into())),
+            }
+            bad == 0
+        });
+        if !finite {
+            let result = run(py, n, |i| PointKinematics::<AnyFrame>::try_new(ra.vec3(i), va.vec3(i), aa.vec3(i)).map(|_| ()));
+            result.map_err(|f| failure_to_py(&f, &plan, &[&r, &v, &a]))?;
+        }
+        let all = out.into_array();
+        let ellipsis = py.Ellipsis().into_bound(py);
+        let views: PyResult<Vec<Bound<'py, PyAny>>> =
+            (0..3).map(|k| all.get_item((ellipsis.clone(), k, PySlice::full(py)))).collect();
+        PyTuple::new(py, views?)
+    }
+
+    /// Rotates free vectors `(..., 3)` from child axes into parent axes.
+    fn map_vector<'py>(&self, py: Python<'py>, v: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyAny>> {
+        let mut v = Operand::extract(v, "v", &[3])?;
+        let plan = Plan::for_operands(&mut [&mut v], &[("motion", &self.shape)])?;
+        let out = plan.output(py, &[3]);
+        {
+            let va = v.access(&plan);
+            let index = self.indexer(&plan);
+            let mut guard = out.readwrite();
+            let o = out_slice(&mut guard);
+            let motions = &self.motions;
+            let result = run(py, plan.n, |i| {
+                let vec = rotaframe::frames::FreeVector::<AnyFrame>::try_from_vector(va.vec3(i), "v")?;
+                o[3 * i..3 * i + 3].copy_from_slice(motions.get(index(i)).map_vector(&vec).vector.as_slice());
+                Ok(())
+            });
+            result.map_err(|f| failure_to_py(&f, &plan, &[&v]))?;
+        }
+        Ok(out.into_any())
+    }
+
+    /// True when every part agrees within `rtol · |value| + atol` (rotations compared as
+    /// rotations: `q` and `−q` are equal), with equal shapes and labels.
+    #[pyo3(signature = (other, *, rtol=1e-12, atol=1e-12))]
+    fn isclose(&self, other: &Bound<'_, PyAny>, rtol: f64, atol: f64) -> bool {
+        let Ok(other) = other.cast::<PyFrameMotion>() else { return false };
+        let other = other.get();
+        if self.shape != other.shape || self.parent != other.parent || self.child != other.child {
+            return false;
+        }
+        let close = |a: f64, b: f64| (a - b).abs() <= atol + rtol * a.abs().max(b.abs());
+        self.motions.iter().zip(other.motions.iter()).all(|(x, y)| {
+            let (p, q) = (x.parts(), y.parts());
+            let (qa, qb) = (p.rotation.into_inner().coords, q.rotation.into_inner().coords);
+            let same_rotation =
+                qa.iter().zip(qb.iter()).all(|(a, b)| close(*a, *b)) || qa.iter().zip(qb.iter()).all(|(a, b)| close(*a, -*b));
+            let vectors = [
+                (p.position, q.position),
+                (p.velocity, q.velocity),
+                (p.acceleration, q.acceleration),
+                (p.angular_velocity, q.angular_velocity),
+                (p.angular_acceleration, q.angular_acceleration),
+            ];
+            same_rotation && vectors.iter().all(|(a, b)| a.iter().zip(b.iter()).all(|(u, v)| close(*u, *v)))
+        })
+    }
+
+    fn __eq__(&self, other: &Bound<'_, PyAny>) -> bool {
+        self.isclose(other, 1e-12, 1e-12)
+    }
+
+    fn __len__(&self) -> PyResult<usize> {
+        self.shape.first().copied().ok_or_else(|| pyo3::exceptions::PyTypeError::new_err("len() of an unbatched FrameMotion"))
+    }
+
+    /// Motions along the first batch axis: an integer gives one (with that axis removed), a
+    /// slice gives a batch.
+    fn __getitem__(&self, index: &Bound<'_, PyAny>) -> PyResult<PyFrameMotion> {
+        let Some(&len) = self.shape.first() else {
+            return Err(pyo3::exceptions::PyTypeError::new_err("an unbatched FrameMotion cannot be indexed"));
+        };
+        let inner: usize = self.shape[1..].iter().product();
+        let rows: Vec<usize> = if let Ok(slice) = index.cast::<PySlice>() {
+            let idx = slice.indices(len as isize)?;
+            let mut rows = Vec::new();
+            let mut k = idx.start;
+            while (idx.step > 0 && k < idx.stop) || (idx.step < 0 && k > idx.stop) {
+                rows.push(k as usize);
+                k += idx.step;
+            }
+            rows
+        } else {
+            let i: isize = index.extract()?;
+            let j = if i < 0 { i + len as isize } else { i };
+            if j < 0 || j as usize >= len {
+                return Err(pyo3::exceptions::PyIndexError::new_err(format!("index {i} out of range for {len} motions")));
+            }
+            let j = j as usize;
+            let motions = (j * inner..(j + 1) * inner).map(|k| self.motions.get(k));
+            return Ok(PyFrameMotion::new_batch(motions, self.shape[1..].to_vec(), self.parent.clone(), self.child.clone()));
+        };
+        let motions: Vec<Motion> = rows.iter().flat_map(|&r| (r * inner..(r + 1) * inner).map(|k| self.motions.get(k))).collect();
+        let mut shape = self.shape.clone();
+        shape[0] = rows.len();
+        Ok(PyFrameMotion::new_batch(motions, shape, self.parent.clone(), self.child.clone()))
+    }
+
+    fn __repr__(&self, py: Python<'_>) -> PyResult<String> {
+        let labels = format!("parent={}, child={}", Self::label(&self.parent), Self::label(&self.child));
+        if self.shape.is_empty() {
+            let p = self.motions.get(0).parts();
+            let q = rotaframe::rotation::quaternion_to_wxyz(&p.rotation);
+            let v = |x: Vector3<f64>| format!("[{:?}, {:?}, {:?}]", x.x, x.y, x.z);
+            Ok(format!(
+                "FrameMotion({labels}, rotation=[{:?}, {:?}, {:?}, {:?}], position={}, velocity={}, acceleration={}, angular_velocity={}, angular_acceleration={})",
+                q[0],
+                q[1],
+                q[2],
+                q[3],
+                v(p.position),
+                v(p.velocity),
+                v(p.acceleration),
+                v(p.angular_velocity),
+                v(p.angular_acceleration)
+            ))
+        } else {
+            Ok(format!("FrameMotion({labels}, shape={})", PyTuple::new(py, &self.shape)?.repr()?))
+        }
+    }
+
+    fn __reduce__<'py>(&self, py: Python<'py>) -> PyResult<(Bound<'py, PyAny>, Bound<'py, PyTuple>)> {
+        let rebuild = py.import("rotaframe._native")?.getattr("_frame_motion_from_parts")?;
+        let args = (
+            self.rotation(py),
+            self.position(py),
+            self.velocity(py),
+            self.acceleration(py),
+            self.angular_velocity(py),
+            self.angular_acceleration(py),
+            self.parent.clone(),
+            self.child.clone(),
+        );
+        Ok((rebuild, args.into_pyobject(py)?))
+    }
+}
+
+/// Rebuilds a pickled `FrameMotion`.
+#[pyfunction]
+#[allow(clippy::too_many_arguments)]
+pub fn _frame_motion_from_parts<'py>(
+    py: Python<'py>,
+    rotation: &Bound<'py, PyAny>,
+    position: &Bound<'py, PyAny>,
+    velocity: &Bound<'py, PyAny>,
+    acceleration: &Bound<'py, PyAny>,
+    angular_velocity: &Bound<'py, PyAny>,
+    angular_acceleration: &Bound<'py, PyAny>,
+    parent: Option<String>,
+    child: Option<String>,
+) -> PyResult<PyFrameMotion> {
+    PyFrameMotion::py_new(
+        py,
+        Some(rotation),
+        Some(position),
+        Some(velocity),
+        Some(acceleration),
+        Some(angular_velocity),
+        Some(angular_acceleration),
+        parent,
+        child,
+    )
+}
+
+/// ECEF relative to the inertial frame at times `t` (s) after an epoch at which the rotation
+/// angle was `angle_at_epoch` (rad). Labels: parent "eci", child "ecef".
+#[pyfunction]
+#[pyo3(signature = (t, *, angle_at_epoch=0.0, model=None))]
+pub fn earth_motion<'py>(
+    py: Python<'py>,
+    t: &Bound<'py, PyAny>,
+    angle_at_epoch: f64,
+    model: Option<&Bound<'py, PyEarthModel>>,
+) -> PyResult<PyFrameMotion> {
+    let model = model_or_default(model);
+    let mut t = Operand::extract(t, "t", &[])?;
+    let plan = Plan::for_operands(&mut [&mut t], &[])?;
+    let mut motions = vec![Motion::identity(); plan.n];
+    {
+        let ta = t.access(&plan);
+        let result = run(py, plan.n, |i| {
+            let motion = earth::earth_motion(&model, ta.scalar(i), angle_at_epoch)
+                .map_err(|e| if e.quantity() == "time" { e.with_quantity("t") } else { e })?;
+            motions[i] = motion.erase_frames();
+            Ok(())
+        });
+        result.map_err(|f| failure_to_py(&f, &plan, &[&t]))?;
+    }
+    Ok(PyFrameMotion::new_batch(motions, plan.shape, Some("eci".into()), Some("ecef".into())))
+}
+
+/// The NED frame carried by a vehicle, relative to ECEF, at geodetic positions with NED
+/// velocities and Earth-relative accelerations. Labels: parent "ecef", child "ned".
+#[pyfunction]
+#[pyo3(signature = (lat, lon, h, v_ned=None, a_ned=None, *, model=None, degrees=false))]
+#[allow(clippy::too_many_arguments)]
+pub fn local_level_motion<'py>(
+    py: Python<'py>,
+    lat: &Bound<'py, PyAny>,
+    lon: &Bound<'py, PyAny>,
+    h: &Bound<'py, PyAny>,
+    v_ned: Option<&Bound<'py, PyAny>>,
+    a_ned: Option<&Bound<'py, PyAny>>,
+    model: Option<&Bound<'py, PyEarthModel>>,
+    degrees: bool,
+) -> PyResult<PyFrameMotion> {
+    let model = model_or_default(model);
+    let s = if degrees { core::f64::consts::PI / 180.0 } else { 1.0 };
+    let zero = 0.0f64.into_pyobject(py)?.into_any();
+    let mut ops = [
+        Operand::extract(lat, "lat", &[])?,
+        Operand::extract(lon, "lon", &[])?,
+        Operand::extract(h, "h", &[])?,
+        Operand::extract(v_ned.unwrap_or(&zero), "v_ned", &[3])?,
+        Operand::extract(a_ned.unwrap_or(&zero), "a_ned", &[3])?,
+    ];
+    let plan = {
+        let mut refs: Vec<&mut Operand<'py>> = ops.iter_mut().collect();
+        Plan::for_operands(&mut refs, &[])?
+    };
+    let mut motions = vec![Motion::identity(); plan.n];
+    {
+        let acc: Vec<_> = ops.iter().map(|o| o.access(&plan)).collect();
+        let result = run(py, plan.n, |i| {
+            let position = earth::Geodetic::new(acc[0].scalar(i) * s, acc[1].scalar(i) * s, acc[2].scalar(i));
+            motions[i] = earth::local_level_motion(&model, &position, &acc[3].vec3(i), &acc[4].vec3(i))
+                .map_err(|e| python_error(e, degrees, acc[0].scalar(i)))?
+                .erase_frames();
+            Ok(())
+        });
+        if let Err(f) = result {
+            let refs: Vec<&Operand<'_>> = ops.iter().collect();
+            return Err(failure_to_py(&f, &plan, &refs));
+        }
+    }
+    Ok(PyFrameMotion::new_batch(motions, plan.shape, Some("ecef".into()), Some("ned".into())))
+}

@@ -1,0 +1,151 @@
+//! Rotation conversions on numpy arrays: quaternions (w, x, y, z), matrices, z-y-x Euler
+//! angles and rotation vectors. The algebra is nalgebra's, through the core.
+
+use pyo3::prelude::*;
+use pyo3::types::PyTuple;
+use rotaframe::nalgebra::{Matrix3, UnitQuaternion, Vector3};
+use rotaframe::rotation::{self, EulerZyx};
+
+use crate::broadcast::{Operand, map_elements, tuple_of};
+
+fn same<const N: usize>(error: rotaframe::Error, _inputs: &[&[f64]; N]) -> rotaframe::Error {
+    error
+}
+
+fn angle_scale(degrees: bool) -> f64 {
+    if degrees { core::f64::consts::PI / 180.0 } else { 1.0 }
+}
+
+/// A validated unit quaternion from four `(w, x, y, z)` values.
+pub fn quaternion(values: &[f64], name: &'static str) -> rotaframe::Result<UnitQuaternion<f64>> {
+    rotation::quaternion_from_wxyz([values[0], values[1], values[2], values[3]], name)
+}
+
+/// A validated rotation from nine row-major matrix entries.
+pub fn matrix(values: &[f64], name: &'static str) -> rotaframe::Result<UnitQuaternion<f64>> {
+    rotation::quaternion_from_matrix(&Matrix3::from_row_slice(values), name)
+}
+
+/// Writes a quaternion as `(w, x, y, z)`.
+pub fn put_quaternion(o: &mut [f64], q: &UnitQuaternion<f64>) {
+    o.copy_from_slice(&rotation::quaternion_to_wxyz(q));
+}
+
+/// Writes a rotation as a row-major 3×3 matrix.
+pub fn put_matrix(o: &mut [f64], q: &UnitQuaternion<f64>) {
+    o.copy_from_slice(rotation::matrix_from_quaternion(q).transpose().as_slice());
+}
+
+/// Body-to-local-level quaternions `(..., 4)` from z-y-x (yaw, pitch, roll) Euler angles.
+#[pyfunction]
+#[pyo3(signature = (yaw, pitch, roll, *, degrees=false))]
+pub fn quat_from_euler<'py>(
+    py: Python<'py>,
+    yaw: &Bound<'py, PyAny>,
+    pitch: &Bound<'py, PyAny>,
+    roll: &Bound<'py, PyAny>,
+    degrees: bool,
+) -> PyResult<Bound<'py, PyAny>> {
+    let s = angle_scale(degrees);
+    let ops = [Operand::extract(yaw, "yaw", &[])?, Operand::extract(pitch, "pitch", &[])?, Operand::extract(roll, "roll", &[])?];
+    let (_, [out]) = map_elements(py, ops, &[4], same, |x, [o]| {
+        let e = EulerZyx::new(x[0][0] * s, x[1][0] * s, x[2][0] * s);
+        for (value, name) in [(e.yaw, "yaw"), (e.pitch, "pitch"), (e.roll, "roll")] {
+            if !value.is_finite() {
+                return Err(rotaframe::Error::NonFinite { quantity: name });
+            }
+        }
+        put_quaternion(o, &e.to_quaternion());
+        Ok(())
+    })?;
+    Ok(out.into_any())
+}
+
+/// z-y-x Euler angles `(yaw, pitch, roll)` of body-to-local-level quaternions `q` `(..., 4)`.
+#[pyfunction]
+#[pyo3(signature = (q, *, degrees=false))]
+pub fn euler_from_quat<'py>(py: Python<'py>, q: &Bound<'py, PyAny>, degrees: bool) -> PyResult<Bound<'py, PyTuple>> {
+    let s = 1.0 / angle_scale(degrees);
+    let (plan, [yaw, pitch, roll]) = map_elements(py, [Operand::extract(q, "q", &[4])?], &[], same, |x, [yaw, pitch, roll]| {
+        let e = EulerZyx::from_quaternion(&quaternion(x[0], "q")?);
+        (yaw[0], pitch[0], roll[0]) = (e.yaw * s, e.pitch * s, e.roll * s);
+        Ok(())
+    })?;
+    tuple_of(py, &plan, vec![yaw, pitch, roll])
+}
+
+/// Rotation matrices `(..., 3, 3)` of unit quaternions `(..., 4)`.
+#[pyfunction]
+pub fn quat_to_matrix<'py>(py: Python<'py>, q: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyAny>> {
+    let (_, [out]) = map_elements(py, [Operand::extract(q, "q", &[4])?], &[3, 3], same, |x, [o]| {
+        put_matrix(o, &quaternion(x[0], "q")?);
+        Ok(())
+    })?;
+    Ok(out.into_any())
+}
+
+/// Unit quaternions `(..., 4)` of rotation matrices `(..., 3, 3)`.
+#[pyfunction]
+pub fn matrix_to_quat<'py>(py: Python<'py>, m: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyAny>> {
+    let (_, [out]) = map_elements(py, [Operand::extract(m, "m", &[3, 3])?], &[4], same, |x, [o]| {
+        put_quaternion(o, &matrix(x[0], "m")?);
+        Ok(())
+    })?;
+    Ok(out.into_any())
+}
+
+/// Hamilton product `p ⊗ q` of unit quaternions `(..., 4)`: the rotation `q` followed by `p`.
+#[pyfunction]
+pub fn quat_multiply<'py>(py: Python<'py>, p: &Bound<'py, PyAny>, q: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyAny>> {
+    let ops = [Operand::extract(p, "p", &[4])?, Operand::extract(q, "q", &[4])?];
+    let (_, [out]) = map_elements(py, ops, &[4], same, |x, [o]| {
+        put_quaternion(o, &(quaternion(x[0], "p")? * quaternion(x[1], "q")?));
+        Ok(())
+    })?;
+    Ok(out.into_any())
+}
+
+/// The inverse (conjugate) of unit quaternions `(..., 4)`.
+#[pyfunction]
+pub fn quat_inverse<'py>(py: Python<'py>, q: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyAny>> {
+    let (_, [out]) = map_elements(py, [Operand::extract(q, "q", &[4])?], &[4], same, |x, [o]| {
+        put_quaternion(o, &quaternion(x[0], "q")?.inverse());
+        Ok(())
+    })?;
+    Ok(out.into_any())
+}
+
+/// Vectors `v` `(..., 3)` rotated by unit quaternions `q` `(..., 4)`: `q v q*`.
+#[pyfunction]
+pub fn quat_rotate<'py>(py: Python<'py>, q: &Bound<'py, PyAny>, v: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyAny>> {
+    let ops = [Operand::extract(q, "q", &[4])?, Operand::extract(v, "v", &[3])?];
+    let (_, [out]) = map_elements(py, ops, &[3], same, |x, [o]| {
+        let v = Vector3::new(x[1][0], x[1][1], x[1][2]);
+        if !v.iter().all(|c| c.is_finite()) {
+            return Err(rotaframe::Error::NonFinite { quantity: "v" });
+        }
+        o.copy_from_slice((quaternion(x[0], "q")? * v).as_slice());
+        Ok(())
+    })?;
+    Ok(out.into_any())
+}
+
+/// Unit quaternions `(..., 4)` of rotation vectors `(..., 3)` (angle × axis, radians).
+#[pyfunction]
+pub fn quat_from_rotvec<'py>(py: Python<'py>, v: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyAny>> {
+    let (_, [out]) = map_elements(py, [Operand::extract(v, "v", &[3])?], &[4], same, |x, [o]| {
+        put_quaternion(o, &rotation::quaternion_from_rotation_vector(&Vector3::new(x[0][0], x[0][1], x[0][2]), "v")?);
+        Ok(())
+    })?;
+    Ok(out.into_any())
+}
+
+/// Rotation vectors `(..., 3)` (angle in [0, π] × axis) of unit quaternions `(..., 4)`.
+#[pyfunction]
+pub fn quat_to_rotvec<'py>(py: Python<'py>, q: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyAny>> {
+    let (_, [out]) = map_elements(py, [Operand::extract(q, "q", &[4])?], &[3], same, |x, [o]| {
+        o.copy_from_slice(rotation::rotation_vector_from_quaternion(&quaternion(x[0], "q")?).as_slice());
+        Ok(())
+    })?;
+    Ok(out.into_any())
+}
