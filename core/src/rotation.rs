@@ -35,6 +35,10 @@ use crate::math;
 /// stored in single precision and logged to seven significant digits.
 pub const UNIT_NORM_TOLERANCE: f64 = 1e-6;
 
+/// Quaternions whose squared norm is within this of one are taken as unit without
+/// renormalising (8 ulps of 1: renormalising them would move components by at most an ulp).
+pub const UNIT_AS_GIVEN: f64 = 8.0 * f64::EPSILON;
+
 /// Largest accepted entry of `MᵀM − I` for a rotation matrix (same reasoning as
 /// [`UNIT_NORM_TOLERANCE`]).
 pub const ROTATION_MATRIX_TOLERANCE: f64 = 1e-6;
@@ -46,7 +50,9 @@ pub const GIMBAL_LOCK_COS_PITCH: f64 = 1e-12;
 
 /// Builds a unit quaternion from Hamilton scalar-first components `[w, x, y, z]`.
 ///
-/// The input is renormalised if its norm is within [`UNIT_NORM_TOLERANCE`] of one.
+/// The input is renormalised if its norm is within [`UNIT_NORM_TOLERANCE`] of one (and used as
+/// given when it is already unit to within [`UNIT_AS_GIVEN`], where renormalising could change
+/// it by at most an ulp).
 ///
 /// # Errors
 /// [`Error::NonFinite`], [`Error::ZeroNorm`] or [`Error::NotUnitQuaternion`], naming `quantity`.
@@ -62,6 +68,11 @@ pub const GIMBAL_LOCK_COS_PITCH: f64 = 1e-12;
 /// assert_eq!(quaternion_to_wxyz(&q), [h, 0.0, 0.0, h]);
 /// ```
 pub fn quaternion_from_wxyz(wxyz: [f64; 4], quantity: &'static str) -> Result<UnitQuaternion<f64>> {
+    let q = Quaternion::new(wxyz[0], wxyz[1], wxyz[2], wxyz[3]);
+    if (q.norm_squared() - 1.0).abs() <= UNIT_AS_GIVEN {
+        // Finite (else the squared norm would not be near one) and unit to the last ulps.
+        return Ok(UnitQuaternion::new_unchecked(q));
+    }
     ensure_finite(&wxyz, quantity)?;
     let q = Quaternion::new(wxyz[0], wxyz[1], wxyz[2], wxyz[3]);
     let norm = q.norm();

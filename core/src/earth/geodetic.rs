@@ -94,6 +94,10 @@ impl Geodetic {
     /// # Errors
     /// [`Error::NonFinite`] or [`Error::OutOfRange`] naming `latitude`, `longitude` or `height`.
     pub fn validate(&self) -> Result<()> {
+        // Branch-free acceptance of good input; only rejected input is examined to name it.
+        if self.latitude.abs() <= core::f64::consts::FRAC_PI_2 && self.longitude * 0.0 + self.height * 0.0 == 0.0 {
+            return Ok(());
+        }
         ensure_finite(&[self.latitude], "latitude")?;
         ensure_finite(&[self.longitude], "longitude")?;
         ensure_finite(&[self.height], "height")?;
@@ -269,6 +273,54 @@ fn check_len(found: usize, expected: usize, quantity: &'static str) -> core::res
     }
 }
 
+/// The validated forward batch over any input layout: every input is checked before any
+/// output is written, then the loop runs branch-free.
+#[inline(always)]
+fn forward_batch<I>(model: &EarthModel, inputs: I, ecef: &mut [[f64; 3]]) -> core::result::Result<(), BatchError>
+where
+    I: Iterator<Item = (f64, f64, f64)> + Clone,
+{
+    let mut largest_longitude: f64 = 0.0;
+    for (index, (lat, lon, h)) in inputs.clone().enumerate() {
+        Geodetic::new(lat, lon, h).validate().map_err(|error| BatchError { index, error })?;
+        largest_longitude = largest_longitude.max(lon.abs());
+    }
+    // Zipped iterators carry no bounds checks, so the common case vectorises.
+    if largest_longitude <= SIN_COS_DD_LIMIT {
+        for (out, (lat, lon, h)) in ecef.iter_mut().zip(inputs) {
+            *out = forward(model, lat, lon, h);
+        }
+    } else {
+        for (out, (lat, lon, h)) in ecef.iter_mut().zip(inputs) {
+            *out = forward_any(model, lat, lon, h);
+        }
+    }
+    Ok(())
+}
+
+/// The validated inverse batch over any output layout.
+#[inline(always)]
+fn inverse_batch<'a, O>(model: &EarthModel, ecef: &[[f64; 3]], outputs: O) -> core::result::Result<(), BatchError>
+where
+    O: Iterator<Item = (&'a mut f64, &'a mut f64, &'a mut f64)>,
+{
+    for (i, p) in ecef.iter().enumerate() {
+        check_ecef(model, &Vector3::from(*p), "ecef").map_err(|error| BatchError { index: i, error })?;
+    }
+    // Two loops with the step count fixed at compile time, so that each vectorises.
+    let points = ecef.iter().zip(outputs);
+    if model.flattening() <= FLAT_LIMIT {
+        for (p, (lat, lon, h)) in points {
+            [*lat, *lon, *h] = inverse::<BOWRING_STEPS>(model, p[0], p[1], p[2]);
+        }
+    } else {
+        for (p, (lat, lon, h)) in points {
+            [*lat, *lon, *h] = inverse::<{ BOWRING_STEPS + 1 }>(model, p[0], p[1], p[2]);
+        }
+    }
+    Ok(())
+}
+
 /// Converts a batch of geodetic positions given as three slices (radians, radians, metres) into
 /// ECEF coordinates (m). Every input is validated before anything is written.
 ///
@@ -299,23 +351,31 @@ pub fn geodetic_to_ecef_slices(
     check_len(longitude.len(), n, "longitude")?;
     check_len(height.len(), n, "height")?;
     check_len(ecef.len(), n, "ecef")?;
-    let mut largest_longitude: f64 = 0.0;
-    for i in 0..n {
-        Geodetic::new(latitude[i], longitude[i], height[i]).validate().map_err(|error| BatchError { index: i, error })?;
-        largest_longitude = largest_longitude.max(longitude[i].abs());
-    }
-    // Zipped iterators carry no bounds checks, so the common case vectorises.
-    let points = ecef.iter_mut().zip(latitude).zip(longitude).zip(height);
-    if largest_longitude <= SIN_COS_DD_LIMIT {
-        for (((out, &lat), &lon), &h) in points {
-            *out = forward(model, lat, lon, h);
-        }
-    } else {
-        for (((out, &lat), &lon), &h) in points {
-            *out = forward_any(model, lat, lon, h);
-        }
-    }
-    Ok(())
+    let inputs = latitude.iter().zip(longitude).zip(height).map(|((&lat, &lon), &h)| (lat, lon, h));
+    forward_batch(model, inputs, ecef)
+}
+
+/// Converts a batch of geodetic positions into ECEF coordinates (m). Every input is validated
+/// before anything is written.
+///
+/// # Errors
+/// As [`geodetic_to_ecef_slices`].
+///
+/// ```
+/// use rotaframe::earth::{geodetic_to_ecef_many, Geodetic, WGS84};
+/// let mut xyz = [[0.0; 3]; 1];
+/// geodetic_to_ecef_many(&WGS84, &[Geodetic::new(0.0, 0.0, 0.0)], &mut xyz).unwrap();
+/// assert_eq!(xyz[0], [6378137.0, 0.0, 0.0]);
+/// ```
+// Kept out of line for the reason given at `geodetic_to_ecef_slices`.
+#[inline(never)]
+pub fn geodetic_to_ecef_many(
+    model: &EarthModel,
+    positions: &[Geodetic],
+    ecef: &mut [[f64; 3]],
+) -> core::result::Result<(), BatchError> {
+    check_len(ecef.len(), positions.len(), "ecef")?;
+    forward_batch(model, positions.iter().map(|g| (g.latitude, g.longitude, g.height)), ecef)
 }
 
 /// Converts a batch of ECEF points (m) into geodetic latitude, longitude (radians) and height
@@ -337,20 +397,23 @@ pub fn ecef_to_geodetic_slices(
     check_len(latitude.len(), n, "latitude")?;
     check_len(longitude.len(), n, "longitude")?;
     check_len(height.len(), n, "height")?;
-    for (i, p) in ecef.iter().enumerate() {
-        check_ecef(model, &Vector3::from(*p), "ecef").map_err(|error| BatchError { index: i, error })?;
-    }
-    // Two loops with the step count fixed at compile time, over zipped iterators (no bounds
-    // checks), so that each vectorises.
-    let points = ecef.iter().zip(latitude.iter_mut()).zip(longitude.iter_mut()).zip(height.iter_mut());
-    if model.flattening() <= FLAT_LIMIT {
-        for (((p, lat), lon), h) in points {
-            [*lat, *lon, *h] = inverse::<BOWRING_STEPS>(model, p[0], p[1], p[2]);
-        }
-    } else {
-        for (((p, lat), lon), h) in points {
-            [*lat, *lon, *h] = inverse::<{ BOWRING_STEPS + 1 }>(model, p[0], p[1], p[2]);
-        }
-    }
-    Ok(())
+    let outputs = latitude.iter_mut().zip(longitude.iter_mut()).zip(height.iter_mut()).map(|((a, b), c)| (a, b, c));
+    inverse_batch(model, ecef, outputs)
+}
+
+/// Converts a batch of ECEF points (m) into geodetic positions. Every input is validated
+/// before anything is written.
+///
+/// # Errors
+/// As [`ecef_to_geodetic_slices`].
+// Kept out of line for the reason given at `geodetic_to_ecef_slices`.
+#[inline(never)]
+pub fn ecef_to_geodetic_many(
+    model: &EarthModel,
+    ecef: &[[f64; 3]],
+    positions: &mut [Geodetic],
+) -> core::result::Result<(), BatchError> {
+    check_len(positions.len(), ecef.len(), "positions")?;
+    let outputs = positions.iter_mut().map(|g| (&mut g.latitude, &mut g.longitude, &mut g.height));
+    inverse_batch(model, ecef, outputs)
 }

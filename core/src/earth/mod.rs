@@ -32,11 +32,14 @@ pub mod model;
 pub mod rotation;
 
 pub use field::{centripetal_acceleration_ecef, coriolis_parameter, eotvos_correction};
-pub use geodetic::{Geodetic, ecef_to_geodetic, ecef_to_geodetic_slices, geodetic_to_ecef, geodetic_to_ecef_slices};
+pub use geodetic::{
+    Geodetic, ecef_to_geodetic, ecef_to_geodetic_many, ecef_to_geodetic_slices, geodetic_to_ecef, geodetic_to_ecef_many,
+    geodetic_to_ecef_slices,
+};
 pub use gravity::{gravitation_ecef, gravity_ecef, gravity_ned, normal_gravity, normal_gravity_at_height};
 pub use local::{
     ENU_FROM_NED, POLE_EXCLUSION, RadiiOfCurvature, coriolis_ned, earth_rate_ned, ecef_from_ned_quaternion, enu_from_ecef,
     enu_in_ned, local_level_motion, ned_from_ecef, radii_of_curvature, transport_rate_ned,
 };
-pub use model::{EarthModel, GRS80, MAX_FLATTENING, WGS84};
+pub use model::{EarthModel, EarthModelConstants, GRS80, MAX_FLATTENING, WGS84};
 pub use rotation::{earth_motion, earth_motion_at_ut1, earth_rotation_angle};

@@ -47,12 +47,11 @@ pub struct EarthModel {
     gamma_equator: f64,
     gamma_pole: f64,
     j2: f64,
-    // Derived, stored so that hot paths do not recompute them.
+    // Derived by multiplications only (e′² and m, one division each, are computed when asked),
+    // so that building a model from its constants, as the C interface does per call, is cheap.
     b: f64,
     e2: f64,
-    ep2: f64,
     k: f64,
-    m: f64,
 }
 
 /// WGS 84 (NIMA TR8350.2, 3rd ed., Amendment 1, 2000): `a` = 6378137 m,
@@ -86,6 +85,37 @@ pub const GRS80: EarthModel = EarthModel::from_published(
     0.001_931_851_353,
 );
 
+/// The constants that fix an [`EarthModel`]: the four defining ones, the normal-gravity values
+/// and `J₂`, and Somigliana's `k` (stored rather than recomputed, so that presets with a
+/// published `k` survive a round trip through this plain form exactly). For bindings and
+/// serialisation; `#[repr(C)]` so that a C struct with the same fields can be read in place.
+///
+/// ```
+/// use rotaframe::earth::{EarthModel, WGS84};
+/// let c = WGS84.constants();
+/// assert_eq!(EarthModel::from_constants(&c).unwrap(), WGS84);
+/// ```
+#[repr(C)]
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct EarthModelConstants {
+    /// Semi-major axis `a` (m).
+    pub semi_major_axis: f64,
+    /// Flattening `f`.
+    pub flattening: f64,
+    /// Geocentric gravitational constant (m³/s²).
+    pub gm: f64,
+    /// Rotation rate (rad/s).
+    pub rotation_rate: f64,
+    /// Normal gravity at the equator (m/s²).
+    pub gamma_equator: f64,
+    /// Normal gravity at the poles (m/s²).
+    pub gamma_pole: f64,
+    /// Dynamical form factor.
+    pub j2: f64,
+    /// Somigliana's constant.
+    pub somigliana_k: f64,
+}
+
 /// Largest flattening a custom model may have. The geodetic inversion is verified for Earth-like
 /// flattening and, by property tests, up to this value.
 pub const MAX_FLATTENING: f64 = 0.1;
@@ -97,7 +127,7 @@ impl EarthModel {
     const fn from_published(a: f64, f: f64, gm: f64, omega: f64, gamma_equator: f64, gamma_pole: f64, j2: f64, k: f64) -> Self {
         let b = a * (1.0 - f);
         let e2 = f * (2.0 - f);
-        Self { a, f, gm, omega, gamma_equator, gamma_pole, j2, b, e2, ep2: e2 / (1.0 - e2), k, m: omega * omega * a * a * b / gm }
+        Self { a, f, gm, omega, gamma_equator, gamma_pole, j2, b, e2, k }
     }
 
     /// A level ellipsoid from its four defining constants, with γe, γp and `J₂` derived by the
@@ -166,6 +196,74 @@ impl EarthModel {
         Ok(Self::from_published(semi_major_axis, flattening, gm, rotation_rate, gamma_equator, gamma_pole, j2, k))
     }
 
+    /// Why `from_constants` rejected a set of constants (kept out of line: the rare path).
+    #[cold]
+    #[inline(never)]
+    fn rejection(c: &EarthModelConstants) -> Error {
+        match Self::custom(c.semi_major_axis, c.flattening, c.gm, c.rotation_rate, c.gamma_equator, c.gamma_pole, c.j2) {
+            Err(e) => e,
+            Ok(_) => Error::NonFinite { quantity: "somigliana_k" },
+        }
+    }
+
+    /// The model's constants in plain form.
+    #[must_use]
+    pub const fn constants(&self) -> EarthModelConstants {
+        EarthModelConstants {
+            semi_major_axis: self.a,
+            flattening: self.f,
+            gm: self.gm,
+            rotation_rate: self.omega,
+            gamma_equator: self.gamma_equator,
+            gamma_pole: self.gamma_pole,
+            j2: self.j2,
+            somigliana_k: self.k,
+        }
+    }
+
+    /// A model from its constants in plain form, validated as in [`custom`](Self::custom)
+    /// and with `somigliana_k` finite. The derived quantities are recomputed by the same
+    /// arithmetic as the presets, so `from_constants(&m.constants()) == m`.
+    ///
+    /// # Errors
+    /// As [`custom`](Self::custom), and [`Error::NonFinite`] for `somigliana_k`.
+    #[inline]
+    pub fn from_constants(c: &EarthModelConstants) -> Result<Self> {
+        // Quick acceptance of good constants (the common case, once per C call): a sum of
+        // `x · 0` is zero exactly when every constant is finite (written so, the check costs a
+        // few instructions; `is_finite` on each compiles to integer bit tests); only a rejected
+        // set goes through the checks that name the bad constant.
+        let probe = c.semi_major_axis * 0.0
+            + c.flattening * 0.0
+            + c.gm * 0.0
+            + c.rotation_rate * 0.0
+            + c.gamma_equator * 0.0
+            + c.gamma_pole * 0.0
+            + c.j2 * 0.0
+            + c.somigliana_k * 0.0;
+        let good = probe == 0.0
+            && c.semi_major_axis > 0.0
+            && c.gm > 0.0
+            && c.gamma_equator > 0.0
+            && c.gamma_pole > 0.0
+            && c.rotation_rate >= 0.0
+            && c.flattening >= 0.0
+            && c.flattening <= MAX_FLATTENING;
+        if !good {
+            return Err(Self::rejection(c));
+        }
+        Ok(Self::from_published(
+            c.semi_major_axis,
+            c.flattening,
+            c.gm,
+            c.rotation_rate,
+            c.gamma_equator,
+            c.gamma_pole,
+            c.j2,
+            c.somigliana_k,
+        ))
+    }
+
     /// Semi-major (equatorial) axis `a` (m).
     #[must_use]
     #[inline]
@@ -194,7 +292,7 @@ impl EarthModel {
     #[must_use]
     #[inline]
     pub const fn second_eccentricity_squared(&self) -> f64 {
-        self.ep2
+        self.e2 / (1.0 - self.e2)
     }
     /// Geocentric gravitational constant `GM` (m³/s²).
     #[must_use]
@@ -238,7 +336,7 @@ impl EarthModel {
     #[must_use]
     #[inline]
     pub const fn gravity_ratio_m(&self) -> f64 {
-        self.m
+        self.omega * self.omega * self.a * self.a * self.b / self.gm
     }
     /// Radius of the sphere about the Earth's centre inside which geodetic coordinates are not
     /// unique: `(a² − b²)/b`, the larger half-axis of the evolute of the meridian ellipse

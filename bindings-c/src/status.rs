@@ -1,0 +1,158 @@
+//! Status codes, their messages, and the boundary that every exported function runs inside.
+
+use rotaframe::Error;
+
+/// The result of every rotaframe C function. Values are fixed and never reused.
+#[repr(u32)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum rf_status {
+    /// Success; the outputs have been written.
+    RF_STATUS_OK = 0,
+    /// A required pointer argument was NULL.
+    RF_STATUS_NULL_POINTER = 1,
+    /// An input holds NaN or infinity.
+    RF_STATUS_NON_FINITE = 2,
+    /// A value is outside its allowed range (for example a latitude beyond ±π/2).
+    RF_STATUS_OUT_OF_RANGE = 3,
+    /// A quaternion's norm is too far from one.
+    RF_STATUS_NOT_UNIT_QUATERNION = 4,
+    /// A quaternion or direction vector has zero norm.
+    RF_STATUS_ZERO_NORM = 5,
+    /// A 3×3 matrix is not a proper rotation.
+    RF_STATUS_NOT_ROTATION_MATRIX = 6,
+    /// A latitude is too close to a pole for north-east-down rates.
+    RF_STATUS_NEAR_POLE = 7,
+    /// A position is too close to the Earth's centre for geodetic coordinates.
+    RF_STATUS_NEAR_EARTH_CENTRE = 8,
+    /// A value that must be strictly positive is not.
+    RF_STATUS_NOT_POSITIVE = 9,
+    /// Arguments are inconsistent (for example mismatched array lengths).
+    RF_STATUS_INVALID_ARGUMENT = 10,
+    /// An internal error was caught at the boundary (a bug in rotaframe; please report it).
+    RF_STATUS_INTERNAL_ERROR = 11,
+}
+
+pub use rf_status::*;
+
+/// Internal result type of the exported functions' bodies.
+pub type Fallible<T> = Result<T, rf_status>;
+
+impl From<Error> for rf_status {
+    fn from(e: Error) -> Self {
+        match e {
+            Error::NonFinite { .. } => RF_STATUS_NON_FINITE,
+            Error::ZeroNorm { .. } => RF_STATUS_ZERO_NORM,
+            Error::NotUnitQuaternion { .. } => RF_STATUS_NOT_UNIT_QUATERNION,
+            Error::NotRotationMatrix { .. } => RF_STATUS_NOT_ROTATION_MATRIX,
+            Error::OutOfRange { .. } => RF_STATUS_OUT_OF_RANGE,
+            Error::NotPositive { .. } => RF_STATUS_NOT_POSITIVE,
+            Error::NearPole { .. } => RF_STATUS_NEAR_POLE,
+            Error::NearEarthCentre { .. } => RF_STATUS_NEAR_EARTH_CENTRE,
+            _ => RF_STATUS_INVALID_ARGUMENT,
+        }
+    }
+}
+
+impl From<rotaframe::BatchError> for rf_status {
+    fn from(e: rotaframe::BatchError) -> Self {
+        e.error.into()
+    }
+}
+
+/// A static, NUL-terminated English message for a status value (any value: unknown ones get
+/// a message saying so). The string lives for the whole program.
+#[unsafe(no_mangle)]
+pub extern "C" fn rf_status_message(status: u32) -> *const core::ffi::c_char {
+    let message: &'static core::ffi::CStr = match status {
+        0 => c"ok",
+        1 => c"a required pointer argument is NULL",
+        2 => c"an input is NaN or infinite",
+        3 => c"a value is outside its allowed range",
+        4 => c"a quaternion is not of unit norm (allowed 1 +/- 1e-6)",
+        5 => c"a quaternion or direction vector has zero norm",
+        6 => c"a matrix is not a rotation (orthonormal, determinant +1)",
+        7 => c"latitude too close to a pole for north-east-down rates (within 1e-6 rad)",
+        8 => c"position too close to the Earth's centre for geodetic coordinates",
+        9 => c"a value that must be positive is not",
+        10 => c"arguments are inconsistent",
+        11 => c"internal error caught at the rotaframe boundary",
+        _ => c"unknown rotaframe status",
+    };
+    message.as_ptr()
+}
+
+/// Runs an exported function's body: maps its result to a status, and (with `std`) turns any
+/// panic into `RF_STATUS_INTERNAL_ERROR` instead of unwinding into C. The bodies are written so
+/// that no panic can occur (no indexing without checks, no unwrap); this is the guard anyway.
+/// Without `std` the firmware profile aborts on panic, which also never crosses into C.
+#[inline]
+pub fn boundary(body: impl FnOnce() -> Fallible<()>) -> rf_status {
+    #[cfg(feature = "std")]
+    {
+        match std::panic::catch_unwind(std::panic::AssertUnwindSafe(body)) {
+            Ok(Ok(())) => RF_STATUS_OK,
+            Ok(Err(status)) => status,
+            Err(_) => RF_STATUS_INTERNAL_ERROR,
+        }
+    }
+    #[cfg(not(feature = "std"))]
+    {
+        match body() {
+            Ok(()) => RF_STATUS_OK,
+            Err(status) => status,
+        }
+    }
+}
+
+/// Reads an input through a pointer.
+///
+/// # Safety
+/// `p` is NULL or points to a valid, initialised `T`.
+#[inline(always)]
+pub unsafe fn read<T: Copy>(p: *const T) -> Fallible<T> {
+    // SAFETY: the caller guarantees validity when non-NULL.
+    unsafe { p.as_ref() }.copied().ok_or(RF_STATUS_NULL_POINTER)
+}
+
+/// An output pointer, checked for NULL. Nothing is written through it until the result is
+/// complete.
+///
+/// # Safety
+/// `p` is NULL or points to writable memory for a `T`.
+#[inline(always)]
+pub unsafe fn out<'a, T>(p: *mut T) -> Fallible<&'a mut T> {
+    // SAFETY: the caller guarantees validity when non-NULL.
+    unsafe { p.as_mut() }.ok_or(RF_STATUS_NULL_POINTER)
+}
+
+/// An input array of `n` elements (NULL allowed when `n` is 0).
+///
+/// # Safety
+/// When `n > 0`, `p` points to `n` valid, initialised `T`.
+#[inline(always)]
+pub unsafe fn slice<'a, T>(p: *const T, n: usize) -> Fallible<&'a [T]> {
+    if n == 0 {
+        return Ok(&[]);
+    }
+    if p.is_null() {
+        return Err(RF_STATUS_NULL_POINTER);
+    }
+    // SAFETY: non-NULL, and the caller guarantees `n` valid elements.
+    Ok(unsafe { core::slice::from_raw_parts(p, n) })
+}
+
+/// An output array of `n` elements (NULL allowed when `n` is 0).
+///
+/// # Safety
+/// When `n > 0`, `p` points to writable memory for `n` `T`, not overlapping any input.
+#[inline(always)]
+pub unsafe fn slice_mut<'a, T>(p: *mut T, n: usize) -> Fallible<&'a mut [T]> {
+    if n == 0 {
+        return Ok(&mut []);
+    }
+    if p.is_null() {
+        return Err(RF_STATUS_NULL_POINTER);
+    }
+    // SAFETY: non-NULL, and the caller guarantees `n` writable elements.
+    Ok(unsafe { core::slice::from_raw_parts_mut(p, n) })
+}
