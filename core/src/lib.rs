@@ -13,7 +13,9 @@
 //!   and inverse;
 //! * [`apparent`]: translational, Coriolis, centrifugal and Euler accelerations;
 //! * [`rotation`]: quaternions, direction-cosine matrices, Euler angles, rotation vectors;
-//! * [`earth`]: ellipsoids, geodetic coordinates, local-level frames, Earth rotation, gravity.
+//! * [`earth`]: ellipsoids, geodetic coordinates, local-level frames, Earth rotation, gravity;
+//! * [`nav`]: ideal IMU output and increments, strapdown mechanization (NED and ECEF), sensor
+//!   error models, lever arms.
 //!
 //! ## Conventions
 //!
@@ -62,6 +64,7 @@ pub mod earth;
 pub mod error;
 pub mod frames;
 pub mod motion;
+pub mod nav;
 pub mod rotation;
 
 pub use error::{BatchError, Error, Result};

@@ -2,6 +2,7 @@
 //! finite-difference stencils and named tolerances.
 
 pub mod shared;
+pub mod trajectories;
 
 use nalgebra::{Matrix3, Quaternion, UnitQuaternion, Vector3};
 use proptest::prelude::*;

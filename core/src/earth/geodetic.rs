@@ -211,13 +211,23 @@ fn inverse_any(model: &EarthModel, x: f64, y: f64, z: f64) -> [f64; 3] {
     }
 }
 
+/// The inverse conversion for a point already checked to be finite and outside
+/// [`EarthModel::centre_exclusion_radius`].
+#[inline]
+pub(crate) fn inverse_unchecked(model: &EarthModel, ecef: &Vector3<f64>) -> Geodetic {
+    let [latitude, longitude, height] = inverse_any(model, ecef.x, ecef.y, ecef.z);
+    Geodetic { latitude, longitude, height }
+}
+
 #[inline(always)]
 fn normalise(c: f64, s: f64) -> (f64, f64) {
     let inv = 1.0 / math::sqrt(c * c + s * s);
     (c * inv, s * inv)
 }
 
-fn check_ecef(model: &EarthModel, ecef: &Vector3<f64>, quantity: &'static str) -> Result<()> {
+/// Checks that an ECEF point is finite and outside [`EarthModel::centre_exclusion_radius`],
+/// naming `quantity`.
+pub(crate) fn check_ecef(model: &EarthModel, ecef: &Vector3<f64>, quantity: &'static str) -> Result<()> {
     ensure_finite3(ecef, quantity)?;
     let distance = ecef.norm();
     let limit = model.centre_exclusion_radius();

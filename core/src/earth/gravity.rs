@@ -44,7 +44,8 @@
 
 use nalgebra::Vector3;
 
-use super::geodetic::check_latitude;
+use super::geodetic::{Geodetic, check_latitude, ecef_to_geodetic, geodetic_to_ecef};
+use super::local::ned_from_ecef;
 use super::model::EarthModel;
 use crate::apparent::{FrameDynamics, apparent_terms};
 use crate::error::{Error, Result, ensure_finite1, ensure_finite3};
@@ -180,4 +181,118 @@ pub(crate) fn centrifugal_unchecked(model: &EarthModel, r: &Vector3<f64>) -> Vec
 pub fn gravity_ecef(model: &EarthModel, position_ecef: &Vector3<f64>) -> Result<Vector3<f64>> {
     check_outside_core(model, position_ecef)?;
     Ok(gravitation_unchecked(model, position_ecef) + centrifugal_unchecked(model, position_ecef))
+}
+
+/// Which gravity field a navigation computation uses.
+///
+/// * [`Normal`](GravityModel::Normal): normal gravity with the second-order height correction
+///   ([`normal_gravity_at_height`]) along the ellipsoidal normal, i.e. the plumb-line model of
+///   [`gravity_ned`]. The default, and what both strapdown mechanizations use unless told
+///   otherwise, so that they agree with each other. Meant for heights below a few tens of
+///   kilometres.
+/// * [`J2`](GravityModel::J2): J₂ gravitation plus the centrifugal term ([`gravity_ecef`]),
+///   valid from the ground to orbit; it carries the small north component of the field that the
+///   normal model leaves out.
+///
+/// Both fields are symmetric about the Earth's polar axis, so [`gravitation`](Self::gravitation)
+/// evaluated at an ECI position gives the field resolved in ECI, whatever the Earth's rotation
+/// angle at that instant.
+///
+/// ```
+/// use approx::assert_relative_eq;
+/// use rotaframe::earth::{gravity::GravityModel, Geodetic, WGS84};
+/// let here = Geodetic::from_degrees(45.0, 10.0, 500.0);
+/// let normal = GravityModel::Normal.gravity_ned(&WGS84, &here).unwrap();
+/// let j2 = GravityModel::J2.gravity_ned(&WGS84, &here).unwrap();
+/// // The two models differ by about 1e-4 m/s² near the ellipsoid (see the module docs).
+/// assert!((normal - j2).norm() < 2e-4);
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+#[repr(u32)]
+pub enum GravityModel {
+    /// Normal gravity with the second-order height correction, along the ellipsoidal normal.
+    #[default]
+    Normal = 0,
+    /// J₂ gravitation plus the centrifugal acceleration of the rotating Earth.
+    J2 = 1,
+}
+
+impl GravityModel {
+    /// Gravity (gravitation plus centrifugal) resolved in NED at a geodetic position (m/s²).
+    ///
+    /// # Errors
+    /// As [`Geodetic::validate`]; for [`J2`](Self::J2) also as [`gravity_ecef`].
+    pub fn gravity_ned(self, model: &EarthModel, position: &Geodetic) -> Result<Vector3<f64>> {
+        position.validate()?;
+        match self {
+            GravityModel::Normal => {
+                let s = math::sin(position.latitude);
+                Ok(Vector3::new(0.0, 0.0, normal_gravity_at_height_unchecked(model, s * s, position.height)))
+            }
+            GravityModel::J2 => {
+                let r = geodetic_to_ecef(model, position)?;
+                let g = gravity_ecef(model, &r)?;
+                Ok(ned_from_ecef(position.latitude, position.longitude)? * g)
+            }
+        }
+    }
+
+    /// Gravity (gravitation plus centrifugal) resolved in ECEF at an ECEF position (m, m/s²).
+    ///
+    /// For [`Normal`](Self::Normal) the position is first converted to geodetic coordinates.
+    ///
+    /// # Errors
+    /// [`Error::NonFinite`] or [`Error::NearEarthCentre`] naming `position_ecef`.
+    ///
+    /// ```
+    /// use approx::assert_relative_eq;
+    /// use rotaframe::earth::{gravity::GravityModel, WGS84};
+    /// let g = GravityModel::Normal.gravity_ecef(&WGS84, &nalgebra::Vector3::new(6378137.0, 0.0, 0.0)).unwrap();
+    /// // On the equator: straight down (−x), TR8350.2 equatorial normal gravity.
+    /// assert_relative_eq!(g, nalgebra::Vector3::new(-9.7803253359, 0.0, 0.0), max_relative = 1e-10);
+    /// ```
+    pub fn gravity_ecef(self, model: &EarthModel, position_ecef: &Vector3<f64>) -> Result<Vector3<f64>> {
+        match self {
+            GravityModel::Normal => {
+                check_outside_core(model, position_ecef)?;
+                let p = ecef_to_geodetic(model, position_ecef).map_err(|e| e.with_quantity("position_ecef"))?;
+                Ok(normal_gravity_ecef_at(model, position_ecef, &p))
+            }
+            GravityModel::J2 => gravity_ecef(model, position_ecef),
+        }
+    }
+
+    /// Gravitation (gravity minus the centrifugal term) at a position given in ECEF or in ECI
+    /// coordinates, resolved in the same axes (m, m/s²). Both fields are symmetric about the
+    /// polar axis, which ECI and ECEF share, so one formula serves both.
+    ///
+    /// # Errors
+    /// As [`gravity_ecef`](Self::gravity_ecef).
+    ///
+    /// ```
+    /// use approx::assert_relative_eq;
+    /// use rotaframe::earth::{gravity::GravityModel, gravitation_ecef, WGS84};
+    /// let r = nalgebra::Vector3::new(4.0e6, 3.0e6, 3.5e6);
+    /// assert_relative_eq!(GravityModel::J2.gravitation(&WGS84, &r).unwrap(), gravitation_ecef(&WGS84, &r).unwrap());
+    /// ```
+    pub fn gravitation(self, model: &EarthModel, position: &Vector3<f64>) -> Result<Vector3<f64>> {
+        match self {
+            GravityModel::Normal => Ok(self.gravity_ecef(model, position).map_err(|e| e.with_quantity("position"))?
+                - centrifugal_unchecked(model, position)),
+            GravityModel::J2 => gravitation_ecef(model, position).map_err(|e| e.with_quantity("position")),
+        }
+    }
+}
+
+/// Normal gravity resolved in ECEF at an ECEF point whose geodetic coordinates are known:
+/// `−γ(φ, h)` times the upward ellipsoidal normal `(cos φ x/p, cos φ y/p, sin φ)`, with
+/// `p = √(x² + y²)` (the normal's horizontal direction comes from the point itself, so no
+/// longitude is needed and the poles are regular).
+#[inline]
+pub(crate) fn normal_gravity_ecef_at(model: &EarthModel, position_ecef: &Vector3<f64>, geodetic: &Geodetic) -> Vector3<f64> {
+    let (s, c) = math::sin_cos(geodetic.latitude);
+    let gamma = normal_gravity_at_height_unchecked(model, s * s, geodetic.height);
+    let p = math::hypot(position_ecef.x, position_ecef.y);
+    let (ux, uy) = if p > 0.0 { (c * position_ecef.x / p, c * position_ecef.y / p) } else { (0.0, 0.0) };
+    -gamma * Vector3::new(ux, uy, s)
 }
