@@ -11,6 +11,7 @@ mod errors;
 mod geodesy;
 mod model;
 mod motion;
+mod nav;
 mod rotations;
 
 use pyo3::prelude::*;
@@ -29,6 +30,15 @@ fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(motion::earth_motion, m)?)?;
     m.add_function(wrap_pyfunction!(motion::local_level_motion, m)?)?;
     m.add_function(wrap_pyfunction!(apparent::apparent_acceleration, m)?)?;
+    m.add_class::<nav::PyStrapdown>()?;
+    m.add_class::<nav::PyStrapdownHistory>()?;
+    m.add_class::<nav::PyImuErrors>()?;
+    m.add_function(wrap_pyfunction!(nav::_strapdown_from_parts, m)?)?;
+    m.add_function(wrap_pyfunction!(nav::ideal_imu, m)?)?;
+    m.add_function(wrap_pyfunction!(nav::imu_increments, m)?)?;
+    m.add_function(wrap_pyfunction!(nav::imu_increments_from_samples, m)?)?;
+    m.add_function(wrap_pyfunction!(nav::motion_from_samples, m)?)?;
+    m.add_function(wrap_pyfunction!(nav::lever_arm_state, m)?)?;
     for f in [
         wrap_pyfunction!(geodesy::geodetic_to_ecef, m)?,
         wrap_pyfunction!(geodesy::ecef_to_geodetic, m)?,

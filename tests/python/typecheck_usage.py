@@ -15,3 +15,18 @@ def budget(lat_deg: float, lon_deg: float, h: float) -> NDArray[np.float64]:
     lat, lon, height = rf.ecef_to_geodetic(xyz)
     _ = (lat, lon, height, rf.normal_gravity(0.3), rf.WGS84.gamma_equator)
     return terms.total
+
+
+def navigate(dtheta: NDArray[np.float64], dv: NDArray[np.float64]) -> float:
+    def parked(t: NDArray[np.float64]) -> rf.FrameMotion:
+        return rf.earth_motion(t).then(rf.local_level_motion(0.8, 0.1, 50.0))
+
+    rate, force = rf.ideal_imu(parked(np.zeros(1)), gravity="j2")
+    inc_theta, inc_v, inc_dt = rf.imu_increments(parked, np.linspace(0.0, 1.0, 101))
+    ins = rf.Strapdown(0.8, 0.1, 50.0, [0.0, 0.0, 0.0], [1.0, 0.0, 0.0, 0.0], frame="ecef", vertical="hold")
+    history: rf.StrapdownHistory = ins.run(dtheta, dv, 0.01, height_reference=50.0)
+    ins.step(inc_theta[0], inc_v[0], float(inc_dt[0]))
+    errors = rf.ImuErrors(gyro_arw_deg_per_sqrt_h=0.1, seed=3)
+    noisy_theta, noisy_v = errors.apply(inc_theta, inc_v, inc_dt)
+    _ = (rate, force, noisy_theta, noisy_v, history.lat, ins.v_ned, ins.attitude)
+    return ins.h

@@ -2,7 +2,8 @@
 
 Frame motions and the transport theorem, apparent (Coriolis, centrifugal, Euler,
 translational) accelerations, Earth models, geodetic conversions, local-level frames,
-Earth rotation and gravity. The math is rotaframe's Rust core; this package converts,
+Earth rotation and gravity; ideal IMU output and increments, strapdown inertial navigation
+in NED and ECEF form, IMU error simulation and lever arms. The math is rotaframe's Rust core; this package converts,
 validates and batches.
 
 Conventions (the same in Rust, C and Python):
@@ -13,7 +14,7 @@ Conventions (the same in Rust, C and Python):
 * Quaternions are Hamilton, scalar first: ``(w, x, y, z)``.
 * Every array function broadcasts over leading axes and returns float64 arrays.
 
-Not certified for safety-of-life use: validate against your own requirements, the standards
+Not certified for safety-of-life navigation or guidance: validate against your own requirements, the standards
 that apply to you and licensed engineering practice.
 """
 
@@ -24,6 +25,7 @@ from ._native import (
     EarthModel,
     FrameMismatchError,
     FrameMotion,
+    ImuErrors,
     NearEarthCentreError,
     NearPoleError,
     NonFiniteError,
@@ -33,6 +35,8 @@ from ._native import (
     OutOfRangeError,
     RotaframeError,
     ShapeError,
+    Strapdown,
+    StrapdownHistory,
     ZeroNormError,
     apparent_acceleration,
     centripetal_acceleration_ecef,
@@ -49,8 +53,13 @@ from ._native import (
     gravitation_ecef,
     gravity_ecef,
     gravity_ned,
+    ideal_imu,
+    imu_increments,
+    imu_increments_from_samples,
+    lever_arm_state,
     local_level_motion,
     matrix_to_quat,
+    motion_from_samples,
     ned_from_ecef,
     normal_gravity,
     quat_from_euler,
@@ -73,6 +82,7 @@ __all__ = [
     "EarthModel",
     "FrameMismatchError",
     "FrameMotion",
+    "ImuErrors",
     "NearEarthCentreError",
     "NearPoleError",
     "NonFiniteError",
@@ -82,6 +92,8 @@ __all__ = [
     "OutOfRangeError",
     "RotaframeError",
     "ShapeError",
+    "Strapdown",
+    "StrapdownHistory",
     "ZeroNormError",
     "apparent_acceleration",
     "centripetal_acceleration_ecef",
@@ -98,8 +110,13 @@ __all__ = [
     "gravitation_ecef",
     "gravity_ecef",
     "gravity_ned",
+    "ideal_imu",
+    "imu_increments",
+    "imu_increments_from_samples",
+    "lever_arm_state",
     "local_level_motion",
     "matrix_to_quat",
+    "motion_from_samples",
     "ned_from_ecef",
     "normal_gravity",
     "quat_from_euler",

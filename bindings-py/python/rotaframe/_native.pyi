@@ -1,6 +1,6 @@
 """Type stubs for rotaframe's native module (checked with mypy and mypy.stubtest)."""
 
-from typing import Any, Optional, Union, final
+from typing import Any, Callable, Literal, Optional, Union, final
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -14,6 +14,7 @@ __all__ = [
     "FrameMismatchError",
     "FrameMotion",
     "GRS80",
+    "ImuErrors",
     "NearEarthCentreError",
     "NearPoleError",
     "NonFiniteError",
@@ -23,10 +24,13 @@ __all__ = [
     "OutOfRangeError",
     "RotaframeError",
     "ShapeError",
+    "Strapdown",
+    "StrapdownHistory",
     "WGS84",
     "ZeroNormError",
     "_earth_model_from_constants",
     "_frame_motion_from_parts",
+    "_strapdown_from_parts",
     "apparent_acceleration",
     "centripetal_acceleration_ecef",
     "coriolis_ned",
@@ -42,8 +46,13 @@ __all__ = [
     "gravitation_ecef",
     "gravity_ecef",
     "gravity_ned",
+    "ideal_imu",
+    "imu_increments",
+    "imu_increments_from_samples",
+    "lever_arm_state",
     "local_level_motion",
     "matrix_to_quat",
+    "motion_from_samples",
     "ned_from_ecef",
     "normal_gravity",
     "quat_from_euler",
@@ -266,3 +275,166 @@ def quat_inverse(q: ArrayLike) -> _Array: ...
 def quat_rotate(q: ArrayLike, v: ArrayLike) -> _Array: ...
 def quat_from_rotvec(v: ArrayLike) -> _Array: ...
 def quat_to_rotvec(q: ArrayLike) -> _Array: ...
+
+_Gravity = Literal["normal", "j2"]
+
+def ideal_imu(
+    body_motion: FrameMotion, *, model: Optional[EarthModel] = None, gravity: _Gravity = "normal"
+) -> tuple[_Array, _Array]: ...
+def imu_increments(
+    trajectory: Callable[[_Array], FrameMotion],
+    t: ArrayLike,
+    *,
+    model: Optional[EarthModel] = None,
+    gravity: _Gravity = "normal",
+) -> tuple[_Array, _Array, _Array]: ...
+def imu_increments_from_samples(
+    t: ArrayLike,
+    lat: ArrayLike,
+    lon: ArrayLike,
+    h: ArrayLike,
+    attitude: ArrayLike,
+    *,
+    times: Optional[ArrayLike] = None,
+    model: Optional[EarthModel] = None,
+    gravity: _Gravity = "normal",
+    degrees: bool = False,
+) -> tuple[_Array, _Array, _Array]: ...
+def motion_from_samples(
+    t: ArrayLike,
+    lat: ArrayLike,
+    lon: ArrayLike,
+    h: ArrayLike,
+    attitude: ArrayLike,
+    times: ArrayLike,
+    *,
+    model: Optional[EarthModel] = None,
+    degrees: bool = False,
+) -> FrameMotion: ...
+def lever_arm_state(
+    lat: ArrayLike,
+    lon: ArrayLike,
+    h: ArrayLike,
+    v_ned: ArrayLike,
+    attitude: ArrayLike,
+    angular_rate: ArrayLike,
+    lever_arm: ArrayLike,
+    *,
+    model: Optional[EarthModel] = None,
+    degrees: bool = False,
+) -> tuple[_FloatOrArray, _FloatOrArray, _FloatOrArray, _Array]: ...
+
+@final
+class StrapdownHistory:
+    """The state after every step of ``Strapdown.run``."""
+
+    @property
+    def lat(self) -> _Array: ...
+    @property
+    def lon(self) -> _Array: ...
+    @property
+    def h(self) -> _Array: ...
+    @property
+    def v_ned(self) -> _Array: ...
+    @property
+    def attitude(self) -> _Array: ...
+    @property
+    def t(self) -> _Array: ...
+    def __len__(self) -> int: ...
+
+@final
+class Strapdown:
+    """Strapdown inertial navigation in NED (``frame="ned"``) or ECEF (``frame="ecef"``) form.
+
+    Not certified for safety-of-life navigation; validate against your own requirements.
+    """
+
+    def __new__(
+        cls,
+        lat: float,
+        lon: float,
+        h: float,
+        v_ned: ArrayLike,
+        attitude: ArrayLike,
+        *,
+        frame: Literal["ned", "ecef"] = "ned",
+        model: Optional[EarthModel] = None,
+        degrees: bool = False,
+        gravity: _Gravity = "normal",
+        vertical: Literal["free", "hold", "aided"] = "free",
+        height_time_constant: Optional[float] = None,
+    ) -> Strapdown: ...
+    def step(self, dtheta: ArrayLike, dv: ArrayLike, dt: ArrayLike, *, height_reference: Optional[float] = None) -> None: ...
+    def run(
+        self, dtheta: ArrayLike, dv: ArrayLike, dt: ArrayLike, *, height_reference: Optional[ArrayLike] = None
+    ) -> StrapdownHistory: ...
+    def set_height_reference(self, height_reference: float) -> None: ...
+    def reset_history(self) -> None: ...
+    @property
+    def lat(self) -> float: ...
+    @property
+    def lon(self) -> float: ...
+    @property
+    def h(self) -> float: ...
+    @property
+    def v_ned(self) -> _Array: ...
+    @property
+    def attitude(self) -> _Array: ...
+    @property
+    def position_ecef(self) -> _Array: ...
+    @property
+    def elapsed(self) -> float: ...
+    @property
+    def frame(self) -> str: ...
+    @property
+    def gravity(self) -> str: ...
+    @property
+    def vertical(self) -> str: ...
+    @property
+    def degrees(self) -> bool: ...
+    @property
+    def model(self) -> EarthModel: ...
+    def copy(self) -> Strapdown: ...
+    def __copy__(self) -> Strapdown: ...
+    def __deepcopy__(self, memo: Any, /) -> Strapdown: ...
+    def __reduce__(self) -> tuple[Any, tuple[Any, ...]]: ...
+
+def _strapdown_from_parts(
+    model: EarthModel,
+    frame: str,
+    gravity: str,
+    vertical: str,
+    height_time_constant: Optional[float],
+    degrees: bool,
+    state: list[float],
+    previous: Optional[list[float]],
+    height_reference: float,
+    elapsed: float,
+) -> Strapdown: ...
+
+@final
+class ImuErrors:
+    """Seeded IMU sensor errors: bias, scale factor, misalignment, white noise, Gauss–Markov bias."""
+
+    def __new__(
+        cls,
+        *,
+        gyro_bias: Optional[ArrayLike] = None,
+        gyro_scale_factor: Optional[ArrayLike] = None,
+        gyro_misalignment: Optional[ArrayLike] = None,
+        gyro_arw_deg_per_sqrt_h: Optional[ArrayLike] = None,
+        gyro_markov_sigma: Optional[ArrayLike] = None,
+        gyro_markov_time: Optional[ArrayLike] = None,
+        accel_bias: Optional[ArrayLike] = None,
+        accel_scale_factor: Optional[ArrayLike] = None,
+        accel_misalignment: Optional[ArrayLike] = None,
+        accel_vrw_mps_per_sqrt_h: Optional[ArrayLike] = None,
+        accel_markov_sigma: Optional[ArrayLike] = None,
+        accel_markov_time: Optional[ArrayLike] = None,
+        seed: int = 0,
+    ) -> ImuErrors: ...
+    def apply(self, dtheta: ArrayLike, dv: ArrayLike, dt: ArrayLike) -> tuple[_Array, _Array]: ...
+    @property
+    def seed(self) -> int: ...
+    @property
+    def markov_states(self) -> tuple[_Array, _Array]: ...

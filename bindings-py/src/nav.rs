@@ -1,0 +1,989 @@
+//! Navigation on numpy arrays: ideal IMU output and increments (from a Python callable or a
+//! recorded log), the strapdown stepper and batch runner, the IMU error model and lever arms.
+//! Conversion, validation, batching and error mapping only; the math is the core's `nav`.
+
+use numpy::{PyArrayDyn, PyArrayMethods};
+use pyo3::prelude::*;
+use pyo3::types::PyTuple;
+use rotaframe::earth::{self, Geodetic, GravityModel};
+use rotaframe::frames::{AnyFrame, Eci};
+use rotaframe::nalgebra::{Matrix3, UnitQuaternion, Vector3};
+use rotaframe::nav::{
+    self, ImuErrorGenerator, ImuErrorModel, ImuIncrement, ImuSample, MechanizationState, NavFrame, NavState, RecordedSample,
+    RecordedTrajectory, SampleSource, SensorErrorModel, StepMemory, Strapdown, StrapdownConfig, VerticalChannel,
+};
+use rotaframe::rotation::quaternion_to_wxyz;
+
+use crate::broadcast::{Failure, Operand, Plan, failure_to_py, out_slice, run};
+use crate::errors::{FrameMismatchError, RotaframeError, ShapeError, to_py};
+use crate::geodesy::python_error;
+use crate::model::{PyEarthModel, model_or_default};
+use crate::motion::{Motion, PyFrameMotion};
+use crate::rotations::quaternion;
+
+fn angle_scale(degrees: bool) -> f64 {
+    if degrees { core::f64::consts::PI / 180.0 } else { 1.0 }
+}
+
+/// The core's quantity names spelled as this module's Python arguments.
+fn nav_name(error: rotaframe::Error) -> rotaframe::Error {
+    let to = match error.quantity() {
+        "delta_angle" => "dtheta",
+        "delta_velocity" => "dv",
+        "interval" => "dt",
+        "time_constant" => "height_time_constant",
+        "gyro_noise_density" => "gyro_arw_deg_per_sqrt_h",
+        "accelerometer_noise_density" => "accel_vrw_mps_per_sqrt_h",
+        "accelerometer_bias" => "accel_bias",
+        "accelerometer_scale_factor" => "accel_scale_factor",
+        "accelerometer_misalignment" => "accel_misalignment",
+        "accelerometer_markov_sigma" => "accel_markov_sigma",
+        "accelerometer_markov_time" => "accel_markov_time",
+        _ => return error,
+    };
+    error.with_quantity(to)
+}
+
+/// A Python exception for a core error from this module, with argument names, the latitude in
+/// degrees where the call used degrees, and `context` appended.
+fn nav_error(error: rotaframe::Error, degrees: bool, lat: f64, context: &str) -> PyErr {
+    to_py(&python_error(nav_name(error), degrees, lat), context)
+}
+
+/// Parses the `gravity` keyword.
+fn gravity_model(name: &str) -> PyResult<GravityModel> {
+    match name {
+        "normal" => Ok(GravityModel::Normal),
+        "j2" => Ok(GravityModel::J2),
+        other => Err(RotaframeError::new_err(format!("`gravity` must be \"normal\" or \"j2\", got {other:?}"))),
+    }
+}
+
+fn gravity_name(model: GravityModel) -> &'static str {
+    match model {
+        GravityModel::J2 => "j2",
+        _ => "normal",
+    }
+}
+
+/// Checks that a motion given to an IMU function is relative to the inertial frame.
+fn check_inertial(motion: &PyFrameMotion, argument: &str) -> PyResult<()> {
+    match motion.parent.as_deref() {
+        Some(p) if p != "eci" => Err(FrameMismatchError::new_err(format!(
+            "`{argument}` must be the body's motion relative to the inertial frame \"eci\", but its parent frame is {p:?}"
+        ))),
+        _ => Ok(()),
+    }
+}
+
+/// A new C-contiguous float64 array of shape `dims` filled from `values`.
+fn array_from<'py>(py: Python<'py>, dims: Vec<usize>, values: &[f64]) -> Bound<'py, PyArrayDyn<f64>> {
+    let out = PyArrayDyn::zeros(py, dims, false);
+    {
+        let mut w = out.readwrite();
+        out_slice(&mut w).copy_from_slice(values);
+    }
+    out
+}
+
+/// The ideal gyro output (angular rate of the body relative to inertial space) and accelerometer
+/// output (specific force), both resolved in the body, for a (batched) body motion relative to
+/// the inertial frame: `(angular_rate, specific_force)`, arrays `(..., 3)`.
+#[pyfunction]
+#[pyo3(signature = (body_motion, *, model=None, gravity="normal"))]
+pub fn ideal_imu<'py>(
+    py: Python<'py>,
+    body_motion: &Bound<'py, PyFrameMotion>,
+    model: Option<&Bound<'py, PyEarthModel>>,
+    gravity: &str,
+) -> PyResult<Bound<'py, PyTuple>> {
+    let model = model_or_default(model);
+    let gravity = gravity_model(gravity)?;
+    let motion = body_motion.get();
+    check_inertial(motion, "body_motion")?;
+    let n = motion.motions.len();
+    let mut values = vec![0.0; 6 * n];
+    let result = run(py, n, |i| {
+        let s = nav::ideal_imu(&model, gravity, &motion.motions.get(i).assume_frames::<Eci, AnyFrame>())?;
+        values[6 * i..6 * i + 3].copy_from_slice(s.angular_rate.as_slice());
+        values[6 * i + 3..6 * i + 6].copy_from_slice(s.specific_force.as_slice());
+        Ok(())
+    });
+    result.map_err(|f| {
+        let context = if motion.shape.is_empty() { String::new() } else { format!("(at batch index {})", f.index) };
+        to_py(&f.error.with_quantity("body_motion position"), &context)
+    })?;
+    let (rate, force): (Vec<f64>, Vec<f64>) = split_pairs(&values);
+    let mut dims = motion.shape.clone();
+    dims.push(3);
+    PyTuple::new(py, [array_from(py, dims.clone(), &rate), array_from(py, dims, &force)])
+}
+
+/// Splits interleaved `[a(3), b(3)]` records into two flat vectors.
+fn split_pairs(values: &[f64]) -> (Vec<f64>, Vec<f64>) {
+    let mut a = Vec::with_capacity(values.len() / 2);
+    let mut b = Vec::with_capacity(values.len() / 2);
+    for chunk in values.chunks_exact(6) {
+        a.extend_from_slice(&chunk[..3]);
+        b.extend_from_slice(&chunk[3..]);
+    }
+    (a, b)
+}
+
+/// Strictly increasing, finite sample times as a vector, naming `name` on failure.
+fn sample_times(obj: &Bound<'_, PyAny>, name: &'static str, minimum: usize) -> PyResult<Vec<f64>> {
+    let mut op = Operand::extract(obj, name, &[])?;
+    let plan = Plan::for_operands(&mut [&mut op], &[])?;
+    if plan.shape.len() != 1 || plan.n < minimum {
+        return Err(ShapeError::new_err(format!(
+            "`{name}` must be a 1-D array of at least {minimum} times, got shape {:?}",
+            plan.shape
+        )));
+    }
+    let access = op.access(&plan);
+    let times: Vec<f64> = (0..plan.n).map(|i| access.scalar(i)).collect();
+    for (i, w) in times.windows(2).enumerate() {
+        if !(w[0].is_finite() && w[1].is_finite()) {
+            let bad = if w[0].is_finite() { i + 1 } else { i };
+            return Err(to_py(&rotaframe::Error::NonFinite { quantity: name }, &format!("(at index {bad})")));
+        }
+        if w[1] <= w[0] {
+            return Err(to_py(
+                &rotaframe::Error::Invalid { quantity: name, reason: "times must be strictly increasing" },
+                &format!("(at index {})", i + 1),
+            ));
+        }
+    }
+    Ok(times)
+}
+
+/// Intervals handed to the Python callable per call: bounds the memory of one batched motion
+/// (6 nodes × 19 numbers × 8 bytes ≈ 60 MB).
+const CHUNK_INTERVALS: usize = 65_536;
+
+/// Angle and velocity increments `(dtheta, dv, dt)` over the intervals between consecutive
+/// times `t` (1-D, strictly increasing) of a body whose motion relative to the inertial frame
+/// is `trajectory(times)`: a callable that takes a 1-D float64 array of times and returns a
+/// `FrameMotion` of the same length (or a single motion, for a body at rest in inertial space).
+/// The integrals use six Gauss–Legendre nodes per interval.
+#[pyfunction]
+#[pyo3(signature = (trajectory, t, *, model=None, gravity="normal"))]
+pub fn imu_increments<'py>(
+    py: Python<'py>,
+    trajectory: &Bound<'py, PyAny>,
+    t: &Bound<'py, PyAny>,
+    model: Option<&Bound<'py, PyEarthModel>>,
+    gravity: &str,
+) -> PyResult<Bound<'py, PyTuple>> {
+    let model = model_or_default(model);
+    let gravity = gravity_model(gravity)?;
+    let times = sample_times(t, "t", 2)?;
+    let intervals = times.len() - 1;
+    let mut increments = Vec::with_capacity(intervals);
+    for first in (0..intervals).step_by(CHUNK_INTERVALS) {
+        let last = (first + CHUNK_INTERVALS).min(intervals);
+        let nodes: Vec<f64> = (first..last).flat_map(|k| nav::quadrature_times(times[k], times[k + 1])).collect();
+        let m = nodes.len();
+        let result = trajectory.call1((numpy::PyArray1::from_vec(py, nodes),))?;
+        let motion = result.cast::<PyFrameMotion>().map_err(|_| {
+            pyo3::exceptions::PyTypeError::new_err(format!(
+                "`trajectory` must return a FrameMotion, got {}",
+                result.get_type().name().map_or_else(|_| "?".to_string(), |n| n.to_string())
+            ))
+        })?;
+        let motion = motion.get();
+        check_inertial(motion, "trajectory")?;
+        let count = motion.motions.len();
+        if !(motion.shape == [m] || motion.shape.is_empty()) {
+            return Err(ShapeError::new_err(format!(
+                "`trajectory` was called with {m} times and must return a FrameMotion of shape ({m},) or (), got {:?}",
+                motion.shape
+            )));
+        }
+        let chunk: Result<Vec<ImuIncrement>, Failure> = py.detach(|| {
+            (first..last)
+                .map(|k| {
+                    let base = (k - first) * nav::QUADRATURE_NODES;
+                    let mut samples = [ImuSample::default(); nav::QUADRATURE_NODES];
+                    for (j, s) in samples.iter_mut().enumerate() {
+                        let motion = motion.motions.get(if count == 1 { 0 } else { base + j }).assume_frames::<Eci, AnyFrame>();
+                        *s = nav::ideal_imu(&model, gravity, &motion).map_err(|error| Failure { index: k, error })?;
+                    }
+                    Ok(nav::increment_from_node_samples(times[k], times[k + 1], &samples))
+                })
+                .collect()
+        });
+        let chunk =
+            chunk.map_err(|f| to_py(&f.error.with_quantity("trajectory position"), &format!("(interval {})", f.index)))?;
+        increments.extend(chunk);
+    }
+    increments_tuple(py, &increments)
+}
+
+/// `(dtheta (N, 3), dv (N, 3), dt (N,))` arrays from increments.
+fn increments_tuple<'py>(py: Python<'py>, increments: &[ImuIncrement]) -> PyResult<Bound<'py, PyTuple>> {
+    let n = increments.len();
+    let dtheta: Vec<f64> = increments.iter().flat_map(|i| i.delta_angle.iter().copied().collect::<Vec<_>>()).collect();
+    let dv: Vec<f64> = increments.iter().flat_map(|i| i.delta_velocity.iter().copied().collect::<Vec<_>>()).collect();
+    let dt: Vec<f64> = increments.iter().map(|i| i.interval).collect();
+    PyTuple::new(py, [array_from(py, vec![n, 3], &dtheta), array_from(py, vec![n, 3], &dv), array_from(py, vec![n], &dt)])
+}
+
+/// A recorded log held as Python-side arrays, converted to radians once.
+struct Log {
+    times: Vec<f64>,
+    positions: Vec<Geodetic>,
+    attitudes: Vec<[f64; 4]>,
+}
+
+impl SampleSource for Log {
+    fn len(&self) -> usize {
+        self.times.len()
+    }
+    fn sample(&self, index: usize) -> RecordedSample {
+        RecordedSample { time: self.times[index], position: self.positions[index], attitude: self.attitudes[index] }
+    }
+    fn time(&self, index: usize) -> f64 {
+        self.times[index]
+    }
+}
+
+/// Reads and checks a log `(t, lat, lon, h, attitude)` into a recorded trajectory.
+#[allow(clippy::too_many_arguments)]
+fn recorded<'py>(
+    t: &Bound<'py, PyAny>,
+    lat: &Bound<'py, PyAny>,
+    lon: &Bound<'py, PyAny>,
+    h: &Bound<'py, PyAny>,
+    attitude: &Bound<'py, PyAny>,
+    model: earth::EarthModel,
+    degrees: bool,
+) -> PyResult<RecordedTrajectory<Log>> {
+    let times = sample_times(t, "t", 3)?;
+    let n = times.len();
+    let mut ops = [Operand::extract(lat, "lat", &[])?, Operand::extract(lon, "lon", &[])?, Operand::extract(h, "h", &[])?];
+    let mut q = Operand::extract(attitude, "attitude", &[4])?;
+    let plan = {
+        let [a, b, c] = &mut ops;
+        Plan::for_operands(&mut [a, b, c, &mut q], &[("t", &[n])])?
+    };
+    if plan.shape != [n] {
+        return Err(ShapeError::new_err(format!(
+            "the log arrays must broadcast to the length of `t` ({n},), got {:?}",
+            plan.shape
+        )));
+    }
+    let s = angle_scale(degrees);
+    let acc: Vec<_> = ops.iter().map(|o| o.access(&plan)).collect();
+    let qa = q.access(&plan);
+    let positions = (0..n).map(|i| Geodetic::new(acc[0].scalar(i) * s, acc[1].scalar(i) * s, acc[2].scalar(i))).collect();
+    let attitudes = (0..n).map(|i| <[f64; 4]>::try_from(qa.slice(i)).unwrap_or([f64::NAN; 4])).collect();
+    RecordedTrajectory::new(model, Log { times, positions, attitudes }).map_err(|e| {
+        let lat_in = acc[0].scalar(e.index);
+        let named = python_error(e.error, degrees, lat_in);
+        let refs: Vec<&Operand<'_>> = ops.iter().chain(std::iter::once(&q)).collect();
+        if named.quantity() == "time" {
+            to_py(&named.with_quantity("t"), &format!("(at index {})", e.index))
+        } else {
+            failure_to_py(&Failure { index: e.index, error: named }, &plan, &refs)
+        }
+    })
+}
+
+/// Angle and velocity increments `(dtheta, dv, dt)` from a recorded log: times `t` (1-D),
+/// geodetic positions `lat`, `lon`, `h` and body-to-NED attitude quaternions `(N, 4)`. The log
+/// is interpolated by quintic Hermite polynomials (see the core's `nav::recorded`); the
+/// increments are taken over the intervals between `times` (default: the log's own times),
+/// which must lie within the log.
+#[pyfunction]
+#[pyo3(signature = (t, lat, lon, h, attitude, *, times=None, model=None, gravity="normal", degrees=false))]
+#[allow(clippy::too_many_arguments)]
+pub fn imu_increments_from_samples<'py>(
+    py: Python<'py>,
+    t: &Bound<'py, PyAny>,
+    lat: &Bound<'py, PyAny>,
+    lon: &Bound<'py, PyAny>,
+    h: &Bound<'py, PyAny>,
+    attitude: &Bound<'py, PyAny>,
+    times: Option<&Bound<'py, PyAny>>,
+    model: Option<&Bound<'py, PyEarthModel>>,
+    gravity: &str,
+    degrees: bool,
+) -> PyResult<Bound<'py, PyTuple>> {
+    let model = model_or_default(model);
+    let gravity = gravity_model(gravity)?;
+    let mut path = recorded(t, lat, lon, h, attitude, model, degrees)?;
+    let grid = match times {
+        Some(obj) => sample_times(obj, "times", 2)?,
+        None => path.source().times.clone(),
+    };
+    let result: Result<Vec<ImuIncrement>, rotaframe::BatchError> =
+        py.detach(|| nav::imu_increments(&model, gravity, |s| path.inertial_motion_at::<AnyFrame>(s), &grid).collect());
+    let increments = result.map_err(|e| {
+        let named = if e.error.quantity() == "time" { e.error.with_quantity("times") } else { e.error };
+        to_py(&named, &format!("(interval {})", e.index))
+    })?;
+    increments_tuple(py, &increments)
+}
+
+/// The body's motion relative to ECEF (labels "ecef" → "body") interpolated from a recorded
+/// log at `times` (1-D, within the log): position, velocity, acceleration, attitude, angular
+/// velocity and angular acceleration, as `imu_increments_from_samples` uses them.
+#[pyfunction]
+#[pyo3(signature = (t, lat, lon, h, attitude, times, *, model=None, degrees=false))]
+#[allow(clippy::too_many_arguments)]
+pub fn motion_from_samples<'py>(
+    py: Python<'py>,
+    t: &Bound<'py, PyAny>,
+    lat: &Bound<'py, PyAny>,
+    lon: &Bound<'py, PyAny>,
+    h: &Bound<'py, PyAny>,
+    attitude: &Bound<'py, PyAny>,
+    times: &Bound<'py, PyAny>,
+    model: Option<&Bound<'py, PyEarthModel>>,
+    degrees: bool,
+) -> PyResult<PyFrameMotion> {
+    let model = model_or_default(model);
+    let mut path = recorded(t, lat, lon, h, attitude, model, degrees)?;
+    let mut op = Operand::extract(times, "times", &[])?;
+    let plan = Plan::for_operands(&mut [&mut op], &[])?;
+    let access = op.access(&plan);
+    let mut motions = vec![Motion::identity(); plan.n];
+    let result = run(py, plan.n, |i| {
+        motions[i] = path.motion_at::<AnyFrame>(access.scalar(i)).map_err(|e| e.with_quantity("times"))?.erase_frames();
+        Ok(())
+    });
+    result.map_err(|f| failure_to_py(&f, &plan, &[&op]))?;
+    Ok(PyFrameMotion::new_batch(motions, plan.shape, Some("ecef".into()), Some("body".into())))
+}
+
+/// The state after every step of `Strapdown.run`: arrays `lat`, `lon` (radians, or degrees if
+/// the stepper was made with `degrees=True`), `h`, `v_ned` `(N, 3)`, `attitude` `(N, 4)` and
+/// `t`, the time since the initial state.
+#[pyclass(frozen, name = "StrapdownHistory", module = "rotaframe._native")]
+#[derive(Debug)]
+pub struct PyStrapdownHistory {
+    #[pyo3(get)]
+    lat: Py<PyArrayDyn<f64>>,
+    #[pyo3(get)]
+    lon: Py<PyArrayDyn<f64>>,
+    #[pyo3(get)]
+    h: Py<PyArrayDyn<f64>>,
+    #[pyo3(get)]
+    v_ned: Py<PyArrayDyn<f64>>,
+    #[pyo3(get)]
+    attitude: Py<PyArrayDyn<f64>>,
+    #[pyo3(get)]
+    t: Py<PyArrayDyn<f64>>,
+    len: usize,
+}
+
+#[pymethods]
+impl PyStrapdownHistory {
+    fn __len__(&self) -> usize {
+        self.len
+    }
+
+    fn __repr__(&self) -> String {
+        format!("StrapdownHistory({} steps; fields lat, lon, h, v_ned, attitude, t)", self.len)
+    }
+}
+
+/// Parses `frame`, `vertical` and `height_time_constant`.
+fn strapdown_config(
+    model: earth::EarthModel,
+    frame: &str,
+    gravity: &str,
+    vertical: &str,
+    height_time_constant: Option<f64>,
+) -> PyResult<StrapdownConfig> {
+    let frame = match frame {
+        "ned" => NavFrame::Ned,
+        "ecef" => NavFrame::Ecef,
+        other => return Err(RotaframeError::new_err(format!("`frame` must be \"ned\" or \"ecef\", got {other:?}"))),
+    };
+    let vertical = match (vertical, height_time_constant) {
+        ("free", None) => VerticalChannel::Free,
+        ("hold", None) => VerticalChannel::Hold,
+        ("aided", Some(time_constant)) => VerticalChannel::Aided { time_constant },
+        ("aided", None) => return Err(RotaframeError::new_err("`vertical=\"aided\"` needs `height_time_constant` (s)")),
+        ("free" | "hold", Some(_)) => {
+            return Err(RotaframeError::new_err("`height_time_constant` applies only to `vertical=\"aided\"`"));
+        }
+        (other, _) => {
+            return Err(RotaframeError::new_err(format!("`vertical` must be \"free\", \"hold\" or \"aided\", got {other:?}")));
+        }
+    };
+    let config = StrapdownConfig { earth: model, gravity: gravity_model(gravity)?, vertical, frame };
+    config.validate().map_err(|e| nav_error(e, false, 0.0, ""))?;
+    Ok(config)
+}
+
+/// One scalar or 3-vector argument without batch axes.
+fn single(obj: &Bound<'_, PyAny>, name: &'static str, core: &[usize]) -> PyResult<Vec<f64>> {
+    let mut op = Operand::extract(obj, name, core)?;
+    let plan = Plan::for_operands(&mut [&mut op], &[])?;
+    if !plan.shape.is_empty() {
+        return Err(ShapeError::new_err(format!("`{name}` must have shape {core:?} here, got batch shape {:?}", plan.shape)));
+    }
+    Ok(op.access(&plan).slice(0).to_vec())
+}
+
+/// A strapdown inertial navigator: position, velocity and attitude on the rotating Earth from
+/// gyro angle increments and accelerometer velocity increments.
+///
+/// `frame="ned"` integrates latitude, longitude, height and NED velocity (singular at the
+/// poles: raises `NearPoleError` there); `frame="ecef"` integrates Earth-fixed Cartesian
+/// position and velocity (no singularity). Both report the same quantities. `attitude` is the
+/// body-to-NED quaternion (w, x, y, z). `vertical` is "free" (pure inertial height, unstable
+/// over tens of minutes), "hold" (height set to the reference after every step) or "aided"
+/// (a second-order loop to the reference with time constant `height_time_constant`, s); set
+/// the reference with `set_height_reference` or per step in `run`.
+///
+/// Not certified for safety-of-life navigation; validate against your own requirements.
+#[pyclass(name = "Strapdown", module = "rotaframe._native")]
+#[derive(Debug)]
+pub struct PyStrapdown {
+    inner: Strapdown,
+    degrees: bool,
+    model: Py<PyEarthModel>,
+}
+
+impl PyStrapdown {
+    fn angle_out(&self, radians: f64) -> f64 {
+        if self.degrees { radians.to_degrees() } else { radians }
+    }
+
+    fn vertical_name(&self) -> (&'static str, Option<f64>) {
+        match self.inner.config().vertical {
+            VerticalChannel::Free => ("free", None),
+            VerticalChannel::Hold => ("hold", None),
+            VerticalChannel::Aided { time_constant } => ("aided", Some(time_constant)),
+        }
+    }
+
+    fn increment(dtheta: &Bound<'_, PyAny>, dv: &Bound<'_, PyAny>, dt: &Bound<'_, PyAny>) -> PyResult<ImuIncrement> {
+        let (a, v, t) = (single(dtheta, "dtheta", &[3])?, single(dv, "dv", &[3])?, single(dt, "dt", &[])?);
+        Ok(ImuIncrement::new(Vector3::from_column_slice(&a), Vector3::from_column_slice(&v), t[0]))
+    }
+}
+
+#[pymethods]
+impl PyStrapdown {
+    #[new]
+    #[pyo3(signature = (lat, lon, h, v_ned, attitude, *, frame="ned", model=None, degrees=false, gravity="normal", vertical="free", height_time_constant=None))]
+    #[allow(clippy::too_many_arguments)]
+    fn py_new(
+        py: Python<'_>,
+        lat: f64,
+        lon: f64,
+        h: f64,
+        v_ned: &Bound<'_, PyAny>,
+        attitude: &Bound<'_, PyAny>,
+        frame: &str,
+        model: Option<&Bound<'_, PyEarthModel>>,
+        degrees: bool,
+        gravity: &str,
+        vertical: &str,
+        height_time_constant: Option<f64>,
+    ) -> PyResult<Self> {
+        let earth_model = model_or_default(model);
+        let config = strapdown_config(earth_model, frame, gravity, vertical, height_time_constant)?;
+        let v = single(v_ned, "v_ned", &[3])?;
+        let q = single(attitude, "attitude", &[4])?;
+        let s = angle_scale(degrees);
+        let q = quaternion(&q, "attitude").map_err(|e| nav_error(e, degrees, lat, ""))?;
+        let start = NavState::new(Geodetic::new(lat * s, lon * s, h), Vector3::from_column_slice(&v), q);
+        let inner = Strapdown::new(config, &start).map_err(|e| nav_error(e, degrees, lat, ""))?;
+        let model = match model {
+            Some(m) => m.clone().unbind(),
+            None => Py::new(py, PyEarthModel::preset(earth::WGS84, "WGS84"))?,
+        };
+        Ok(Self { inner, degrees, model })
+    }
+
+    /// Advances the state by one increment: `dtheta` (3,) rad, `dv` (3,) m/s over `dt` s,
+    /// setting the height reference first if `height_reference` is given. On error the state
+    /// is unchanged.
+    #[pyo3(signature = (dtheta, dv, dt, *, height_reference=None))]
+    fn step(
+        &mut self,
+        dtheta: &Bound<'_, PyAny>,
+        dv: &Bound<'_, PyAny>,
+        dt: &Bound<'_, PyAny>,
+        height_reference: Option<f64>,
+    ) -> PyResult<()> {
+        let increment = Self::increment(dtheta, dv, dt)?;
+        let before = self.inner;
+        let lat = self.lat();
+        if let Some(h) = height_reference {
+            self.inner.set_height_reference(h).map_err(|e| nav_error(e, false, 0.0, ""))?;
+        }
+        self.inner.step(&increment).map_err(|e| {
+            self.inner = before;
+            nav_error(e, self.degrees, lat, "")
+        })
+    }
+
+    /// Runs every increment in turn: `dtheta` and `dv` `(N, 3)`, `dt` a number or `(N,)`,
+    /// `height_reference` None, a number or `(N,)` (set before each step). Returns the state
+    /// after every step as a `StrapdownHistory`. On error nothing is returned and the stepper
+    /// is where it started.
+    #[pyo3(signature = (dtheta, dv, dt, *, height_reference=None))]
+    fn run<'py>(
+        &mut self,
+        py: Python<'py>,
+        dtheta: &Bound<'py, PyAny>,
+        dv: &Bound<'py, PyAny>,
+        dt: &Bound<'py, PyAny>,
+        height_reference: Option<&Bound<'py, PyAny>>,
+    ) -> PyResult<PyStrapdownHistory> {
+        let mut a = Operand::extract(dtheta, "dtheta", &[3])?;
+        let mut v = Operand::extract(dv, "dv", &[3])?;
+        let mut t = Operand::extract(dt, "dt", &[])?;
+        let mut href = match height_reference {
+            Some(obj) => Some(Operand::extract(obj, "height_reference", &[])?),
+            None => None,
+        };
+        let plan = match href.as_mut() {
+            Some(h) => Plan::for_operands(&mut [&mut a, &mut v, &mut t, h], &[])?,
+            None => Plan::for_operands(&mut [&mut a, &mut v, &mut t], &[])?,
+        };
+        if plan.shape.len() != 1 {
+            return Err(ShapeError::new_err(format!(
+                "`run` takes one increment per row, `dtheta` and `dv` of shape (N, 3); got batch shape {:?}",
+                plan.shape
+            )));
+        }
+        let n = plan.n;
+        let (aa, va, ta) = (a.access(&plan), v.access(&plan), t.access(&plan));
+        let increments: Vec<ImuIncrement> = (0..n).map(|i| ImuIncrement::new(aa.vec3(i), va.vec3(i), ta.scalar(i))).collect();
+        let heights: Option<Vec<f64>> = href.as_ref().map(|h| {
+            let access = h.access(&plan);
+            (0..n).map(|i| access.scalar(i)).collect()
+        });
+        let mut lat = vec![0.0; n];
+        let mut lon = vec![0.0; n];
+        let mut hh = vec![0.0; n];
+        let mut vel = vec![0.0; 3 * n];
+        let mut att = vec![0.0; 4 * n];
+        let mut time = vec![0.0; n];
+        let scale = if self.degrees { 180.0 / core::f64::consts::PI } else { 1.0 };
+        let start_lat = self.lat();
+        let inner = &mut self.inner;
+        let result = py.detach(|| {
+            let start = inner.elapsed();
+            let mut elapsed = start;
+            inner.run_each(&increments, heights.as_deref(), |k, s| {
+                lat[k] = s.position.latitude * scale;
+                lon[k] = s.position.longitude * scale;
+                hh[k] = s.position.height;
+                vel[3 * k..3 * k + 3].copy_from_slice(s.velocity_ned.as_slice());
+                att[4 * k..4 * k + 4].copy_from_slice(&quaternion_to_wxyz(&s.attitude));
+                elapsed += increments[k].interval;
+                time[k] = elapsed;
+            })
+        });
+        if let Err(e) = result {
+            let lat_at = if e.index == 0 { start_lat } else { lat[e.index - 1] };
+            let error = python_error(nav_name(e.error), self.degrees, lat_at);
+            let mut refs: Vec<&Operand<'_>> = vec![&a, &v, &t];
+            if let Some(h) = &href {
+                refs.push(h);
+            }
+            return Err(failure_to_py(&Failure { index: e.index, error }, &plan, &refs));
+        }
+        Ok(PyStrapdownHistory {
+            lat: array_from(py, vec![n], &lat).unbind(),
+            lon: array_from(py, vec![n], &lon).unbind(),
+            h: array_from(py, vec![n], &hh).unbind(),
+            v_ned: array_from(py, vec![n, 3], &vel).unbind(),
+            attitude: array_from(py, vec![n, 4], &att).unbind(),
+            t: array_from(py, vec![n], &time).unbind(),
+            len: n,
+        })
+    }
+
+    /// Sets the external ellipsoidal height reference (m) for `vertical="hold"` or `"aided"`.
+    fn set_height_reference(&mut self, height_reference: f64) -> PyResult<()> {
+        self.inner.set_height_reference(height_reference).map_err(|e| nav_error(e, false, 0.0, ""))
+    }
+
+    /// Forgets the previous increment (after a data gap), so that the next step applies no
+    /// two-sample coning and sculling corrections.
+    fn reset_history(&mut self) {
+        self.inner.reset_history();
+    }
+
+    /// Latitude (radians, or degrees with `degrees=True`).
+    #[getter]
+    fn lat(&self) -> f64 {
+        self.angle_out(self.inner.state().position.latitude)
+    }
+
+    /// Longitude (radians, or degrees with `degrees=True`), in (−180°, 180°].
+    #[getter]
+    fn lon(&self) -> f64 {
+        self.angle_out(self.inner.state().position.longitude)
+    }
+
+    /// Ellipsoidal height (m).
+    #[getter]
+    fn h(&self) -> f64 {
+        self.inner.state().position.height
+    }
+
+    /// Velocity relative to the Earth, resolved in NED (m/s), shape (3,).
+    #[getter]
+    fn v_ned<'py>(&self, py: Python<'py>) -> Bound<'py, PyArrayDyn<f64>> {
+        array_from(py, vec![3], self.inner.state().velocity_ned.as_slice())
+    }
+
+    /// Body-to-NED attitude quaternion (w, x, y, z), shape (4,).
+    #[getter]
+    fn attitude<'py>(&self, py: Python<'py>) -> Bound<'py, PyArrayDyn<f64>> {
+        array_from(py, vec![4], &quaternion_to_wxyz(&self.inner.state().attitude))
+    }
+
+    /// ECEF position (m), shape (3,).
+    #[getter]
+    fn position_ecef<'py>(&self, py: Python<'py>) -> PyResult<Bound<'py, PyArrayDyn<f64>>> {
+        let r = earth::geodetic_to_ecef(&self.inner.config().earth, &self.inner.state().position).map_err(|e| to_py(&e, ""))?;
+        Ok(array_from(py, vec![3], r.as_slice()))
+    }
+
+    /// Time since the initial state (s): the sum of the intervals stepped.
+    #[getter]
+    fn elapsed(&self) -> f64 {
+        self.inner.elapsed()
+    }
+
+    /// The mechanization: "ned" or "ecef".
+    #[getter]
+    fn frame(&self) -> &'static str {
+        match self.inner.config().frame {
+            NavFrame::Ecef => "ecef",
+            _ => "ned",
+        }
+    }
+
+    /// The gravity model: "normal" or "j2".
+    #[getter]
+    fn gravity(&self) -> &'static str {
+        gravity_name(self.inner.config().gravity)
+    }
+
+    /// The vertical channel: "free", "hold" or "aided".
+    #[getter]
+    fn vertical(&self) -> &'static str {
+        self.vertical_name().0
+    }
+
+    /// Whether angles are given and reported in degrees.
+    #[getter]
+    fn degrees(&self) -> bool {
+        self.degrees
+    }
+
+    /// The Earth model.
+    #[getter]
+    fn model(&self, py: Python<'_>) -> Py<PyEarthModel> {
+        self.model.clone_ref(py)
+    }
+
+    /// An independent copy (same state, same memory of the previous increment).
+    fn copy(&self, py: Python<'_>) -> Self {
+        Self { inner: self.inner, degrees: self.degrees, model: self.model.clone_ref(py) }
+    }
+
+    fn __copy__(&self, py: Python<'_>) -> Self {
+        self.copy(py)
+    }
+
+    fn __deepcopy__(&self, py: Python<'_>, _memo: &Bound<'_, PyAny>) -> Self {
+        self.copy(py)
+    }
+
+    fn __repr__(&self) -> String {
+        let s = self.inner.state();
+        let unit = if self.degrees { "deg" } else { "rad" };
+        format!(
+            "Strapdown(frame={:?}, lat={} {unit}, lon={} {unit}, h={} m, v_ned={:?} m/s, elapsed={} s)",
+            self.frame(),
+            self.angle_out(s.position.latitude),
+            self.angle_out(s.position.longitude),
+            s.position.height,
+            s.velocity_ned.as_slice(),
+            self.inner.elapsed()
+        )
+    }
+
+    /// Pickling: the configuration, the mechanization's own state and its step memory.
+    fn __reduce__<'py>(&self, py: Python<'py>) -> PyResult<(Bound<'py, PyAny>, Bound<'py, PyTuple>)> {
+        let rebuild = py.import("rotaframe._native")?.getattr("_strapdown_from_parts")?;
+        let (config, state, memory) = self.inner.parts();
+        let state: Vec<f64> = match state {
+            MechanizationState::Ned { position, velocity_ned, attitude } => {
+                [position.latitude, position.longitude, position.height]
+                    .into_iter()
+                    .chain(velocity_ned.iter().copied())
+                    .chain(quaternion_to_wxyz(&attitude))
+                    .collect()
+            }
+            MechanizationState::Ecef { position_ecef, velocity_ecef, attitude_ecef } => position_ecef
+                .iter()
+                .copied()
+                .chain(velocity_ecef.iter().copied())
+                .chain(quaternion_to_wxyz(&attitude_ecef))
+                .collect(),
+        };
+        let previous: Option<Vec<f64>> =
+            memory.previous.map(|p| p.delta_angle.iter().chain(p.delta_velocity.iter()).copied().chain([p.interval]).collect());
+        let (vertical, tau) = self.vertical_name();
+        let args = (
+            self.model.clone_ref(py),
+            self.frame(),
+            gravity_name(config.gravity),
+            vertical,
+            tau,
+            self.degrees,
+            state,
+            previous,
+            memory.height_reference,
+            memory.elapsed,
+        );
+        Ok((rebuild, args.into_pyobject(py)?))
+    }
+}
+
+/// Rebuilds a pickled `Strapdown`.
+#[pyfunction]
+#[allow(clippy::too_many_arguments)]
+pub fn _strapdown_from_parts(
+    model: Bound<'_, PyEarthModel>,
+    frame: &str,
+    gravity: &str,
+    vertical: &str,
+    height_time_constant: Option<f64>,
+    degrees: bool,
+    state: Vec<f64>,
+    previous: Option<Vec<f64>>,
+    height_reference: f64,
+    elapsed: f64,
+) -> PyResult<PyStrapdown> {
+    let config = strapdown_config(model.get().inner, frame, gravity, vertical, height_time_constant)?;
+    if state.len() != 10 || previous.as_ref().is_some_and(|p| p.len() != 7) {
+        return Err(RotaframeError::new_err("corrupt Strapdown pickle"));
+    }
+    let v3 = |s: &[f64]| Vector3::new(s[0], s[1], s[2]);
+    let q = UnitQuaternion::new_unchecked(rotaframe::nalgebra::Quaternion::new(state[6], state[7], state[8], state[9]));
+    let state = match config.frame {
+        NavFrame::Ecef => {
+            MechanizationState::Ecef { position_ecef: v3(&state[0..3]), velocity_ecef: v3(&state[3..6]), attitude_ecef: q }
+        }
+        _ => MechanizationState::Ned {
+            position: Geodetic::new(state[0], state[1], state[2]),
+            velocity_ned: v3(&state[3..6]),
+            attitude: q,
+        },
+    };
+    let previous = previous.map(|p| ImuIncrement::new(v3(&p[0..3]), v3(&p[3..6]), p[6]));
+    let inner =
+        Strapdown::from_parts(config, state, StepMemory { previous, height_reference, elapsed }).map_err(|e| to_py(&e, ""))?;
+    Ok(PyStrapdown { inner, degrees, model: model.unbind() })
+}
+
+/// A per-axis 3-vector argument (a number broadcasts to all three axes).
+fn axes(obj: Option<&Bound<'_, PyAny>>, name: &'static str, scale: f64) -> PyResult<Vector3<f64>> {
+    match obj {
+        None => Ok(Vector3::zeros()),
+        Some(o) => Ok(Vector3::from_column_slice(&single(o, name, &[3])?) * scale),
+    }
+}
+
+/// Seeded IMU sensor errors for simulation: per-axis bias, scale factor, misalignment (3×3,
+/// zero diagonal), white noise (gyro angle random walk in deg/√h, accelerometer velocity random
+/// walk in m/s/√h) and a first-order Gauss–Markov bias (steady-state sigma, correlation time).
+/// Gyro quantities in rad/s, accelerometer quantities in m/s², times in s. The same seed gives
+/// the same numbers.
+#[pyclass(name = "ImuErrors", module = "rotaframe._native")]
+#[derive(Debug)]
+pub struct PyImuErrors {
+    inner: ImuErrorGenerator,
+    seed: u64,
+}
+
+#[pymethods]
+impl PyImuErrors {
+    #[new]
+    #[pyo3(signature = (*, gyro_bias=None, gyro_scale_factor=None, gyro_misalignment=None, gyro_arw_deg_per_sqrt_h=None, gyro_markov_sigma=None, gyro_markov_time=None, accel_bias=None, accel_scale_factor=None, accel_misalignment=None, accel_vrw_mps_per_sqrt_h=None, accel_markov_sigma=None, accel_markov_time=None, seed=0))]
+    #[allow(clippy::too_many_arguments)]
+    fn py_new(
+        gyro_bias: Option<&Bound<'_, PyAny>>,
+        gyro_scale_factor: Option<&Bound<'_, PyAny>>,
+        gyro_misalignment: Option<&Bound<'_, PyAny>>,
+        gyro_arw_deg_per_sqrt_h: Option<&Bound<'_, PyAny>>,
+        gyro_markov_sigma: Option<&Bound<'_, PyAny>>,
+        gyro_markov_time: Option<&Bound<'_, PyAny>>,
+        accel_bias: Option<&Bound<'_, PyAny>>,
+        accel_scale_factor: Option<&Bound<'_, PyAny>>,
+        accel_misalignment: Option<&Bound<'_, PyAny>>,
+        accel_vrw_mps_per_sqrt_h: Option<&Bound<'_, PyAny>>,
+        accel_markov_sigma: Option<&Bound<'_, PyAny>>,
+        accel_markov_time: Option<&Bound<'_, PyAny>>,
+        seed: u64,
+    ) -> PyResult<Self> {
+        let matrix = |obj: Option<&Bound<'_, PyAny>>, name| -> PyResult<Matrix3<f64>> {
+            match obj {
+                None => Ok(Matrix3::zeros()),
+                Some(o) => Ok(Matrix3::from_row_slice(&single(o, name, &[3, 3])?)),
+            }
+        };
+        let time = |obj: Option<&Bound<'_, PyAny>>, name| -> PyResult<Vector3<f64>> {
+            match obj {
+                None => Ok(Vector3::repeat(f64::INFINITY)),
+                Some(o) => axes(Some(o), name, 1.0),
+            }
+        };
+        let arw = nav::angle_random_walk_from_deg_per_sqrt_hour(1.0);
+        let vrw = nav::velocity_random_walk_from_mps_per_sqrt_hour(1.0);
+        let gyro = SensorErrorModel {
+            bias: axes(gyro_bias, "gyro_bias", 1.0)?,
+            scale_factor: axes(gyro_scale_factor, "gyro_scale_factor", 1.0)?,
+            misalignment: matrix(gyro_misalignment, "gyro_misalignment")?,
+            noise_density: axes(gyro_arw_deg_per_sqrt_h, "gyro_arw_deg_per_sqrt_h", arw)?,
+            markov_sigma: axes(gyro_markov_sigma, "gyro_markov_sigma", 1.0)?,
+            markov_time: time(gyro_markov_time, "gyro_markov_time")?,
+        };
+        let accelerometer = SensorErrorModel {
+            bias: axes(accel_bias, "accel_bias", 1.0)?,
+            scale_factor: axes(accel_scale_factor, "accel_scale_factor", 1.0)?,
+            misalignment: matrix(accel_misalignment, "accel_misalignment")?,
+            noise_density: axes(accel_vrw_mps_per_sqrt_h, "accel_vrw_mps_per_sqrt_h", vrw)?,
+            markov_sigma: axes(accel_markov_sigma, "accel_markov_sigma", 1.0)?,
+            markov_time: time(accel_markov_time, "accel_markov_time")?,
+        };
+        let inner = ImuErrorGenerator::new(ImuErrorModel { gyro, accelerometer }, seed).map_err(|e| to_py(&nav_name(e), ""))?;
+        Ok(Self { inner, seed })
+    }
+
+    /// The measured increments for ideal ones: `dtheta`, `dv` `(N, 3)` (or `(3,)`), `dt` a
+    /// number or `(N,)`; returns `(dtheta, dv)` of the same shape. Advances the random stream
+    /// and the Gauss–Markov states one interval per row. On error nothing advances.
+    fn apply<'py>(
+        &mut self,
+        py: Python<'py>,
+        dtheta: &Bound<'py, PyAny>,
+        dv: &Bound<'py, PyAny>,
+        dt: &Bound<'py, PyAny>,
+    ) -> PyResult<Bound<'py, PyTuple>> {
+        let mut a = Operand::extract(dtheta, "dtheta", &[3])?;
+        let mut v = Operand::extract(dv, "dv", &[3])?;
+        let mut t = Operand::extract(dt, "dt", &[])?;
+        let plan = Plan::for_operands(&mut [&mut a, &mut v, &mut t], &[])?;
+        if plan.shape.len() > 1 {
+            return Err(ShapeError::new_err(format!(
+                "`apply` takes rows of increments, (N, 3); got batch shape {:?}",
+                plan.shape
+            )));
+        }
+        let n = plan.n;
+        let (aa, va, ta) = (a.access(&plan), v.access(&plan), t.access(&plan));
+        let mut trial = self.inner.clone();
+        let mut out_a = vec![0.0; 3 * n];
+        let mut out_v = vec![0.0; 3 * n];
+        let result = run(py, n, |i| {
+            let m = trial.corrupt(&ImuIncrement::new(aa.vec3(i), va.vec3(i), ta.scalar(i)))?;
+            out_a[3 * i..3 * i + 3].copy_from_slice(m.delta_angle.as_slice());
+            out_v[3 * i..3 * i + 3].copy_from_slice(m.delta_velocity.as_slice());
+            Ok(())
+        });
+        result.map_err(|f| failure_to_py(&Failure { index: f.index, error: nav_name(f.error) }, &plan, &[&a, &v, &t]))?;
+        self.inner = trial;
+        let mut dims = plan.shape.clone();
+        dims.push(3);
+        PyTuple::new(py, [array_from(py, dims.clone(), &out_a), array_from(py, dims, &out_v)])
+    }
+
+    /// The seed the random stream started from.
+    #[getter]
+    fn seed(&self) -> u64 {
+        self.seed
+    }
+
+    /// Current Gauss–Markov bias states `(gyro (3,) rad/s, accel (3,) m/s²)`.
+    #[getter]
+    fn markov_states<'py>(&self, py: Python<'py>) -> PyResult<Bound<'py, PyTuple>> {
+        let (g, a) = self.inner.markov_states();
+        PyTuple::new(py, [array_from(py, vec![3], g.as_slice()), array_from(py, vec![3], a.as_slice())])
+    }
+
+    fn __repr__(&self) -> String {
+        format!("ImuErrors(seed={})", self.seed)
+    }
+}
+
+/// Geodetic position and NED velocity `(lat, lon, h, v_ned)` of the point at `lever_arm` (m,
+/// resolved in the body) on vehicles with navigation states `(lat, lon, h, v_ned, attitude)`
+/// and gyro readings `angular_rate` (rad/s, body relative to inertial space, in body axes).
+/// Broadcasts over leading axes.
+#[pyfunction]
+#[pyo3(signature = (lat, lon, h, v_ned, attitude, angular_rate, lever_arm, *, model=None, degrees=false))]
+#[allow(clippy::too_many_arguments)]
+pub fn lever_arm_state<'py>(
+    py: Python<'py>,
+    lat: &Bound<'py, PyAny>,
+    lon: &Bound<'py, PyAny>,
+    h: &Bound<'py, PyAny>,
+    v_ned: &Bound<'py, PyAny>,
+    attitude: &Bound<'py, PyAny>,
+    angular_rate: &Bound<'py, PyAny>,
+    lever_arm: &Bound<'py, PyAny>,
+    model: Option<&Bound<'py, PyEarthModel>>,
+    degrees: bool,
+) -> PyResult<Bound<'py, PyTuple>> {
+    let model = model_or_default(model);
+    let mut ops = [
+        Operand::extract(lat, "lat", &[])?,
+        Operand::extract(lon, "lon", &[])?,
+        Operand::extract(h, "h", &[])?,
+        Operand::extract(v_ned, "v_ned", &[3])?,
+        Operand::extract(attitude, "attitude", &[4])?,
+        Operand::extract(angular_rate, "angular_rate", &[3])?,
+        Operand::extract(lever_arm, "lever_arm", &[3])?,
+    ];
+    let plan = {
+        let mut refs: Vec<&mut Operand<'py>> = ops.iter_mut().collect();
+        Plan::for_operands(&mut refs, &[])?
+    };
+    let n = plan.n;
+    let s = angle_scale(degrees);
+    let acc: Vec<_> = ops.iter().map(|o| o.access(&plan)).collect();
+    let (mut la, mut lo, mut hh, mut vel) = (vec![0.0; n], vec![0.0; n], vec![0.0; n], vec![0.0; 3 * n]);
+    let result = run(py, n, |i| {
+        let lat_in = acc[0].scalar(i);
+        let q = quaternion(acc[4].slice(i), "attitude")?;
+        let state = NavState::new(Geodetic::new(lat_in * s, acc[1].scalar(i) * s, acc[2].scalar(i)), acc[3].vec3(i), q);
+        let (p, v) = nav::lever_arm_state(&model, &state, &acc[5].vec3(i), &acc[6].vec3(i))
+            .map_err(|e| python_error(e, degrees, lat_in))?;
+        la[i] = p.latitude / s;
+        lo[i] = p.longitude / s;
+        hh[i] = p.height;
+        vel[3 * i..3 * i + 3].copy_from_slice(v.as_slice());
+        Ok(())
+    });
+    result.map_err(|f| {
+        let refs: Vec<&Operand<'_>> = ops.iter().collect();
+        failure_to_py(&f, &plan, &refs)
+    })?;
+    let scalar = |v: &[f64]| -> PyResult<Bound<'py, PyAny>> {
+        if plan.shape.is_empty() {
+            Ok(pyo3::types::PyFloat::new(py, v[0]).into_any())
+        } else {
+            Ok(array_from(py, plan.shape.clone(), v).into_any())
+        }
+    };
+    let mut vdims = plan.shape.clone();
+    vdims.push(3);
+    PyTuple::new(py, [scalar(&la)?, scalar(&lo)?, scalar(&hh)?, array_from(py, vdims, &vel).into_any()])
+}
