@@ -15,7 +15,6 @@ import argparse
 import os
 import subprocess
 import sys
-import time
 
 # One BLAS thread: on a two-core machine idle BLAS worker threads spin and steal the core the
 # measured code runs on (numpy links OpenBLAS even when no BLAS call is timed).
@@ -24,6 +23,7 @@ os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
 import numpy as np  # noqa: E402
 
 import rotaframe as rf  # noqa: E402
+from benchutil import best  # noqa: E402
 
 try:
     import numba
@@ -34,16 +34,6 @@ A, F = 6378137.0, 1 / 298.257223563
 E2 = F * (2 - F)
 B = A * (1 - F)
 EP2 = E2 / (1 - E2)
-
-
-def best(fn, repeat):
-    fn()  # warm-up (and numba compilation)
-    times = []
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t0)
-    return min(times)
 
 
 def floor(inputs, outputs_like):

@@ -87,6 +87,85 @@ typedef uint32_t rf_status;
 #endif // __cplusplus
 
 /**
+ * Gravity models for `rf_strapdown_config.gravity` and `rf_ideal_imu`.
+ */
+enum rf_gravity_model
+#if defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+  : uint32_t
+#endif // defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+ {
+  /**
+   * Normal gravity with the second-order height correction, along the ellipsoidal normal.
+   */
+  RF_GRAVITY_NORMAL = 0,
+  /**
+   * J2 gravitation plus the centrifugal term.
+   */
+  RF_GRAVITY_J2 = 1,
+};
+#ifndef __cplusplus
+#if __STDC_VERSION__ >= 202311L
+typedef enum rf_gravity_model rf_gravity_model;
+#else
+typedef uint32_t rf_gravity_model;
+#endif // __STDC_VERSION__ >= 202311L
+#endif // __cplusplus
+
+/**
+ * Mechanizations for `rf_strapdown_config.frame`.
+ */
+enum rf_nav_frame
+#if defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+  : uint32_t
+#endif // defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+ {
+  /**
+   * Local-level north-east-down (singular within 1e-6 rad of a pole).
+   */
+  RF_NAV_FRAME_NED = 0,
+  /**
+   * Earth-fixed Cartesian (regular everywhere).
+   */
+  RF_NAV_FRAME_ECEF = 1,
+};
+#ifndef __cplusplus
+#if __STDC_VERSION__ >= 202311L
+typedef enum rf_nav_frame rf_nav_frame;
+#else
+typedef uint32_t rf_nav_frame;
+#endif // __STDC_VERSION__ >= 202311L
+#endif // __cplusplus
+
+/**
+ * Vertical-channel treatments for `rf_strapdown_config.vertical`.
+ */
+enum rf_vertical_channel
+#if defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+  : uint32_t
+#endif // defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+ {
+  /**
+   * Pure inertial height (unstable over tens of minutes).
+   */
+  RF_VERTICAL_FREE = 0,
+  /**
+   * Height set to the external reference after every step.
+   */
+  RF_VERTICAL_HOLD = 1,
+  /**
+   * Second-order loop to the reference with time constant `height_time_constant`.
+   */
+  RF_VERTICAL_AIDED = 2,
+};
+#ifndef __cplusplus
+#if __STDC_VERSION__ >= 202311L
+typedef enum rf_vertical_channel rf_vertical_channel;
+#else
+typedef uint32_t rf_vertical_channel;
+#endif // __STDC_VERSION__ >= 202311L
+#endif // __cplusplus
+
+/**
  * The constants of a reference ellipsoid with its normal gravity field. Obtain one from
  * `rf_earth_model_wgs84`, `rf_earth_model_grs80`, `rf_earth_model_from_defining_constants` or
  * `rf_earth_model_custom`; functions validate it on every call.
@@ -259,6 +338,203 @@ typedef struct rf_apparent_terms {
    */
   struct rf_vec3 total;
 } rf_apparent_terms;
+
+/**
+ * Ideal gyro and accelerometer outputs at one instant, resolved in the body.
+ */
+typedef struct rf_imu_sample {
+  /**
+   * Angular velocity of the body relative to inertial space (rad/s).
+   */
+  struct rf_vec3 angular_rate;
+  /**
+   * Specific force: inertial acceleration minus gravitation (m/s²).
+   */
+  struct rf_vec3 specific_force;
+} rf_imu_sample;
+
+/**
+ * The output of an integrating IMU over one interval.
+ */
+typedef struct rf_imu_increment {
+  /**
+   * Integral of the angular rate over the interval, in body axes (rad).
+   */
+  struct rf_vec3 delta_angle;
+  /**
+   * Integral of the specific force over the interval, in body axes (m/s).
+   */
+  struct rf_vec3 delta_velocity;
+  /**
+   * Interval length (s), positive.
+   */
+  double interval;
+} rf_imu_increment;
+
+/**
+ * Signature of a trajectory callback for `rf_imu_increment_of_trajectory`: writes the body's
+ * motion relative to the inertial frame at `time` (s) to `out_motion` and returns
+ * `RF_STATUS_OK`, or any other status to abort.
+ */
+typedef rf_status (*rf_trajectory_fn)(void *context, double time, struct rf_frame_motion *out_motion);
+
+/**
+ * Settings of a strapdown stepper.
+ */
+typedef struct rf_strapdown_config {
+  /**
+   * The Earth model.
+   */
+  struct rf_earth_model earth;
+  /**
+   * An `rf_gravity_model` value.
+   */
+  uint32_t gravity;
+  /**
+   * An `rf_vertical_channel` value.
+   */
+  uint32_t vertical;
+  /**
+   * An `rf_nav_frame` value.
+   */
+  uint32_t frame;
+  /**
+   * Loop time constant (s) for `RF_VERTICAL_AIDED`; ignored otherwise.
+   */
+  double height_time_constant;
+} rf_strapdown_config;
+
+/**
+ * Position, velocity and attitude as every mechanization reports them.
+ */
+typedef struct rf_nav_state {
+  /**
+   * Geodetic position.
+   */
+  struct rf_geodetic position;
+  /**
+   * Velocity relative to the Earth, resolved in NED (m/s).
+   */
+  struct rf_vec3 velocity_ned;
+  /**
+   * Body-to-NED attitude quaternion.
+   */
+  struct rf_quat attitude;
+} rf_nav_state;
+
+/**
+ * The complete state of a strapdown stepper, as plain data. Create it with
+ * `rf_strapdown_init`; advance it with `rf_strapdown_step`; read it with `rf_strapdown_state`.
+ * The mechanization's own coordinates are kept: for NED `position` is (latitude, longitude,
+ * height), `velocity` the NED velocity and `attitude` body-to-NED; for ECEF `position` and
+ * `velocity` are ECEF vectors and `attitude` body-to-ECEF.
+ */
+typedef struct rf_strapdown {
+  /**
+   * Settings.
+   */
+  struct rf_strapdown_config config;
+  /**
+   * Position in the mechanization's coordinates.
+   */
+  struct rf_vec3 position;
+  /**
+   * Velocity relative to the Earth in the mechanization's axes (m/s).
+   */
+  struct rf_vec3 velocity;
+  /**
+   * Attitude: body to the mechanization's axes.
+   */
+  struct rf_quat attitude;
+  /**
+   * The previous step's increment, used for coning and sculling when `has_previous` is 1.
+   */
+  struct rf_imu_increment previous;
+  /**
+   * 1 if `previous` holds the previous step's increment, else 0.
+   */
+  uint32_t has_previous;
+  /**
+   * External ellipsoidal height reference (m) for the hold and aided vertical channels.
+   */
+  double height_reference;
+  /**
+   * Time since the initial state (s), rounded; `rf_strapdown_state` users add
+   * `elapsed_correction` for the exact sum.
+   */
+  double elapsed;
+  /**
+   * Rounding error of `elapsed` (s), carried by compensated summation.
+   */
+  double elapsed_correction;
+} rf_strapdown;
+
+/**
+ * Error model of one sensor triad (gyro units rad/s, accelerometer units m/s²).
+ */
+typedef struct rf_sensor_errors {
+  /**
+   * Fixed bias per axis.
+   */
+  struct rf_vec3 bias;
+  /**
+   * Scale-factor error per axis (dimensionless).
+   */
+  struct rf_vec3 scale_factor;
+  /**
+   * Misalignment matrix, row-major, zero diagonal (dimensionless).
+   */
+  double misalignment[9];
+  /**
+   * White-noise density per axis (rad/√s or m/s/√s; see `rf_angle_random_walk_si`).
+   */
+  struct rf_vec3 noise_density;
+  /**
+   * Gauss–Markov bias steady-state standard deviation per axis.
+   */
+  struct rf_vec3 markov_sigma;
+  /**
+   * Gauss–Markov correlation time per axis (s); positive, INFINITY for a random constant.
+   */
+  struct rf_vec3 markov_time;
+} rf_sensor_errors;
+
+/**
+ * Error models of both triads.
+ */
+typedef struct rf_imu_error_model {
+  /**
+   * Gyro triad.
+   */
+  struct rf_sensor_errors gyro;
+  /**
+   * Accelerometer triad.
+   */
+  struct rf_sensor_errors accelerometer;
+} rf_imu_error_model;
+
+/**
+ * A seeded IMU error generator's state, as plain data: the model, the Gauss–Markov states
+ * and the random stream (`stream`, opaque: do not modify). Create with `rf_imu_errors_init`.
+ */
+typedef struct rf_imu_errors {
+  /**
+   * The error model.
+   */
+  struct rf_imu_error_model model;
+  /**
+   * Gyro Gauss–Markov bias state (rad/s).
+   */
+  struct rf_vec3 gyro_markov;
+  /**
+   * Accelerometer Gauss–Markov bias state (m/s²).
+   */
+  struct rf_vec3 accelerometer_markov;
+  /**
+   * State of the xoshiro256++ random stream.
+   */
+  uint64_t stream[4];
+} rf_imu_errors;
 
 /**
  * z-y-x Euler angles (rad): body to local level `Rz(yaw) Ry(pitch) Rx(roll)`.
@@ -475,6 +751,93 @@ rf_status rf_apparent_terms_batch(const struct rf_vec3 *angular_velocity, const 
  * for the parent being inertial).
  */
 rf_status rf_apparent_of_motion(const struct rf_frame_motion *motion, const struct rf_point_kinematics *point, struct rf_apparent_terms *out_terms);
+
+/**
+ * The ideal gyro and accelerometer outputs of a body whose motion relative to the
+ * Earth-centred inertial frame is `body_in_inertial` (the caller vouches for the parent),
+ * with gravity model `gravity` (an `rf_gravity_model` value).
+ */
+rf_status rf_ideal_imu(const struct rf_earth_model *model, uint32_t gravity, const struct rf_frame_motion *body_in_inertial, struct rf_imu_sample *out_sample);
+
+/**
+ * Writes the six times in `[start, end]` at which to sample a trajectory for
+ * `rf_imu_increment_from_samples` (the Gauss–Legendre nodes, ascending).
+ */
+rf_status rf_quadrature_times(double start, double end, double *out_times);
+
+/**
+ * The increment over `[start, end]` from six ideal samples taken at `rf_quadrature_times`.
+ */
+rf_status rf_imu_increment_from_samples(double start, double end, const struct rf_imu_sample *samples, struct rf_imu_increment *out_increment);
+
+/**
+ * The ideal increment over `[start, end]` of a body whose motion relative to the inertial
+ * frame the callback `trajectory` writes for any time asked (six calls per interval). A
+ * status other than `RF_STATUS_OK` from the callback is returned as is.
+ */
+rf_status rf_imu_increment_of_trajectory(const struct rf_earth_model *model, uint32_t gravity, rf_trajectory_fn trajectory, void *context, double start, double end, struct rf_imu_increment *out_increment);
+
+/**
+ * A stepper at `initial` with settings `config`, written to `out_strapdown`.
+ */
+rf_status rf_strapdown_init(const struct rf_strapdown_config *config, const struct rf_nav_state *initial, struct rf_strapdown *out_strapdown);
+
+/**
+ * Advances `strapdown` by one increment. On error it is unchanged.
+ */
+rf_status rf_strapdown_step(struct rf_strapdown *strapdown, const struct rf_imu_increment *increment);
+
+/**
+ * Runs `count` increments; with `height_reference` (NULL allowed) element `k` is set as the
+ * height reference before step `k`. Writes the state after every step to `out_states`. On
+ * error neither `strapdown` nor `out_states` changes (the steps are run twice: once to check,
+ * once to write; call `rf_strapdown_step` in a loop where every cycle counts).
+ */
+rf_status rf_strapdown_run(struct rf_strapdown *strapdown, const struct rf_imu_increment *increments, const double *height_reference, size_t count, struct rf_nav_state *out_states);
+
+/**
+ * Sets the external ellipsoidal height reference (m) used from the next step on.
+ */
+rf_status rf_strapdown_set_height_reference(struct rf_strapdown *strapdown, double height_reference);
+
+/**
+ * Forgets the previous increment, so that the next step applies no coning and sculling
+ * corrections (after a data gap).
+ */
+rf_status rf_strapdown_reset_history(struct rf_strapdown *strapdown);
+
+/**
+ * The current geodetic position, NED velocity and body-to-NED attitude.
+ */
+rf_status rf_strapdown_state(const struct rf_strapdown *strapdown, struct rf_nav_state *out_state);
+
+/**
+ * Angle random walk in deg/√h converted to the white-noise density in rad/√s.
+ */
+double rf_angle_random_walk_si(double deg_per_sqrt_hour);
+
+/**
+ * Velocity random walk in m/s/√h converted to the white-noise density in m/s/√s.
+ */
+double rf_velocity_random_walk_si(double mps_per_sqrt_hour);
+
+/**
+ * A seeded error generator for `model`, written to `out_errors`. The same seed gives the
+ * same numbers.
+ */
+rf_status rf_imu_errors_init(const struct rf_imu_error_model *model, uint64_t seed, struct rf_imu_errors *out_errors);
+
+/**
+ * The measured increment for an ideal one, advancing the random stream and the
+ * Gauss–Markov states by one interval. On error nothing changes.
+ */
+rf_status rf_imu_errors_apply(struct rf_imu_errors *errors, const struct rf_imu_increment *ideal, struct rf_imu_increment *out_measured);
+
+/**
+ * Geodetic position and NED velocity of the point at `lever_arm` (m, body axes) on a vehicle
+ * in navigation state `state` whose gyros read `angular_rate` (rad/s).
+ */
+rf_status rf_lever_arm_state(const struct rf_earth_model *model, const struct rf_nav_state *state, const struct rf_vec3 *angular_rate, const struct rf_vec3 *lever_arm, struct rf_geodetic *out_position, struct rf_vec3 *out_velocity_ned);
 
 /**
  * Body-to-local-level quaternion from z-y-x Euler angles (rad).

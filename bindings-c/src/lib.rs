@@ -16,6 +16,7 @@
 
 pub mod earth;
 pub mod motion;
+pub mod nav;
 pub mod rotation;
 pub mod status;
 pub mod types;

@@ -572,16 +572,14 @@ impl PyStrapdown {
         let start_lat = self.lat();
         let inner = &mut self.inner;
         let result = py.detach(|| {
-            let start = inner.elapsed();
-            let mut elapsed = start;
-            inner.run_each(&increments, heights.as_deref(), |k, s| {
+            inner.run_each(&increments, heights.as_deref(), |k, stepper| {
+                let s = stepper.state();
                 lat[k] = s.position.latitude * scale;
                 lon[k] = s.position.longitude * scale;
                 hh[k] = s.position.height;
                 vel[3 * k..3 * k + 3].copy_from_slice(s.velocity_ned.as_slice());
                 att[4 * k..4 * k + 4].copy_from_slice(&quaternion_to_wxyz(&s.attitude));
-                elapsed += increments[k].interval;
-                time[k] = elapsed;
+                time[k] = stepper.elapsed();
             })
         });
         if let Err(e) = result {
@@ -751,6 +749,7 @@ impl PyStrapdown {
             previous,
             memory.height_reference,
             memory.elapsed,
+            memory.elapsed_correction,
         );
         Ok((rebuild, args.into_pyobject(py)?))
     }
@@ -770,6 +769,7 @@ pub fn _strapdown_from_parts(
     previous: Option<Vec<f64>>,
     height_reference: f64,
     elapsed: f64,
+    elapsed_correction: f64,
 ) -> PyResult<PyStrapdown> {
     let config = strapdown_config(model.get().inner, frame, gravity, vertical, height_time_constant)?;
     if state.len() != 10 || previous.as_ref().is_some_and(|p| p.len() != 7) {
@@ -788,8 +788,8 @@ pub fn _strapdown_from_parts(
         },
     };
     let previous = previous.map(|p| ImuIncrement::new(v3(&p[0..3]), v3(&p[3..6]), p[6]));
-    let inner =
-        Strapdown::from_parts(config, state, StepMemory { previous, height_reference, elapsed }).map_err(|e| to_py(&e, ""))?;
+    let inner = Strapdown::from_parts(config, state, StepMemory { previous, height_reference, elapsed, elapsed_correction })
+        .map_err(|e| to_py(&e, ""))?;
     Ok(PyStrapdown { inner, degrees, model: model.unbind() })
 }
 

@@ -133,6 +133,40 @@ static int evaluate(const rf_earth_model *wgs, const char *name, const double *x
         g.latitude = x[0], g.longitude = x[1], g.height = x[2];
         s = rf_local_level_motion(wgs, &g, &v, &a, &mo);
         n = put_motion(y, &mo);
+    } else if (strcmp(name, "ideal_imu") == 0) {
+        rf_frame_motion body = motion_of(x);
+        rf_imu_sample out;
+        s = rf_ideal_imu(wgs, RF_GRAVITY_NORMAL, &body, &out);
+        n = put_vec(y, out.angular_rate) + put_vec(y + 3, out.specific_force);
+    } else if (strcmp(name, "strapdown_ned") == 0 || strcmp(name, "strapdown_ecef") == 0) {
+        rf_strapdown_config config;
+        rf_nav_state start, end;
+        rf_strapdown sd;
+        int k;
+        memset(&config, 0, sizeof config);
+        memset(&end, 0, sizeof end);
+        config.earth = *wgs;
+        config.gravity = RF_GRAVITY_NORMAL;
+        config.vertical = RF_VERTICAL_FREE;
+        config.frame = strcmp(name, "strapdown_ecef") == 0 ? RF_NAV_FRAME_ECEF : RF_NAV_FRAME_NED;
+        start.position.latitude = x[0], start.position.longitude = x[1], start.position.height = x[2];
+        start.velocity_ned = vec(x + 3);
+        start.attitude.w = x[6], start.attitude.x = x[7], start.attitude.y = x[8], start.attitude.z = x[9];
+        s = rf_strapdown_init(&config, &start, &sd);
+        for (k = 0; k < 5 && s == RF_STATUS_OK; ++k) {
+            rf_imu_increment inc;
+            inc.delta_angle = vec(x + 10 + 7 * k);
+            inc.delta_velocity = vec(x + 13 + 7 * k);
+            inc.interval = x[16 + 7 * k];
+            s = rf_strapdown_step(&sd, &inc);
+        }
+        if (s == RF_STATUS_OK) {
+            s = rf_strapdown_state(&sd, &end);
+        }
+        y[0] = end.position.latitude, y[1] = end.position.longitude, y[2] = end.position.height;
+        put_vec(y + 3, end.velocity_ned);
+        y[6] = end.attitude.w, y[7] = end.attitude.x, y[8] = end.attitude.y, y[9] = end.attitude.z;
+        n = 10;
     }
     CHECK(s == RF_STATUS_OK, "%s: status %u", name, (unsigned)s);
     return n;

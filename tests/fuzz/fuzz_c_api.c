@@ -83,7 +83,11 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size) {
         double d[16];
         rf_vec3 batch[4];
         rf_geodetic gbatch[4];
+        rf_imu_sample imu;
+        rf_strapdown sd;
+        rf_imu_errors errors;
     } out;
+    rf_strapdown before;
     rf_status s;
     if (size < 2) return 0;
     selector = data[0];
@@ -97,7 +101,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size) {
     } else {
         rf_earth_model_wgs84(&model);
     }
-    switch (selector % 16) {
+    switch (selector % 21) {
     case 0: s = rf_geodetic_to_ecef(PTR(mask, 0, &model), PTR(mask, 1, (const rf_geodetic *)in), PTR(mask, 2, &out.v)); after(s, &out, sizeof out.v); break;
     case 1: s = rf_ecef_to_geodetic(PTR(mask, 0, &model), PTR(mask, 1, (const rf_vec3 *)in), PTR(mask, 2, &out.g)); after(s, &out, sizeof out.g); break;
     case 2: s = rf_motion_map_point(PTR(mask, 0, (const rf_frame_motion *)in), PTR(mask, 1, (const rf_point_kinematics *)(in + 19)), PTR(mask, 2, &out.p)); after(s, &out, sizeof out.p); break;
@@ -118,6 +122,46 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size) {
     case 12: s = rf_eotvos_correction(PTR(mask, 0, &model), in[0], in[1], PTR(mask, 1, (const rf_vec3 *)(in + 2)), PTR(mask, 2, out.d)); after(s, &out, sizeof(double)); break;
     case 13: s = rf_geodetic_to_ecef_batch(PTR(mask, 0, &model), PTR(mask, 1, (const rf_geodetic *)in), (size_t)(mask >> 2) % 5, PTR(mask, 6, out.batch)); after(s, &out, sizeof out.batch); break;
     case 14: s = rf_ecef_to_geodetic_batch(PTR(mask, 0, &model), PTR(mask, 1, (const rf_vec3 *)in), (size_t)(mask >> 2) % 5, PTR(mask, 6, out.gbatch)); after(s, &out, sizeof out.gbatch); break;
+    case 15: s = rf_ideal_imu(PTR(mask, 0, &model), (uint32_t)(selector / 21) % 3, PTR(mask, 1, (const rf_frame_motion *)in), PTR(mask, 2, &out.imu)); after(s, &out, sizeof out.imu); break;
+    case 16: s = rf_strapdown_init(PTR(mask, 0, (const rf_strapdown_config *)in), PTR(mask, 1, (const rf_nav_state *)(in + 16)), PTR(mask, 2, &out.sd)); after(s, &out, sizeof out.sd); break;
+    case 17: {
+        /* A valid stepper (frame and vertical channel from the selector) fed a fuzzed increment. */
+        rf_strapdown_config c;
+        rf_nav_state start;
+        memset(&c, 0, sizeof c);
+        memset(&start, 0, sizeof start);
+        rf_earth_model_wgs84(&c.earth);
+        c.frame = (uint32_t)(selector / 21) % 2;
+        c.vertical = (uint32_t)(selector / 42) % 3;
+        c.height_time_constant = 30.0;
+        start.position.latitude = in[20], start.position.longitude = in[21], start.position.height = in[22];
+        start.attitude.w = 1.0;
+        if (rf_strapdown_init(&c, &start, &out.sd) != RF_STATUS_OK) break;
+        before = out.sd;
+        s = rf_strapdown_step(&out.sd, PTR(mask, 0, (const rf_imu_increment *)in));
+        require((unsigned)s < RF_STATUS_INTERNAL_ERROR);
+        if (s != RF_STATUS_OK) require(memcmp(&before, &out.sd, sizeof before) == 0);
+        break;
+    }
+    case 18:
+        /* Arbitrary stepper bytes: every field is validated before use. */
+        memcpy(&out.sd, in, sizeof out.sd);
+        before = out.sd;
+        s = rf_strapdown_step(&out.sd, (const rf_imu_increment *)(in + 40));
+        require((unsigned)s < RF_STATUS_INTERNAL_ERROR);
+        if (s != RF_STATUS_OK) require(memcmp(&before, &out.sd, sizeof before) == 0);
+        break;
+    case 19: {
+        rf_imu_increment measured;
+        memset(&measured, SENTINEL, sizeof measured);
+        s = rf_imu_errors_init(PTR(mask, 0, (const rf_imu_error_model *)in), (uint64_t)mask, PTR(mask, 1, &out.errors));
+        after(s, &out, sizeof out.errors);
+        if (s == RF_STATUS_OK) {
+            s = rf_imu_errors_apply(&out.errors, PTR(mask, 2, (const rf_imu_increment *)(in + 56)), &measured);
+            after(s, &measured, sizeof measured);
+        }
+        break;
+    }
     default: s = rf_earth_rotation_angle(in[0], in[1], PTR(mask, 0, out.d)); after(s, &out, sizeof(double)); break;
     }
     return 0;

@@ -60,6 +60,17 @@ def evaluate(name, x):
         return rf.ned_from_ecef(x[0], x[1]).ravel()
     if name == "local_level_motion":
         return numbers(rf.local_level_motion(x[0], x[1], x[2], x[3:6], x[6:9]))
+    if name == "ideal_imu":
+        body = rf.FrameMotion(
+            rotation=x[0:4], position=x[4:7], velocity=x[7:10], acceleration=x[10:13],
+            angular_velocity=x[13:16], angular_acceleration=x[16:19], parent="eci",
+        )
+        return np.concatenate(rf.ideal_imu(body))
+    if name in ("strapdown_ned", "strapdown_ecef"):
+        ins = rf.Strapdown(x[0], x[1], x[2], x[3:6], x[6:10], frame=name.removeprefix("strapdown_"))
+        steps = x[10:].reshape(-1, 7)
+        ins.run(steps[:, 0:3], steps[:, 3:6], steps[:, 6])
+        return np.concatenate([[ins.lat, ins.lon, ins.h], ins.v_ned, ins.attitude])
     raise AssertionError(f"unknown shared function {name}")
 
 
@@ -68,7 +79,7 @@ CASES = load()
 
 def test_file_covers_every_shared_function():
     assert len(CASES) >= 100
-    assert len({c[0] for c in CASES}) == 19
+    assert len({c[0] for c in CASES}) == 22
 
 
 @pytest.mark.parametrize("name,inputs,outputs", CASES, ids=[f"{c[0]}-{i}" for i, c in enumerate(CASES)])

@@ -125,8 +125,37 @@ pub fn evaluate(function: &str, x: &[f64]) -> Vec<f64> {
         "local_level_motion" => motion_numbers(
             &earth::local_level_motion(m, &Geodetic::new(x[0], x[1], x[2]), &v3(3), &v3(6)).unwrap().erase_frames(),
         ),
+        "ideal_imu" => {
+            let body = motion_from_numbers(&x[..19]).assume_frames::<rotaframe::frames::Eci, AnyFrame>();
+            let s = rotaframe::nav::ideal_imu(m, earth::GravityModel::Normal, &body).unwrap();
+            [s.angular_rate, s.specific_force].iter().flat_map(|v| v.iter().copied()).collect()
+        }
+        "strapdown_ned" | "strapdown_ecef" => strapdown_case(function == "strapdown_ecef", x),
         other => panic!("unknown shared function {other}"),
     }
+}
+
+/// Steps of a strapdown case: inputs are the initial latitude, longitude, height, NED velocity
+/// and attitude (10 numbers), then [`STRAPDOWN_STEPS`] increments of 7 numbers (Δθ, Δv, dt);
+/// outputs the final latitude, longitude, height, NED velocity and attitude (10 numbers).
+/// Normal gravity, free vertical channel, WGS 84.
+pub const STRAPDOWN_STEPS: usize = 5;
+
+fn strapdown_case(ecef: bool, x: &[f64]) -> Vec<f64> {
+    use rotaframe::nav::{ImuIncrement, NavFrame, NavState, Strapdown, StrapdownConfig};
+    let q = rotaframe::rotation::quaternion_from_wxyz([x[6], x[7], x[8], x[9]], "attitude").unwrap();
+    let start = NavState::new(Geodetic::new(x[0], x[1], x[2]), Vector3::new(x[3], x[4], x[5]), q);
+    let frame = if ecef { NavFrame::Ecef } else { NavFrame::Ned };
+    let mut ins = Strapdown::new(StrapdownConfig { frame, ..StrapdownConfig::default() }, &start).unwrap();
+    for k in 0..STRAPDOWN_STEPS {
+        let i = &x[10 + 7 * k..17 + 7 * k];
+        ins.step(&ImuIncrement::new(Vector3::new(i[0], i[1], i[2]), Vector3::new(i[3], i[4], i[5]), i[6])).unwrap();
+    }
+    let s = ins.state();
+    let mut out = vec![s.position.latitude, s.position.longitude, s.position.height];
+    out.extend_from_slice(s.velocity_ned.as_slice());
+    out.extend_from_slice(&quaternion_to_wxyz(&s.attitude));
+    out
 }
 
 /// Every case, with deterministic inputs (SplitMix64, seed 2026).
@@ -175,6 +204,24 @@ pub fn all_cases() -> Vec<Case> {
         add("ned_from_ecef", vec![rng.next() * 1.5, rng.next() * 3.1]);
         let (v, a) = (rng.vector(250.0), rng.vector(3.0));
         add("local_level_motion", vec![rng.next() * 1.5, rng.next() * 3.1, rng.next() * 1.0e4, v.x, v.y, v.z, a.x, a.y, a.z]);
+        // A body near the Earth's surface relative to the inertial frame.
+        let mut body = motion_numbers(&rng.motion());
+        let r = earth::geodetic_to_ecef(&WGS84, &Geodetic::new(rng.next() * 1.5, rng.next() * 3.1, rng.next() * 1.0e4)).unwrap();
+        body[4..7].copy_from_slice(r.as_slice());
+        add("ideal_imu", body);
+        for function in ["strapdown_ned", "strapdown_ecef"] {
+            let q = UnitQuaternion::from_quaternion(Quaternion::new(rng.next() + 1.5, rng.next(), rng.next(), rng.next()));
+            let v = rng.vector(200.0);
+            let mut x = vec![rng.next() * 1.4, rng.next() * 3.1, rng.next() * 5.0e3, v.x, v.y, v.z];
+            x.extend_from_slice(&quaternion_to_wxyz(&q));
+            let gravity = q.inverse() * Vector3::new(0.0, 0.0, -9.8);
+            for _ in 0..STRAPDOWN_STEPS {
+                let dt = 0.01 * (1.0 + 0.2 * rng.next());
+                let (dtheta, dv) = (rng.vector(0.01), rng.vector(0.2) + gravity * dt);
+                x.extend(dtheta.iter().chain(dv.iter()).copied().chain([dt]));
+            }
+            add(function, x);
+        }
     }
     cases
 }

@@ -410,6 +410,7 @@ def _strapdown_from_parts(
     previous: Optional[list[float]],
     height_reference: float,
     elapsed: float,
+    elapsed_correction: float,
 ) -> Strapdown: ...
 
 @final

@@ -227,6 +227,7 @@ fn normalise(c: f64, s: f64) -> (f64, f64) {
 
 /// Checks that an ECEF point is finite and outside [`EarthModel::centre_exclusion_radius`],
 /// naming `quantity`.
+#[inline(always)]
 pub(crate) fn check_ecef(model: &EarthModel, ecef: &Vector3<f64>, quantity: &'static str) -> Result<()> {
     ensure_finite3(ecef, quantity)?;
     let distance = ecef.norm();
@@ -269,6 +270,7 @@ pub fn geodetic_to_ecef(model: &EarthModel, position: &Geodetic) -> Result<Vecto
 /// assert_eq!((p.latitude, p.longitude), (std::f64::consts::FRAC_PI_2, 0.0));
 /// assert_abs_diff_eq!(p.height, 10.0, epsilon = 1e-4);
 /// ```
+#[inline]
 pub fn ecef_to_geodetic(model: &EarthModel, ecef: &Vector3<f64>) -> Result<Geodetic> {
     check_ecef(model, ecef, "ecef")?;
     let [latitude, longitude, height] = inverse_any(model, ecef.x, ecef.y, ecef.z);

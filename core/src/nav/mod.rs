@@ -42,7 +42,7 @@ pub use imu::{
 pub use lever::{lever_arm_kinematics, lever_arm_state, sensor_mount};
 pub use recorded::{RecordedSample, RecordedSlices, RecordedTrajectory, SampleSource};
 pub use sensor::{
-    ImuErrorGenerator, ImuErrorModel, SensorErrorModel, angle_random_walk_from_deg_per_sqrt_hour,
+    ImuErrorGenerator, ImuErrorModel, SensorErrorModel, Xoshiro256PlusPlus, angle_random_walk_from_deg_per_sqrt_hour,
     velocity_random_walk_from_mps_per_sqrt_hour,
 };
 pub use strapdown::{MechanizationState, NavFrame, NavState, StepMemory, Strapdown, StrapdownConfig, VerticalChannel};

@@ -31,7 +31,9 @@
 
 use nalgebra::{Matrix3, Vector3};
 use rand_distr::{Distribution, StandardNormal};
-use rand_xoshiro::Xoshiro256PlusPlus;
+/// The random generator behind [`ImuErrorGenerator`] (xoshiro256++, from `rand_xoshiro`),
+/// re-exported for code that saves and restores a generator's parts.
+pub use rand_xoshiro::Xoshiro256PlusPlus;
 use rand_xoshiro::rand_core::SeedableRng;
 
 use super::imu::ImuIncrement;
@@ -177,6 +179,31 @@ impl ImuErrorGenerator {
         let gyro_markov = normal3(&mut rng).component_mul(&model.gyro.markov_sigma);
         let accelerometer_markov = normal3(&mut rng).component_mul(&model.accelerometer.markov_sigma);
         Ok(Self { model, rng, gyro_markov, accelerometer_markov })
+    }
+
+    /// A generator resumed from the parts returned by [`parts`](Self::parts) (for bindings
+    /// that keep the state in their own structures).
+    ///
+    /// # Errors
+    /// As [`new`](Self::new); [`Error::NonFinite`] naming `gyro_markov` or
+    /// `accelerometer_markov`.
+    pub fn from_parts(
+        model: ImuErrorModel,
+        rng: Xoshiro256PlusPlus,
+        gyro_markov: Vector3<f64>,
+        accelerometer_markov: Vector3<f64>,
+    ) -> Result<Self> {
+        model.gyro.validate().map_err(|e| qualify(e, true))?;
+        model.accelerometer.validate().map_err(|e| qualify(e, false))?;
+        ensure_finite3(&gyro_markov, "gyro_markov")?;
+        ensure_finite3(&accelerometer_markov, "accelerometer_markov")?;
+        Ok(Self { model, rng, gyro_markov, accelerometer_markov })
+    }
+
+    /// The model, the random stream's state and the Gauss–Markov states.
+    #[must_use]
+    pub fn parts(&self) -> (ImuErrorModel, Xoshiro256PlusPlus, Vector3<f64>, Vector3<f64>) {
+        (self.model, self.rng.clone(), self.gyro_markov, self.accelerometer_markov)
     }
 
     /// The model applied.

@@ -1,0 +1,621 @@
+//! Navigation: ideal IMU output and increments, the strapdown stepper (NED and ECEF) as a
+//! plain struct, the IMU error model and lever arms.
+//!
+//! The stepper's whole state lives in `rf_strapdown`, a plain struct the caller owns (static
+//! storage, stack, anywhere); each call converts it to the core's stepper and back. Nothing is
+//! allocated and nothing is kept between calls.
+
+use rotaframe::earth::{Geodetic, GravityModel};
+use rotaframe::frames::{AnyFrame, Eci};
+use rotaframe::nalgebra::{Matrix3, Vector3};
+use rotaframe::nav::{
+    self, ImuErrorGenerator, ImuErrorModel, ImuIncrement, ImuSample, MechanizationState, NavFrame, NavState, SensorErrorModel,
+    StepMemory, Strapdown, StrapdownConfig, VerticalChannel, Xoshiro256PlusPlus,
+};
+
+use crate::status::{
+    Fallible, RF_STATUS_INVALID_ARGUMENT, RF_STATUS_NULL_POINTER, boundary, out, read, rf_status, slice, slice_mut,
+};
+use crate::types::{rf_earth_model, rf_frame_motion, rf_geodetic, rf_quat, rf_vec3};
+
+/// Gravity models for `rf_strapdown_config.gravity` and `rf_ideal_imu`.
+#[repr(u32)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum rf_gravity_model {
+    /// Normal gravity with the second-order height correction, along the ellipsoidal normal.
+    RF_GRAVITY_NORMAL = 0,
+    /// J2 gravitation plus the centrifugal term.
+    RF_GRAVITY_J2 = 1,
+}
+
+/// Mechanizations for `rf_strapdown_config.frame`.
+#[repr(u32)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum rf_nav_frame {
+    /// Local-level north-east-down (singular within 1e-6 rad of a pole).
+    RF_NAV_FRAME_NED = 0,
+    /// Earth-fixed Cartesian (regular everywhere).
+    RF_NAV_FRAME_ECEF = 1,
+}
+
+/// Vertical-channel treatments for `rf_strapdown_config.vertical`.
+#[repr(u32)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum rf_vertical_channel {
+    /// Pure inertial height (unstable over tens of minutes).
+    RF_VERTICAL_FREE = 0,
+    /// Height set to the external reference after every step.
+    RF_VERTICAL_HOLD = 1,
+    /// Second-order loop to the reference with time constant `height_time_constant`.
+    RF_VERTICAL_AIDED = 2,
+}
+
+/// Ideal gyro and accelerometer outputs at one instant, resolved in the body.
+#[repr(C)]
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct rf_imu_sample {
+    /// Angular velocity of the body relative to inertial space (rad/s).
+    pub angular_rate: rf_vec3,
+    /// Specific force: inertial acceleration minus gravitation (m/s²).
+    pub specific_force: rf_vec3,
+}
+
+/// The output of an integrating IMU over one interval.
+#[repr(C)]
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct rf_imu_increment {
+    /// Integral of the angular rate over the interval, in body axes (rad).
+    pub delta_angle: rf_vec3,
+    /// Integral of the specific force over the interval, in body axes (m/s).
+    pub delta_velocity: rf_vec3,
+    /// Interval length (s), positive.
+    pub interval: f64,
+}
+
+/// Position, velocity and attitude as every mechanization reports them.
+#[repr(C)]
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct rf_nav_state {
+    /// Geodetic position.
+    pub position: rf_geodetic,
+    /// Velocity relative to the Earth, resolved in NED (m/s).
+    pub velocity_ned: rf_vec3,
+    /// Body-to-NED attitude quaternion.
+    pub attitude: rf_quat,
+}
+
+/// Settings of a strapdown stepper.
+#[repr(C)]
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct rf_strapdown_config {
+    /// The Earth model.
+    pub earth: rf_earth_model,
+    /// An `rf_gravity_model` value.
+    pub gravity: u32,
+    /// An `rf_vertical_channel` value.
+    pub vertical: u32,
+    /// An `rf_nav_frame` value.
+    pub frame: u32,
+    /// Loop time constant (s) for `RF_VERTICAL_AIDED`; ignored otherwise.
+    pub height_time_constant: f64,
+}
+
+/// The complete state of a strapdown stepper, as plain data. Create it with
+/// `rf_strapdown_init`; advance it with `rf_strapdown_step`; read it with `rf_strapdown_state`.
+/// The mechanization's own coordinates are kept: for NED `position` is (latitude, longitude,
+/// height), `velocity` the NED velocity and `attitude` body-to-NED; for ECEF `position` and
+/// `velocity` are ECEF vectors and `attitude` body-to-ECEF.
+#[repr(C)]
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct rf_strapdown {
+    /// Settings.
+    pub config: rf_strapdown_config,
+    /// Position in the mechanization's coordinates.
+    pub position: rf_vec3,
+    /// Velocity relative to the Earth in the mechanization's axes (m/s).
+    pub velocity: rf_vec3,
+    /// Attitude: body to the mechanization's axes.
+    pub attitude: rf_quat,
+    /// The previous step's increment, used for coning and sculling when `has_previous` is 1.
+    pub previous: rf_imu_increment,
+    /// 1 if `previous` holds the previous step's increment, else 0.
+    pub has_previous: u32,
+    /// External ellipsoidal height reference (m) for the hold and aided vertical channels.
+    pub height_reference: f64,
+    /// Time since the initial state (s), rounded; `rf_strapdown_state` users add
+    /// `elapsed_correction` for the exact sum.
+    pub elapsed: f64,
+    /// Rounding error of `elapsed` (s), carried by compensated summation.
+    pub elapsed_correction: f64,
+}
+
+/// Error model of one sensor triad (gyro units rad/s, accelerometer units m/s²).
+#[repr(C)]
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct rf_sensor_errors {
+    /// Fixed bias per axis.
+    pub bias: rf_vec3,
+    /// Scale-factor error per axis (dimensionless).
+    pub scale_factor: rf_vec3,
+    /// Misalignment matrix, row-major, zero diagonal (dimensionless).
+    pub misalignment: [f64; 9],
+    /// White-noise density per axis (rad/√s or m/s/√s; see `rf_angle_random_walk_si`).
+    pub noise_density: rf_vec3,
+    /// Gauss–Markov bias steady-state standard deviation per axis.
+    pub markov_sigma: rf_vec3,
+    /// Gauss–Markov correlation time per axis (s); positive, INFINITY for a random constant.
+    pub markov_time: rf_vec3,
+}
+
+/// Error models of both triads.
+#[repr(C)]
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct rf_imu_error_model {
+    /// Gyro triad.
+    pub gyro: rf_sensor_errors,
+    /// Accelerometer triad.
+    pub accelerometer: rf_sensor_errors,
+}
+
+/// A seeded IMU error generator's state, as plain data: the model, the Gauss–Markov states
+/// and the random stream (`stream`, opaque: do not modify). Create with `rf_imu_errors_init`.
+#[repr(C)]
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct rf_imu_errors {
+    /// The error model.
+    pub model: rf_imu_error_model,
+    /// Gyro Gauss–Markov bias state (rad/s).
+    pub gyro_markov: rf_vec3,
+    /// Accelerometer Gauss–Markov bias state (m/s²).
+    pub accelerometer_markov: rf_vec3,
+    /// State of the xoshiro256++ random stream.
+    pub stream: [u64; 4],
+}
+
+/// Signature of a trajectory callback for `rf_imu_increment_of_trajectory`: writes the body's
+/// motion relative to the inertial frame at `time` (s) to `out_motion` and returns
+/// `RF_STATUS_OK`, or any other status to abort.
+pub type rf_trajectory_fn =
+    Option<unsafe extern "C" fn(context: *mut core::ffi::c_void, time: f64, out_motion: *mut rf_frame_motion) -> rf_status>;
+
+impl From<rf_imu_increment> for ImuIncrement {
+    fn from(i: rf_imu_increment) -> Self {
+        ImuIncrement::new(i.delta_angle.into(), i.delta_velocity.into(), i.interval)
+    }
+}
+
+impl From<&ImuIncrement> for rf_imu_increment {
+    fn from(i: &ImuIncrement) -> Self {
+        Self { delta_angle: i.delta_angle.into(), delta_velocity: i.delta_velocity.into(), interval: i.interval }
+    }
+}
+
+impl From<&NavState> for rf_nav_state {
+    fn from(s: &NavState) -> Self {
+        Self { position: s.position.into(), velocity_ned: s.velocity_ned.into(), attitude: (&s.attitude).into() }
+    }
+}
+
+impl rf_nav_state {
+    fn to_core(self) -> Fallible<NavState> {
+        Ok(NavState::new(self.position.into(), self.velocity_ned.into(), self.attitude.to_core("attitude")?))
+    }
+}
+
+fn gravity_model(value: u32) -> Fallible<GravityModel> {
+    match value {
+        0 => Ok(GravityModel::Normal),
+        1 => Ok(GravityModel::J2),
+        _ => Err(RF_STATUS_INVALID_ARGUMENT),
+    }
+}
+
+impl rf_strapdown_config {
+    fn to_core(self) -> Fallible<StrapdownConfig> {
+        let vertical = match self.vertical {
+            0 => VerticalChannel::Free,
+            1 => VerticalChannel::Hold,
+            2 => VerticalChannel::Aided { time_constant: self.height_time_constant },
+            _ => return Err(RF_STATUS_INVALID_ARGUMENT),
+        };
+        let frame = match self.frame {
+            0 => NavFrame::Ned,
+            1 => NavFrame::Ecef,
+            _ => return Err(RF_STATUS_INVALID_ARGUMENT),
+        };
+        let config = StrapdownConfig { earth: self.earth.to_core()?, gravity: gravity_model(self.gravity)?, vertical, frame };
+        config.validate()?;
+        Ok(config)
+    }
+}
+
+impl rf_strapdown {
+    /// The core stepper (validated).
+    fn to_core(self) -> Fallible<Strapdown> {
+        let config = self.config.to_core()?;
+        let state = match config.frame {
+            NavFrame::Ecef => MechanizationState::Ecef {
+                position_ecef: self.position.into(),
+                velocity_ecef: self.velocity.into(),
+                attitude_ecef: self.attitude.to_core("attitude_ecef")?,
+            },
+            _ => MechanizationState::Ned {
+                position: Geodetic::new(self.position.x, self.position.y, self.position.z),
+                velocity_ned: self.velocity.into(),
+                attitude: self.attitude.to_core("attitude")?,
+            },
+        };
+        let previous = match self.has_previous {
+            0 => None,
+            1 => Some(self.previous.into()),
+            _ => return Err(RF_STATUS_INVALID_ARGUMENT),
+        };
+        let memory = StepMemory {
+            previous,
+            height_reference: self.height_reference,
+            elapsed: self.elapsed,
+            elapsed_correction: self.elapsed_correction,
+        };
+        Ok(Strapdown::from_parts(config, state, memory)?)
+    }
+
+    /// Writes a core stepper's parts back (the configuration is unchanged by stepping).
+    fn store(&mut self, stepper: &Strapdown) {
+        let (_, state, memory) = stepper.parts();
+        match state {
+            MechanizationState::Ned { position, velocity_ned, attitude } => {
+                self.position = rf_vec3 { x: position.latitude, y: position.longitude, z: position.height };
+                self.velocity = velocity_ned.into();
+                self.attitude = (&attitude).into();
+            }
+            MechanizationState::Ecef { position_ecef, velocity_ecef, attitude_ecef } => {
+                self.position = position_ecef.into();
+                self.velocity = velocity_ecef.into();
+                self.attitude = (&attitude_ecef).into();
+            }
+        }
+        self.has_previous = u32::from(memory.previous.is_some());
+        self.previous = memory.previous.as_ref().map(Into::into).unwrap_or_default();
+        self.height_reference = memory.height_reference;
+        self.elapsed = memory.elapsed;
+        self.elapsed_correction = memory.elapsed_correction;
+    }
+}
+
+/// The ideal gyro and accelerometer outputs of a body whose motion relative to the
+/// Earth-centred inertial frame is `body_in_inertial` (the caller vouches for the parent),
+/// with gravity model `gravity` (an `rf_gravity_model` value).
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn rf_ideal_imu(
+    model: *const rf_earth_model,
+    gravity: u32,
+    body_in_inertial: *const rf_frame_motion,
+    out_sample: *mut rf_imu_sample,
+) -> rf_status {
+    boundary(|| {
+        let m = unsafe { read(model) }?.to_core()?;
+        let body = unsafe { read(body_in_inertial) }?.to_core()?.assume_frames::<Eci, AnyFrame>();
+        let out_sample = unsafe { out(out_sample) }?;
+        let s = nav::ideal_imu(&m, gravity_model(gravity)?, &body)?;
+        *out_sample = rf_imu_sample { angular_rate: s.angular_rate.into(), specific_force: s.specific_force.into() };
+        Ok(())
+    })
+}
+
+/// Writes the six times in `[start, end]` at which to sample a trajectory for
+/// `rf_imu_increment_from_samples` (the Gauss–Legendre nodes, ascending).
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn rf_quadrature_times(start: f64, end: f64, out_times: *mut f64) -> rf_status {
+    boundary(|| {
+        let out_times = unsafe { slice_mut(out_times, nav::QUADRATURE_NODES) }?;
+        if !(start.is_finite() && end.is_finite()) {
+            return Err(rotaframe::Error::NonFinite { quantity: "start" }.into());
+        }
+        out_times.copy_from_slice(&nav::quadrature_times(start, end));
+        Ok(())
+    })
+}
+
+/// The increment over `[start, end]` from six ideal samples taken at `rf_quadrature_times`.
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn rf_imu_increment_from_samples(
+    start: f64,
+    end: f64,
+    samples: *const rf_imu_sample,
+    out_increment: *mut rf_imu_increment,
+) -> rf_status {
+    boundary(|| {
+        let samples = unsafe { slice(samples, nav::QUADRATURE_NODES) }?;
+        let out_increment = unsafe { out(out_increment) }?;
+        let mut core_samples = [ImuSample::default(); nav::QUADRATURE_NODES];
+        for (c, s) in core_samples.iter_mut().zip(samples) {
+            *c = ImuSample { angular_rate: s.angular_rate.into(), specific_force: s.specific_force.into() };
+        }
+        let increment = nav::increment_from_node_samples(start, end, &core_samples);
+        increment.validate()?;
+        *out_increment = (&increment).into();
+        Ok(())
+    })
+}
+
+/// The ideal increment over `[start, end]` of a body whose motion relative to the inertial
+/// frame the callback `trajectory` writes for any time asked (six calls per interval). A
+/// status other than `RF_STATUS_OK` from the callback is returned as is.
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn rf_imu_increment_of_trajectory(
+    model: *const rf_earth_model,
+    gravity: u32,
+    trajectory: rf_trajectory_fn,
+    context: *mut core::ffi::c_void,
+    start: f64,
+    end: f64,
+    out_increment: *mut rf_imu_increment,
+) -> rf_status {
+    boundary(|| {
+        let m = unsafe { read(model) }?.to_core()?;
+        let gravity = gravity_model(gravity)?;
+        let trajectory = trajectory.ok_or(RF_STATUS_NULL_POINTER)?;
+        let out_increment = unsafe { out(out_increment) }?;
+        let mut callback_status = crate::status::RF_STATUS_OK;
+        let mut motion_at = |t: f64| -> rotaframe::Result<rotaframe::motion::FrameMotion<Eci, AnyFrame>> {
+            let mut motion = rf_frame_motion::default();
+            // SAFETY: the caller guarantees that `trajectory` may be called with `context`.
+            let status = unsafe { trajectory(context, t, &mut motion) };
+            if status != crate::status::RF_STATUS_OK {
+                callback_status = status;
+                return Err(rotaframe::Error::Invalid { quantity: "trajectory", reason: "the callback failed" });
+            }
+            let motion = motion.to_core().map_err(|s| {
+                callback_status = s;
+                rotaframe::Error::Invalid { quantity: "trajectory", reason: "the callback wrote a bad motion" }
+            })?;
+            Ok(motion.assume_frames())
+        };
+        let increment = nav::imu_increment(&m, gravity, &mut motion_at, start, end);
+        let increment = match increment {
+            Ok(i) => i,
+            Err(_) if callback_status != crate::status::RF_STATUS_OK => return Err(callback_status),
+            Err(e) => return Err(e.into()),
+        };
+        *out_increment = (&increment).into();
+        Ok(())
+    })
+}
+
+/// A stepper at `initial` with settings `config`, written to `out_strapdown`.
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn rf_strapdown_init(
+    config: *const rf_strapdown_config,
+    initial: *const rf_nav_state,
+    out_strapdown: *mut rf_strapdown,
+) -> rf_status {
+    boundary(|| {
+        let config_c = unsafe { read(config) }?;
+        let initial = unsafe { read(initial) }?.to_core()?;
+        let out_strapdown = unsafe { out(out_strapdown) }?;
+        let stepper = Strapdown::new(config_c.to_core()?, &initial)?;
+        let mut result = rf_strapdown { config: config_c, ..rf_strapdown::default() };
+        result.store(&stepper);
+        *out_strapdown = result;
+        Ok(())
+    })
+}
+
+/// Advances `strapdown` by one increment. On error it is unchanged.
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn rf_strapdown_step(strapdown: *mut rf_strapdown, increment: *const rf_imu_increment) -> rf_status {
+    boundary(|| {
+        let increment = unsafe { read(increment) }?;
+        let strapdown = unsafe { out(strapdown) }?;
+        let mut stepper = strapdown.to_core()?;
+        stepper.step(&increment.into())?;
+        strapdown.store(&stepper);
+        Ok(())
+    })
+}
+
+/// Runs `count` increments; with `height_reference` (NULL allowed) element `k` is set as the
+/// height reference before step `k`. Writes the state after every step to `out_states`. On
+/// error neither `strapdown` nor `out_states` changes (the steps are run twice: once to check,
+/// once to write; call `rf_strapdown_step` in a loop where every cycle counts).
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn rf_strapdown_run(
+    strapdown: *mut rf_strapdown,
+    increments: *const rf_imu_increment,
+    height_reference: *const f64,
+    count: usize,
+    out_states: *mut rf_nav_state,
+) -> rf_status {
+    boundary(|| {
+        let increments = unsafe { slice(increments, count) }?;
+        let heights = if height_reference.is_null() { None } else { Some(unsafe { slice(height_reference, count) }?) };
+        let strapdown = unsafe { out(strapdown) }?;
+        let out_states = unsafe { slice_mut(out_states, count) }?;
+        let mut stepper = strapdown.to_core()?;
+        let step = |s: &mut Strapdown, k: usize| -> rotaframe::Result<()> {
+            if let Some(h) = heights {
+                s.set_height_reference(h[k])?;
+            }
+            s.step(&increments[k].into())
+        };
+        let mut trial = stepper;
+        for k in 0..count {
+            step(&mut trial, k)?;
+        }
+        for (k, o) in out_states.iter_mut().enumerate() {
+            step(&mut stepper, k)?;
+            *o = (&stepper.state()).into();
+        }
+        strapdown.store(&stepper);
+        Ok(())
+    })
+}
+
+/// Sets the external ellipsoidal height reference (m) used from the next step on.
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn rf_strapdown_set_height_reference(strapdown: *mut rf_strapdown, height_reference: f64) -> rf_status {
+    boundary(|| {
+        let strapdown = unsafe { out(strapdown) }?;
+        let mut stepper = strapdown.to_core()?;
+        stepper.set_height_reference(height_reference)?;
+        strapdown.store(&stepper);
+        Ok(())
+    })
+}
+
+/// Forgets the previous increment, so that the next step applies no coning and sculling
+/// corrections (after a data gap).
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn rf_strapdown_reset_history(strapdown: *mut rf_strapdown) -> rf_status {
+    boundary(|| {
+        let strapdown = unsafe { out(strapdown) }?;
+        let mut stepper = strapdown.to_core()?;
+        stepper.reset_history();
+        strapdown.store(&stepper);
+        Ok(())
+    })
+}
+
+/// The current geodetic position, NED velocity and body-to-NED attitude.
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn rf_strapdown_state(strapdown: *const rf_strapdown, out_state: *mut rf_nav_state) -> rf_status {
+    boundary(|| {
+        let stepper = unsafe { read(strapdown) }?.to_core()?;
+        *unsafe { out(out_state) }? = (&stepper.state()).into();
+        Ok(())
+    })
+}
+
+/// Angle random walk in deg/√h converted to the white-noise density in rad/√s.
+#[unsafe(no_mangle)]
+pub extern "C" fn rf_angle_random_walk_si(deg_per_sqrt_hour: f64) -> f64 {
+    nav::angle_random_walk_from_deg_per_sqrt_hour(deg_per_sqrt_hour)
+}
+
+/// Velocity random walk in m/s/√h converted to the white-noise density in m/s/√s.
+#[unsafe(no_mangle)]
+pub extern "C" fn rf_velocity_random_walk_si(mps_per_sqrt_hour: f64) -> f64 {
+    nav::velocity_random_walk_from_mps_per_sqrt_hour(mps_per_sqrt_hour)
+}
+
+impl rf_sensor_errors {
+    fn to_core(self) -> SensorErrorModel {
+        SensorErrorModel {
+            bias: self.bias.into(),
+            scale_factor: self.scale_factor.into(),
+            misalignment: Matrix3::from_row_slice(&self.misalignment),
+            noise_density: self.noise_density.into(),
+            markov_sigma: self.markov_sigma.into(),
+            markov_time: self.markov_time.into(),
+        }
+    }
+}
+
+/// The random stream as stored in `rf_imu_errors.stream` (a plain copy of the generator).
+const _: () = assert!(core::mem::size_of::<Xoshiro256PlusPlus>() == core::mem::size_of::<[u64; 4]>());
+
+fn stream_words(rng: &Xoshiro256PlusPlus) -> [u64; 4] {
+    let mut words = [0u64; 4];
+    // SAFETY: the generator is 32 bytes of plain integers with no padding or pointers (size
+    // asserted above); copying its bytes into four words and back (below) reproduces it.
+    unsafe { core::ptr::copy_nonoverlapping(core::ptr::from_ref(rng).cast::<u8>(), words.as_mut_ptr().cast::<u8>(), 32) };
+    words
+}
+
+fn stream_from_words(words: &[u64; 4]) -> Fallible<Xoshiro256PlusPlus> {
+    // An all-zero state is the one xoshiro cannot leave; it never arises from a seed.
+    if words.iter().all(|&w| w == 0) {
+        return Err(RF_STATUS_INVALID_ARGUMENT);
+    }
+    let mut rng = core::mem::MaybeUninit::<Xoshiro256PlusPlus>::uninit();
+    // SAFETY: `words` holds bytes copied from a generator by `stream_words` (or the caller's
+    // copy of them); every bit pattern of four u64 is a valid generator state.
+    unsafe {
+        core::ptr::copy_nonoverlapping(words.as_ptr().cast::<u8>(), rng.as_mut_ptr().cast::<u8>(), 32);
+        Ok(rng.assume_init())
+    }
+}
+
+impl rf_imu_errors {
+    fn to_core(self) -> Fallible<ImuErrorGenerator> {
+        let model = ImuErrorModel { gyro: self.model.gyro.to_core(), accelerometer: self.model.accelerometer.to_core() };
+        Ok(ImuErrorGenerator::from_parts(
+            model,
+            stream_from_words(&self.stream)?,
+            self.gyro_markov.into(),
+            self.accelerometer_markov.into(),
+        )?)
+    }
+
+    fn store(&mut self, generator: &ImuErrorGenerator) {
+        let (_, rng, gyro, accelerometer) = generator.parts();
+        self.stream = stream_words(&rng);
+        self.gyro_markov = gyro.into();
+        self.accelerometer_markov = accelerometer.into();
+    }
+}
+
+/// A seeded error generator for `model`, written to `out_errors`. The same seed gives the
+/// same numbers.
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn rf_imu_errors_init(
+    model: *const rf_imu_error_model,
+    seed: u64,
+    out_errors: *mut rf_imu_errors,
+) -> rf_status {
+    boundary(|| {
+        let model_c = unsafe { read(model) }?;
+        let out_errors = unsafe { out(out_errors) }?;
+        let core_model = ImuErrorModel { gyro: model_c.gyro.to_core(), accelerometer: model_c.accelerometer.to_core() };
+        let generator = ImuErrorGenerator::new(core_model, seed)?;
+        let mut result = rf_imu_errors { model: model_c, ..rf_imu_errors::default() };
+        result.store(&generator);
+        *out_errors = result;
+        Ok(())
+    })
+}
+
+/// The measured increment for an ideal one, advancing the random stream and the
+/// Gauss–Markov states by one interval. On error nothing changes.
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn rf_imu_errors_apply(
+    errors: *mut rf_imu_errors,
+    ideal: *const rf_imu_increment,
+    out_measured: *mut rf_imu_increment,
+) -> rf_status {
+    boundary(|| {
+        let ideal = unsafe { read(ideal) }?;
+        let errors = unsafe { out(errors) }?;
+        let out_measured = unsafe { out(out_measured) }?;
+        let mut generator = errors.to_core()?;
+        let measured = generator.corrupt(&ideal.into())?;
+        errors.store(&generator);
+        *out_measured = (&measured).into();
+        Ok(())
+    })
+}
+
+/// Geodetic position and NED velocity of the point at `lever_arm` (m, body axes) on a vehicle
+/// in navigation state `state` whose gyros read `angular_rate` (rad/s).
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn rf_lever_arm_state(
+    model: *const rf_earth_model,
+    state: *const rf_nav_state,
+    angular_rate: *const rf_vec3,
+    lever_arm: *const rf_vec3,
+    out_position: *mut rf_geodetic,
+    out_velocity_ned: *mut rf_vec3,
+) -> rf_status {
+    boundary(|| {
+        let m = unsafe { read(model) }?.to_core()?;
+        let state = unsafe { read(state) }?.to_core()?;
+        let rate: Vector3<f64> = unsafe { read(angular_rate) }?.into();
+        let lever: Vector3<f64> = unsafe { read(lever_arm) }?.into();
+        let out_position = unsafe { out(out_position) }?;
+        let out_velocity_ned = unsafe { out(out_velocity_ned) }?;
+        let (p, v) = nav::lever_arm_state(&m, &state, &rate, &lever)?;
+        *out_position = p.into();
+        *out_velocity_ned = v.into();
+        Ok(())
+    })
+}
