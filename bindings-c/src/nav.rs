@@ -178,6 +178,14 @@ pub struct rf_imu_errors {
 pub type rf_trajectory_fn =
     Option<unsafe extern "C" fn(context: *mut core::ffi::c_void, time: f64, out_motion: *mut rf_frame_motion) -> rf_status>;
 
+const _: () = {
+    assert!(core::mem::size_of::<rf_imu_increment>() == core::mem::size_of::<ImuIncrement>());
+    assert!(core::mem::align_of::<rf_imu_increment>() == core::mem::align_of::<ImuIncrement>());
+    assert!(core::mem::offset_of!(rf_imu_increment, delta_angle) == core::mem::offset_of!(ImuIncrement, delta_angle));
+    assert!(core::mem::offset_of!(rf_imu_increment, delta_velocity) == core::mem::offset_of!(ImuIncrement, delta_velocity));
+    assert!(core::mem::offset_of!(rf_imu_increment, interval) == core::mem::offset_of!(ImuIncrement, interval));
+};
+
 impl From<rf_imu_increment> for ImuIncrement {
     fn from(i: rf_imu_increment) -> Self {
         ImuIncrement::new(i.delta_angle.into(), i.delta_velocity.into(), i.interval)
@@ -427,25 +435,24 @@ pub unsafe extern "C" fn rf_strapdown_run(
     out_states: *mut rf_nav_state,
 ) -> rf_status {
     boundary(|| {
-        let increments = unsafe { slice(increments, count) }?;
+        // Read in place: `rf_imu_increment` has the layout of the core's `ImuIncrement`
+        // (asserted below).
+        let increments = unsafe { slice(increments.cast::<ImuIncrement>(), count) }?;
         let heights = if height_reference.is_null() { None } else { Some(unsafe { slice(height_reference, count) }?) };
         let strapdown = unsafe { out(strapdown) }?;
         let out_states = unsafe { slice_mut(out_states, count) }?;
         let mut stepper = strapdown.to_core()?;
-        let step = |s: &mut Strapdown, k: usize| -> rotaframe::Result<()> {
-            if let Some(h) = heights {
-                s.set_height_reference(h[k])?;
-            }
-            s.step(&increments[k].into())
-        };
+        // The core's runner, once on a copy to find any failing step, then for real.
         let mut trial = stepper;
-        for k in 0..count {
-            step(&mut trial, k)?;
-        }
-        for (k, o) in out_states.iter_mut().enumerate() {
-            step(&mut stepper, k)?;
-            *o = (&stepper.state()).into();
-        }
+        trial.run_each(increments, heights, |_, _| {}).map_err(|e| e.error)?;
+        let mut iter = out_states.iter_mut();
+        stepper
+            .run_each(increments, heights, |_, s| {
+                if let Some(o) = iter.next() {
+                    *o = (&s.state()).into();
+                }
+            })
+            .map_err(|e| e.error)?;
         strapdown.store(&stepper);
         Ok(())
     })

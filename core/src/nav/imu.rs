@@ -53,7 +53,8 @@ pub struct ImuSample {
     pub specific_force: Vector3<f64>,
 }
 
-/// The output of an integrating IMU over one sample interval.
+/// The output of an integrating IMU over one sample interval (`repr(C)`: seven f64, so C
+/// arrays of the same layout can be read in place).
 ///
 /// ```
 /// use nalgebra::Vector3;
@@ -61,6 +62,7 @@ pub struct ImuSample {
 /// let inc = ImuIncrement::new(Vector3::new(0.0, 0.0, 1e-4), Vector3::new(0.0, 0.0, -0.098), 0.01);
 /// assert!(inc.validate().is_ok());
 /// ```
+#[repr(C)]
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
 pub struct ImuIncrement {
     /// `Δθ = ∫ ω_ib^b dt` over the interval, in the instantaneous body axes (rad).
