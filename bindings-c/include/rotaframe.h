@@ -379,6 +379,24 @@ typedef struct rf_imu_increment {
 typedef rf_status (*rf_trajectory_fn)(void *context, double time, struct rf_frame_motion *out_motion);
 
 /**
+ * One sample of a recorded log, for `rf_imu_increments_from_record`.
+ */
+typedef struct rf_recorded_sample {
+  /**
+   * Time (s); strictly increasing along the log.
+   */
+  double time;
+  /**
+   * Geodetic position of the body.
+   */
+  struct rf_geodetic position;
+  /**
+   * Body-to-NED attitude quaternion (unit norm).
+   */
+  struct rf_quat attitude;
+} rf_recorded_sample;
+
+/**
  * Settings of a strapdown stepper.
  */
 typedef struct rf_strapdown_config {
@@ -776,6 +794,20 @@ rf_status rf_imu_increment_from_samples(double start, double end, const struct r
  * status other than `RF_STATUS_OK` from the callback is returned as is.
  */
 rf_status rf_imu_increment_of_trajectory(const struct rf_earth_model *model, uint32_t gravity, rf_trajectory_fn trajectory, void *context, double start, double end, struct rf_imu_increment *out_increment);
+
+/**
+ * Ideal IMU increments from a recorded log of time, geodetic position and body-to-NED
+ * attitude (at least 3 samples), interpolated as the core's recorded-trajectory method
+ * describes (7-point derivative stencils and quintic Hermite segments; accurate to about
+ * 1e-13 rad and 1e-6 m/s per 10 ms increment at 100 Hz for smooth motion).
+ *
+ * The intervals are those between consecutive `times` (`time_count` ≥ 2, strictly
+ * increasing, within the log), and `time_count − 1` increments are written; pass `times` NULL
+ * and `time_count` 0 to use the samples' own times (`sample_count − 1` increments). On error
+ * nothing is written: the increments are computed once to check and once to write, so the
+ * call costs twice the work (about 10 µs per interval).
+ */
+rf_status rf_imu_increments_from_record(const struct rf_earth_model *model, uint32_t gravity, const struct rf_recorded_sample *samples, size_t sample_count, const double *times, size_t time_count, struct rf_imu_increment *out_increments);
 
 /**
  * A stepper at `initial` with settings `config`, written to `out_strapdown`.

@@ -86,6 +86,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size) {
         rf_imu_sample imu;
         rf_strapdown sd;
         rf_imu_errors errors;
+        rf_imu_increment incs[8];
     } out;
     rf_strapdown before;
     rf_status s;
@@ -101,7 +102,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size) {
     } else {
         rf_earth_model_wgs84(&model);
     }
-    switch (selector % 21) {
+    switch (selector % 22) {
     case 0: s = rf_geodetic_to_ecef(PTR(mask, 0, &model), PTR(mask, 1, (const rf_geodetic *)in), PTR(mask, 2, &out.v)); after(s, &out, sizeof out.v); break;
     case 1: s = rf_ecef_to_geodetic(PTR(mask, 0, &model), PTR(mask, 1, (const rf_vec3 *)in), PTR(mask, 2, &out.g)); after(s, &out, sizeof out.g); break;
     case 2: s = rf_motion_map_point(PTR(mask, 0, (const rf_frame_motion *)in), PTR(mask, 1, (const rf_point_kinematics *)(in + 19)), PTR(mask, 2, &out.p)); after(s, &out, sizeof out.p); break;
@@ -160,6 +161,16 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size) {
             s = rf_imu_errors_apply(&out.errors, PTR(mask, 2, (const rf_imu_increment *)(in + 56)), &measured);
             after(s, &measured, sizeof measured);
         }
+        break;
+    }
+    case 20: {
+        /* Up to 8 logged samples of 8 doubles each; the grid is the log's times or in[0..]. */
+        size_t count = (size_t)(mask >> 2) % 9, grid = (size_t)(selector / 22) % 9;
+        const double *times = (mask & 2) ? NULL : in;
+        if (times == NULL) grid = 0;
+        s = rf_imu_increments_from_record(PTR(mask, 0, &model), (uint32_t)(selector / 22) % 3, (const rf_recorded_sample *)in, count, times,
+                                          grid, out.incs);
+        after(s, &out, sizeof out.incs);
         break;
     }
     default: s = rf_earth_rotation_angle(in[0], in[1], PTR(mask, 0, out.d)); after(s, &out, sizeof(double)); break;
