@@ -412,7 +412,11 @@ impl SampleSource for RecordedArray<'_> {
     }
     fn sample(&self, index: usize) -> RecordedSample {
         let s = &self.0[index];
-        RecordedSample { time: s.time, position: s.position.into(), attitude: [s.attitude.w, s.attitude.x, s.attitude.y, s.attitude.z] }
+        RecordedSample {
+            time: s.time,
+            position: s.position.into(),
+            attitude: [s.attitude.w, s.attitude.x, s.attitude.y, s.attitude.z],
+        }
     }
     fn time(&self, index: usize) -> f64 {
         self.0[index].time
@@ -455,9 +459,8 @@ pub unsafe extern "C" fn rf_imu_increments_from_record(
         let out_increments = unsafe { slice_mut(out_increments, intervals) }?;
         let mut path = RecordedTrajectory::new(m, RecordedArray(samples))?;
         let time = |k: usize| grid.map_or_else(|| samples[k].time, |g| g[k]);
-        let mut increment = |k: usize| {
-            nav::imu_increment(&m, gravity, &mut |t| path.inertial_motion_at::<AnyFrame>(t), time(k), time(k + 1))
-        };
+        let mut increment =
+            |k: usize| nav::imu_increment(&m, gravity, &mut |t| path.inertial_motion_at::<AnyFrame>(t), time(k), time(k + 1));
         // Check every interval first, so that a bad one leaves the output untouched.
         for k in 0..intervals {
             increment(k)?;
