@@ -9,6 +9,20 @@
  * Every function returns an rf_status and writes results through out-pointers, which are
  * left untouched when the status is not RF_STATUS_OK. No function allocates or keeps state.
  *
+ * Finite input gives finite output or an error status, never NaN or infinity: values beyond
+ * the supported ranges (README, "Input ranges") get RF_STATUS_OUT_OF_RANGE.
+ *
+ * Aliasing: a function on single values reads all its inputs before it writes any output, so
+ * an output may be the same object as an input (rf_quat_multiply(&q, &p, &q) works in place).
+ * Array functions (the _batch, _points, _run and _from_record forms) refuse an output array
+ * that overlaps any input array, or the stepper they update, with
+ * RF_STATUS_OVERLAPPING_BUFFERS, before writing anything.
+ *
+ * Zero initialisation: every configuration struct is valid as `= {0}`. An all-zero
+ * rf_earth_model means WGS 84; an all-zero rf_sensor_errors / rf_imu_error_model is a perfect
+ * sensor (a zero Gauss-Markov time with zero sigma means no Gauss-Markov process); an
+ * all-zero rf_strapdown_config is NED, normal gravity, free vertical channel, WGS 84.
+ *
  * Not certified for safety-of-life use: validate against your own requirements, the
  * standards that apply to you and licensed engineering practice.
  */
@@ -77,6 +91,11 @@ enum rf_status
    * An internal error was caught at the boundary (a bug in rotaframe; please report it).
    */
   RF_STATUS_INTERNAL_ERROR = 11,
+  /**
+   * An output array overlaps an input array (or the stepper) of the same call; array
+   * functions need disjoint buffers.
+   */
+  RF_STATUS_OVERLAPPING_BUFFERS = 12,
 };
 #ifndef __cplusplus
 #if __STDC_VERSION__ >= 202311L
@@ -168,7 +187,8 @@ typedef uint32_t rf_vertical_channel;
 /**
  * The constants of a reference ellipsoid with its normal gravity field. Obtain one from
  * `rf_earth_model_wgs84`, `rf_earth_model_grs80`, `rf_earth_model_from_defining_constants` or
- * `rf_earth_model_custom`; functions validate it on every call.
+ * `rf_earth_model_custom`; functions validate it on every call (ranges, and the plausibility
+ * of the gravity constants). Zero-initialised (`= {0}`) it means WGS 84.
  */
 typedef struct rf_earth_model {
   /**
@@ -397,7 +417,8 @@ typedef struct rf_recorded_sample {
 } rf_recorded_sample;
 
 /**
- * Settings of a strapdown stepper.
+ * Settings of a strapdown stepper. Zero-initialised (`= {0}`) it is a NED mechanization
+ * with normal gravity, a free vertical channel and (the all-zero `earth`) WGS 84.
  */
 typedef struct rf_strapdown_config {
   /**
@@ -489,6 +510,8 @@ typedef struct rf_strapdown {
 
 /**
  * Error model of one sensor triad (gyro units rad/s, accelerometer units m/s²).
+ * Zero-initialised (`= {0}`) it is a perfect sensor: no bias, scale or misalignment error, no
+ * noise and no Gauss–Markov process.
  */
 typedef struct rf_sensor_errors {
   /**
@@ -512,13 +535,14 @@ typedef struct rf_sensor_errors {
    */
   struct rf_vec3 markov_sigma;
   /**
-   * Gauss–Markov correlation time per axis (s); positive, INFINITY for a random constant.
+   * Gauss–Markov correlation time per axis (s); positive, INFINITY for a random constant, or
+   * 0 (with `markov_sigma` 0) for no Gauss–Markov process.
    */
   struct rf_vec3 markov_time;
 } rf_sensor_errors;
 
 /**
- * Error models of both triads.
+ * Error models of both triads. Zero-initialised it is a perfect IMU.
  */
 typedef struct rf_imu_error_model {
   /**
@@ -608,13 +632,15 @@ rf_status rf_ecef_to_geodetic(const struct rf_earth_model *model, const struct r
 
 /**
  * `count` geodetic positions to ECEF. Every input is validated before anything is written;
- * the arrays must not overlap (NULL allowed when `count` is 0).
+ * the arrays must not overlap (`RF_STATUS_OVERLAPPING_BUFFERS`; NULL allowed when `count`
+ * is 0).
  */
 rf_status rf_geodetic_to_ecef_batch(const struct rf_earth_model *model, const struct rf_geodetic *positions, size_t count, struct rf_vec3 *out_ecef);
 
 /**
  * `count` ECEF points to geodetic positions. Every input is validated before anything is
- * written; the arrays must not overlap (NULL allowed when `count` is 0).
+ * written; the arrays must not overlap (`RF_STATUS_OVERLAPPING_BUFFERS`; NULL allowed when `count`
+ * is 0).
  */
 rf_status rf_ecef_to_geodetic_batch(const struct rf_earth_model *model, const struct rf_vec3 *ecef, size_t count, struct rf_geodetic *out_positions);
 
@@ -734,7 +760,8 @@ rf_status rf_motion_map_point(const struct rf_frame_motion *motion, const struct
 
 /**
  * Maps `count` points through one motion. Every input is validated before anything is
- * written; `points` and `out_points` must not overlap (NULL allowed when `count` is 0).
+ * written; `points` and `out_points` must not overlap (`RF_STATUS_OVERLAPPING_BUFFERS`; NULL
+ * allowed when `count` is 0).
  */
 rf_status rf_motion_map_points(const struct rf_frame_motion *motion, const struct rf_point_kinematics *points, size_t count, struct rf_point_kinematics *out_points);
 
@@ -759,7 +786,8 @@ rf_status rf_apparent_terms_compute(const struct rf_vec3 *angular_velocity, cons
 /**
  * The apparent accelerations for `count` points, with the frame's rates and origin
  * acceleration given per point (arrays of `count` each). Every input is validated before
- * anything is written.
+ * anything is written; `out_terms` must not overlap the inputs
+ * (`RF_STATUS_OVERLAPPING_BUFFERS`).
  */
 rf_status rf_apparent_terms_batch(const struct rf_vec3 *angular_velocity, const struct rf_vec3 *angular_acceleration, const struct rf_vec3 *origin_acceleration, const struct rf_vec3 *position, const struct rf_vec3 *velocity, size_t count, struct rf_apparent_terms *out_terms);
 
@@ -844,14 +872,16 @@ rf_status rf_strapdown_reset_history(struct rf_strapdown *strapdown);
 rf_status rf_strapdown_state(const struct rf_strapdown *strapdown, struct rf_nav_state *out_state);
 
 /**
- * Angle random walk in deg/√h converted to the white-noise density in rad/√s.
+ * Angle random walk in deg/√h (non-negative) converted to the white-noise density in rad/√s,
+ * written to `out_density`.
  */
-double rf_angle_random_walk_si(double deg_per_sqrt_hour);
+rf_status rf_angle_random_walk_si(double deg_per_sqrt_hour, double *out_density);
 
 /**
- * Velocity random walk in m/s/√h converted to the white-noise density in m/s/√s.
+ * Velocity random walk in m/s/√h (non-negative) converted to the white-noise density in
+ * m/s/√s, written to `out_density`.
  */
-double rf_velocity_random_walk_si(double mps_per_sqrt_hour);
+rf_status rf_velocity_random_walk_si(double mps_per_sqrt_hour, double *out_density);
 
 /**
  * A seeded error generator for `model`, written to `out_errors`. The same seed gives the
@@ -911,6 +941,12 @@ rf_status rf_quat_from_rotvec(const struct rf_vec3 *rotvec, struct rf_quat *out_
  * Rotation vector (angle in [0, π] × axis) of a unit quaternion.
  */
 rf_status rf_quat_to_rotvec(const struct rf_quat *quat, struct rf_vec3 *out_rotvec);
+
+/**
+ * 1 when this process runs rotaframe's AVX2 + FMA code paths (an x86-64 CPU that has those
+ * instructions), else 0. Results are the same either way; only speed differs.
+ */
+uint32_t rf_fast_kernels_active(void);
 
 /**
  * A static, NUL-terminated English message for a status value (any value: unknown ones get

@@ -3,7 +3,7 @@
 use rotaframe::earth::{self, EarthModel, Geodetic};
 use rotaframe::nalgebra::{Matrix3, Vector3};
 
-use crate::status::{Fallible, boundary, out, read, rf_status, slice, slice_mut};
+use crate::status::{Fallible, boundary, disjoint, out, read, region, rf_status, slice, slice_mut};
 use crate::types::{rf_earth_model, rf_frame_motion, rf_geodetic, rf_vec3};
 
 /// The validated model behind a C pointer.
@@ -107,7 +107,8 @@ pub unsafe extern "C" fn rf_ecef_to_geodetic(
 }
 
 /// `count` geodetic positions to ECEF. Every input is validated before anything is written;
-/// the arrays must not overlap (NULL allowed when `count` is 0).
+/// the arrays must not overlap (`RF_STATUS_OVERLAPPING_BUFFERS`; NULL allowed when `count`
+/// is 0).
 #[unsafe(no_mangle)]
 pub unsafe extern "C" fn rf_geodetic_to_ecef_batch(
     model: *const rf_earth_model,
@@ -118,6 +119,7 @@ pub unsafe extern "C" fn rf_geodetic_to_ecef_batch(
     boundary(|| {
         let m = unsafe { core_model(model) }?;
         let positions = unsafe { slice(positions.cast::<Geodetic>(), count) }?;
+        disjoint(region(out_ecef, count), &[region(positions.as_ptr(), count), region(model, 1)])?;
         let out_ecef = unsafe { slice_mut(out_ecef.cast::<[f64; 3]>(), count) }?;
         earth::geodetic_to_ecef_many(&m, positions, out_ecef)?;
         Ok(())
@@ -125,7 +127,8 @@ pub unsafe extern "C" fn rf_geodetic_to_ecef_batch(
 }
 
 /// `count` ECEF points to geodetic positions. Every input is validated before anything is
-/// written; the arrays must not overlap (NULL allowed when `count` is 0).
+/// written; the arrays must not overlap (`RF_STATUS_OVERLAPPING_BUFFERS`; NULL allowed when `count`
+/// is 0).
 #[unsafe(no_mangle)]
 pub unsafe extern "C" fn rf_ecef_to_geodetic_batch(
     model: *const rf_earth_model,
@@ -136,6 +139,7 @@ pub unsafe extern "C" fn rf_ecef_to_geodetic_batch(
     boundary(|| {
         let m = unsafe { core_model(model) }?;
         let ecef = unsafe { slice(ecef.cast::<[f64; 3]>(), count) }?;
+        disjoint(region(out_positions, count), &[region(ecef.as_ptr(), count), region(model, 1)])?;
         let out_positions = unsafe { slice_mut(out_positions.cast::<Geodetic>(), count) }?;
         earth::ecef_to_geodetic_many(&m, ecef, out_positions)?;
         Ok(())

@@ -4,7 +4,7 @@ use rotaframe::apparent::{FrameDynamics, apparent_acceleration, apparent_terms};
 use rotaframe::frames::{AnyFrame, FreeVector};
 use rotaframe::motion::FrameMotion;
 
-use crate::status::{boundary, out, read, rf_status, slice, slice_mut};
+use crate::status::{boundary, disjoint, out, read, region, rf_status, slice, slice_mut};
 use crate::types::{rf_apparent_terms, rf_frame_motion, rf_point_kinematics, rf_vec3};
 
 rotaframe::frame!(
@@ -98,7 +98,8 @@ pub unsafe extern "C" fn rf_motion_map_point(
 }
 
 /// Maps `count` points through one motion. Every input is validated before anything is
-/// written; `points` and `out_points` must not overlap (NULL allowed when `count` is 0).
+/// written; `points` and `out_points` must not overlap (`RF_STATUS_OVERLAPPING_BUFFERS`; NULL
+/// allowed when `count` is 0).
 #[unsafe(no_mangle)]
 pub unsafe extern "C" fn rf_motion_map_points(
     motion: *const rf_frame_motion,
@@ -109,6 +110,7 @@ pub unsafe extern "C" fn rf_motion_map_points(
     boundary(|| {
         let m = unsafe { read(motion) }?.to_core()?;
         let points = unsafe { slice(points, count) }?;
+        disjoint(region(out_points, count), &[region(points.as_ptr(), count)])?;
         let outs = unsafe { slice_mut(out_points, count) }?;
         for p in points {
             p.to_core()?;
@@ -230,7 +232,8 @@ fn finite(v: &rotaframe::nalgebra::Vector3<f64>) -> bool {
 
 /// The apparent accelerations for `count` points, with the frame's rates and origin
 /// acceleration given per point (arrays of `count` each). Every input is validated before
-/// anything is written.
+/// anything is written; `out_terms` must not overlap the inputs
+/// (`RF_STATUS_OVERLAPPING_BUFFERS`).
 #[unsafe(no_mangle)]
 pub unsafe extern "C" fn rf_apparent_terms_batch(
     angular_velocity: *const rf_vec3,
@@ -251,6 +254,8 @@ pub unsafe extern "C" fn rf_apparent_terms_batch(
                 slice(velocity, count)?,
             )
         };
+        let inputs = [w, al, a0, r, v].map(|s| region(s.as_ptr(), count));
+        disjoint(region(out_terms, count), &inputs)?;
         let outs = unsafe { slice_mut(out_terms, count) }?;
         let elements = || w.iter().zip(al).zip(a0).zip(r).zip(v).map(|((((w, al), a0), r), v)| (*w, *al, *a0, *r, *v));
         let dynamics = |w: rf_vec3, al: rf_vec3, a0: rf_vec3| FrameDynamics {

@@ -15,7 +15,8 @@ use rotaframe::nav::{
 };
 
 use crate::status::{
-    Fallible, RF_STATUS_INVALID_ARGUMENT, RF_STATUS_NULL_POINTER, boundary, out, read, rf_status, slice, slice_mut,
+    Fallible, RF_STATUS_INVALID_ARGUMENT, RF_STATUS_NULL_POINTER, boundary, disjoint, out, read, region, rf_status, slice,
+    slice_mut,
 };
 use crate::types::{rf_earth_model, rf_frame_motion, rf_geodetic, rf_quat, rf_vec3};
 
@@ -97,7 +98,8 @@ pub struct rf_nav_state {
     pub attitude: rf_quat,
 }
 
-/// Settings of a strapdown stepper.
+/// Settings of a strapdown stepper. Zero-initialised (`= {0}`) it is a NED mechanization
+/// with normal gravity, a free vertical channel and (the all-zero `earth`) WGS 84.
 #[repr(C)]
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
 pub struct rf_strapdown_config {
@@ -143,6 +145,8 @@ pub struct rf_strapdown {
 }
 
 /// Error model of one sensor triad (gyro units rad/s, accelerometer units m/s²).
+/// Zero-initialised (`= {0}`) it is a perfect sensor: no bias, scale or misalignment error, no
+/// noise and no Gauss–Markov process.
 #[repr(C)]
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
 pub struct rf_sensor_errors {
@@ -156,11 +160,12 @@ pub struct rf_sensor_errors {
     pub noise_density: rf_vec3,
     /// Gauss–Markov bias steady-state standard deviation per axis.
     pub markov_sigma: rf_vec3,
-    /// Gauss–Markov correlation time per axis (s); positive, INFINITY for a random constant.
+    /// Gauss–Markov correlation time per axis (s); positive, INFINITY for a random constant, or
+    /// 0 (with `markov_sigma` 0) for no Gauss–Markov process.
     pub markov_time: rf_vec3,
 }
 
-/// Error models of both triads.
+/// Error models of both triads. Zero-initialised it is a perfect IMU.
 #[repr(C)]
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
 pub struct rf_imu_error_model {
@@ -328,10 +333,8 @@ pub unsafe extern "C" fn rf_ideal_imu(
 #[unsafe(no_mangle)]
 pub unsafe extern "C" fn rf_quadrature_times(start: f64, end: f64, out_times: *mut f64) -> rf_status {
     boundary(|| {
+        nav::check_interval(start, end)?;
         let out_times = unsafe { slice_mut(out_times, nav::QUADRATURE_NODES) }?;
-        if !(start.is_finite() && end.is_finite()) {
-            return Err(rotaframe::Error::NonFinite { quantity: "start" }.into());
-        }
         out_times.copy_from_slice(&nav::quadrature_times(start, end));
         Ok(())
     })
@@ -348,9 +351,11 @@ pub unsafe extern "C" fn rf_imu_increment_from_samples(
     boundary(|| {
         let samples = unsafe { slice(samples, nav::QUADRATURE_NODES) }?;
         let out_increment = unsafe { out(out_increment) }?;
+        nav::check_interval(start, end)?;
         let mut core_samples = [ImuSample::default(); nav::QUADRATURE_NODES];
         for (c, s) in core_samples.iter_mut().zip(samples) {
             *c = ImuSample { angular_rate: s.angular_rate.into(), specific_force: s.specific_force.into() };
+            c.validate()?;
         }
         let increment = nav::increment_from_node_samples(start, end, &core_samples);
         increment.validate()?;
@@ -456,6 +461,11 @@ pub unsafe extern "C" fn rf_imu_increments_from_record(
             }
             Some(g) => g.len() - 1,
         };
+        let mut inputs = [region(samples.as_ptr(), sample_count), region(model, 1), (0, 0)];
+        if let Some(g) = grid {
+            inputs[2] = region(g.as_ptr(), g.len());
+        }
+        disjoint(region(out_increments, intervals), &inputs)?;
         let out_increments = unsafe { slice_mut(out_increments, intervals) }?;
         let mut path = RecordedTrajectory::new(m, RecordedArray(samples))?;
         let time = |k: usize| grid.map_or_else(|| samples[k].time, |g| g[k]);
@@ -521,6 +531,12 @@ pub unsafe extern "C" fn rf_strapdown_run(
         // (asserted at the top of this module).
         let increments = unsafe { slice(increments.cast::<ImuIncrement>(), count) }?;
         let heights = if height_reference.is_null() { None } else { Some(unsafe { slice(height_reference, count) }?) };
+        let input_regions = [region(increments.as_ptr(), count), heights.map_or((0, 0), |h| region(h.as_ptr(), count))];
+        if strapdown.is_null() {
+            return Err(RF_STATUS_NULL_POINTER);
+        }
+        disjoint(region(strapdown, 1), &input_regions)?;
+        disjoint(region(out_states, count), &[input_regions[0], input_regions[1], region(strapdown, 1)])?;
         let strapdown = unsafe { out(strapdown) }?;
         let out_states = unsafe { slice_mut(out_states, count) }?;
         let mut stepper = strapdown.to_core()?;
@@ -575,28 +591,63 @@ pub unsafe extern "C" fn rf_strapdown_state(strapdown: *const rf_strapdown, out_
     })
 }
 
-/// Angle random walk in deg/√h converted to the white-noise density in rad/√s.
-#[unsafe(no_mangle)]
-pub extern "C" fn rf_angle_random_walk_si(deg_per_sqrt_hour: f64) -> f64 {
-    nav::angle_random_walk_from_deg_per_sqrt_hour(deg_per_sqrt_hour)
+/// A noise density in trade units converted by `convert`, refused when negative or not finite
+/// (a density is a non-negative spectral amplitude).
+fn density(value: f64, convert: fn(f64) -> f64, quantity: &'static str) -> Fallible<f64> {
+    if !value.is_finite() {
+        return Err(rotaframe::Error::NonFinite { quantity }.into());
+    }
+    if value < 0.0 {
+        return Err(rotaframe::Error::Invalid { quantity, reason: "a noise density must be non-negative" }.into());
+    }
+    Ok(convert(value))
 }
 
-/// Velocity random walk in m/s/√h converted to the white-noise density in m/s/√s.
+/// Angle random walk in deg/√h (non-negative) converted to the white-noise density in rad/√s,
+/// written to `out_density`.
 #[unsafe(no_mangle)]
-pub extern "C" fn rf_velocity_random_walk_si(mps_per_sqrt_hour: f64) -> f64 {
-    nav::velocity_random_walk_from_mps_per_sqrt_hour(mps_per_sqrt_hour)
+pub unsafe extern "C" fn rf_angle_random_walk_si(deg_per_sqrt_hour: f64, out_density: *mut f64) -> rf_status {
+    boundary(|| {
+        let out_density = unsafe { out(out_density) }?;
+        *out_density = density(deg_per_sqrt_hour, nav::angle_random_walk_from_deg_per_sqrt_hour, "deg_per_sqrt_hour")?;
+        Ok(())
+    })
+}
+
+/// Velocity random walk in m/s/√h (non-negative) converted to the white-noise density in
+/// m/s/√s, written to `out_density`.
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn rf_velocity_random_walk_si(mps_per_sqrt_hour: f64, out_density: *mut f64) -> rf_status {
+    boundary(|| {
+        let out_density = unsafe { out(out_density) }?;
+        *out_density = density(mps_per_sqrt_hour, nav::velocity_random_walk_from_mps_per_sqrt_hour, "mps_per_sqrt_hour")?;
+        Ok(())
+    })
 }
 
 impl rf_sensor_errors {
-    fn to_core(self) -> SensorErrorModel {
-        SensorErrorModel {
+    /// The core model. A zero `markov_time` on an axis whose `markov_sigma` is zero means "no
+    /// Gauss–Markov process" (so that a zero-initialised struct is a perfect sensor); a zero
+    /// time with a non-zero σ is refused.
+    fn to_core(self) -> Fallible<SensorErrorModel> {
+        let mut markov_time: Vector3<f64> = self.markov_time.into();
+        let sigma: Vector3<f64> = self.markov_sigma.into();
+        for i in 0..3 {
+            if markov_time[i] == 0.0 {
+                if sigma[i] != 0.0 {
+                    return Err(rotaframe::Error::NotPositive { quantity: "markov_time", value: 0.0 }.into());
+                }
+                markov_time[i] = f64::INFINITY;
+            }
+        }
+        Ok(SensorErrorModel {
             bias: self.bias.into(),
             scale_factor: self.scale_factor.into(),
             misalignment: Matrix3::from_row_slice(&self.misalignment),
             noise_density: self.noise_density.into(),
-            markov_sigma: self.markov_sigma.into(),
-            markov_time: self.markov_time.into(),
-        }
+            markov_sigma: sigma,
+            markov_time,
+        })
     }
 }
 
@@ -627,7 +678,7 @@ fn stream_from_words(words: &[u64; 4]) -> Fallible<Xoshiro256PlusPlus> {
 
 impl rf_imu_errors {
     fn to_core(self) -> Fallible<ImuErrorGenerator> {
-        let model = ImuErrorModel { gyro: self.model.gyro.to_core(), accelerometer: self.model.accelerometer.to_core() };
+        let model = ImuErrorModel { gyro: self.model.gyro.to_core()?, accelerometer: self.model.accelerometer.to_core()? };
         Ok(ImuErrorGenerator::from_parts(
             model,
             stream_from_words(&self.stream)?,
@@ -655,7 +706,7 @@ pub unsafe extern "C" fn rf_imu_errors_init(
     boundary(|| {
         let model_c = unsafe { read(model) }?;
         let out_errors = unsafe { out(out_errors) }?;
-        let core_model = ImuErrorModel { gyro: model_c.gyro.to_core(), accelerometer: model_c.accelerometer.to_core() };
+        let core_model = ImuErrorModel { gyro: model_c.gyro.to_core()?, accelerometer: model_c.accelerometer.to_core()? };
         let generator = ImuErrorGenerator::new(core_model, seed)?;
         let mut result = rf_imu_errors { model: model_c, ..rf_imu_errors::default() };
         result.store(&generator);

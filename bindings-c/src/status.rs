@@ -30,6 +30,9 @@ pub enum rf_status {
     RF_STATUS_INVALID_ARGUMENT = 10,
     /// An internal error was caught at the boundary (a bug in rotaframe; please report it).
     RF_STATUS_INTERNAL_ERROR = 11,
+    /// An output array overlaps an input array (or the stepper) of the same call; array
+    /// functions need disjoint buffers.
+    RF_STATUS_OVERLAPPING_BUFFERS = 12,
 }
 
 pub use rf_status::*;
@@ -44,7 +47,7 @@ impl From<Error> for rf_status {
             Error::ZeroNorm { .. } => RF_STATUS_ZERO_NORM,
             Error::NotUnitQuaternion { .. } => RF_STATUS_NOT_UNIT_QUATERNION,
             Error::NotRotationMatrix { .. } => RF_STATUS_NOT_ROTATION_MATRIX,
-            Error::OutOfRange { .. } => RF_STATUS_OUT_OF_RANGE,
+            Error::OutOfRange { .. } | Error::BeyondLimit { .. } => RF_STATUS_OUT_OF_RANGE,
             Error::NotPositive { .. } => RF_STATUS_NOT_POSITIVE,
             Error::NearPole { .. } => RF_STATUS_NEAR_POLE,
             Error::NearEarthCentre { .. } => RF_STATUS_NEAR_EARTH_CENTRE,
@@ -59,6 +62,13 @@ impl From<rotaframe::BatchError> for rf_status {
     }
 }
 
+/// 1 when this process runs rotaframe's AVX2 + FMA code paths (an x86-64 CPU that has those
+/// instructions), else 0. Results are the same either way; only speed differs.
+#[unsafe(no_mangle)]
+pub extern "C" fn rf_fast_kernels_active() -> u32 {
+    u32::from(rotaframe::dispatch::fast_kernels_active())
+}
+
 /// A static, NUL-terminated English message for a status value (any value: unknown ones get
 /// a message saying so). The string lives for the whole program.
 #[unsafe(no_mangle)]
@@ -67,7 +77,7 @@ pub extern "C" fn rf_status_message(status: u32) -> *const core::ffi::c_char {
         0 => c"ok",
         1 => c"a required pointer argument is NULL",
         2 => c"an input is NaN or infinite",
-        3 => c"a value is outside its allowed range",
+        3 => c"a value is outside its allowed or supported range",
         4 => c"a quaternion is not of unit norm (allowed 1 +/- 1e-6)",
         5 => c"a quaternion or direction vector has zero norm",
         6 => c"a matrix is not a rotation (orthonormal, determinant +1)",
@@ -76,6 +86,7 @@ pub extern "C" fn rf_status_message(status: u32) -> *const core::ffi::c_char {
         9 => c"a value that must be positive is not",
         10 => c"arguments are inconsistent",
         11 => c"internal error caught at the rotaframe boundary",
+        12 => c"an output array overlaps an input array of the same call",
         _ => c"unknown rotaframe status",
     };
     message.as_ptr()
@@ -155,4 +166,27 @@ pub unsafe fn slice_mut<'a, T>(p: *mut T, n: usize) -> Fallible<&'a mut [T]> {
     }
     // SAFETY: non-NULL, and the caller guarantees `n` writable elements.
     Ok(unsafe { core::slice::from_raw_parts_mut(p, n) })
+}
+
+/// The bytes an array of `n` `T` at `p` occupies, as an address range.
+#[inline(always)]
+pub fn region<T>(p: *const T, n: usize) -> (usize, usize) {
+    let start = p as usize;
+    (start, start.saturating_add(n.saturating_mul(core::mem::size_of::<T>())))
+}
+
+/// `RF_STATUS_OVERLAPPING_BUFFERS` if the output region overlaps any input region (empty
+/// regions overlap nothing). Call before forming the output slice: array functions never
+/// work in place, and a Rust slice may not alias another.
+#[inline]
+pub fn disjoint(output: (usize, usize), inputs: &[(usize, usize)]) -> Fallible<()> {
+    let (o0, o1) = output;
+    if o0 == o1 {
+        return Ok(());
+    }
+    if inputs.iter().any(|&(i0, i1)| i0 < i1 && i0 < o1 && o0 < i1) {
+        Err(rf_status::RF_STATUS_OVERLAPPING_BUFFERS)
+    } else {
+        Ok(())
+    }
 }

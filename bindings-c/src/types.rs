@@ -107,7 +107,8 @@ pub struct rf_euler {
 
 /// The constants of a reference ellipsoid with its normal gravity field. Obtain one from
 /// `rf_earth_model_wgs84`, `rf_earth_model_grs80`, `rf_earth_model_from_defining_constants` or
-/// `rf_earth_model_custom`; functions validate it on every call.
+/// `rf_earth_model_custom`; functions validate it on every call (ranges, and the plausibility
+/// of the gravity constants). Zero-initialised (`= {0}`) it means WGS 84.
 #[repr(C)]
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
 pub struct rf_earth_model {
@@ -234,7 +235,12 @@ impl rf_earth_model {
     pub fn to_core(&self) -> Fallible<EarthModel> {
         // SAFETY: same size, alignment and field offsets (asserted below); all fields are f64.
         let constants = unsafe { &*core::ptr::from_ref(self).cast::<EarthModelConstants>() };
-        Ok(EarthModel::from_constants(constants)?)
+        match EarthModel::from_constants(constants) {
+            Ok(model) => Ok(model),
+            // The zero-initialised struct is WGS 84, as an omitted model is everywhere else.
+            Err(_) if *self == Self::default() => Ok(rotaframe::earth::WGS84),
+            Err(e) => Err(e.into()),
+        }
     }
 }
 

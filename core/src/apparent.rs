@@ -31,7 +31,7 @@ use core::marker::PhantomData;
 
 use nalgebra::Vector3;
 
-use crate::error::{Result, ensure_finite3};
+use crate::error::Result;
 use crate::frames::{AnyFrame, Frame, InertialFrame, PointKinematics};
 use crate::motion::FrameMotion;
 
@@ -48,14 +48,17 @@ pub struct FrameDynamics {
 }
 
 impl FrameDynamics {
-    /// Checks every part for NaN and infinity, naming the first bad one.
+    /// Checks every part for NaN, infinity and magnitudes beyond the [`limits`](crate::limits),
+    /// naming the first bad one.
     ///
     /// # Errors
-    /// [`Error::NonFinite`](crate::Error::NonFinite).
+    /// [`Error::NonFinite`](crate::Error::NonFinite) or
+    /// [`Error::BeyondLimit`](crate::Error::BeyondLimit).
     pub fn validate(&self) -> Result<()> {
-        ensure_finite3(&self.angular_velocity, "angular_velocity")?;
-        ensure_finite3(&self.angular_acceleration, "angular_acceleration")?;
-        ensure_finite3(&self.origin_acceleration, "origin_acceleration")
+        use crate::limits::{MAX_ACCELERATION, MAX_ANGULAR_ACCELERATION, MAX_ANGULAR_VELOCITY, check_vector};
+        check_vector(&self.angular_velocity, MAX_ANGULAR_VELOCITY, "rad/s", "angular_velocity")?;
+        check_vector(&self.angular_acceleration, MAX_ANGULAR_ACCELERATION, "rad/s²", "angular_acceleration")?;
+        check_vector(&self.origin_acceleration, MAX_ACCELERATION, "m/s²", "origin_acceleration")
     }
 
     /// The dynamics of B taken from its motion relative to an inertial frame, resolved in B.
@@ -164,7 +167,9 @@ impl<B: Frame> ApparentAcceleration<B> {
 /// The apparent-acceleration terms for a point at `position` with `velocity` relative to a
 /// frame B whose `dynamics` relative to an inertial frame are given; every vector is resolved
 /// in B. This plain-vector form serves the bindings and batch loops; prefer
-/// [`apparent_acceleration`] in typed code.
+/// [`apparent_acceleration`] in typed code. The result is finite when the dynamics pass
+/// [`FrameDynamics::validate`] and the point is within
+/// [`MAX_POSITION`](crate::limits::MAX_POSITION) and [`MAX_VELOCITY`](crate::limits::MAX_VELOCITY).
 ///
 /// # Example
 /// A ball rolled towards the centre of a turntable turning counter-clockwise (ω along +z) is

@@ -39,7 +39,7 @@ pub enum Error {
         quantity: &'static str,
     },
     /// A quaternion whose norm is too far from one to be a rotation.
-    #[error("`{quantity}` must be a unit quaternion (norm {norm}, allowed 1 ± {tolerance})")]
+    #[error("`{quantity}` must be a unit quaternion (norm {}, allowed 1 ± {})", num(.norm), num(.tolerance))]
     NotUnitQuaternion {
         /// The rejected quantity.
         quantity: &'static str,
@@ -49,7 +49,7 @@ pub enum Error {
         tolerance: f64,
     },
     /// A 3×3 matrix that is not a proper rotation (orthonormal with determinant +1).
-    #[error("`{quantity}` must be a rotation matrix (largest |MᵀM − I| entry {orthogonality_error}, determinant {determinant})")]
+    #[error("`{quantity}` must be a rotation matrix (largest |MᵀM − I| entry {}, determinant {})", num(.orthogonality_error), num(.determinant))]
     NotRotationMatrix {
         /// The rejected quantity.
         quantity: &'static str,
@@ -59,7 +59,7 @@ pub enum Error {
         determinant: f64,
     },
     /// A scalar outside its allowed closed interval.
-    #[error("`{quantity}` = {value} is outside [{min}, {max}]")]
+    #[error("`{quantity}` = {} is outside [{}, {}]", num(.value), num(.min), num(.max))]
     OutOfRange {
         /// The rejected quantity.
         quantity: &'static str,
@@ -71,7 +71,7 @@ pub enum Error {
         max: f64,
     },
     /// A scalar that must be strictly positive is not.
-    #[error("`{quantity}` = {value} must be positive")]
+    #[error("`{quantity}` = {} must be positive", num(.value))]
     NotPositive {
         /// The rejected quantity.
         quantity: &'static str,
@@ -80,7 +80,9 @@ pub enum Error {
     },
     /// A latitude so close to a pole that the local-level (north, east) axes are undefined.
     #[error(
-        "`{quantity}` = {value} rad is within {limit} rad of a pole, where north-east-down axes are singular; use an Earth-fixed formulation there"
+        "`{quantity}` = {} rad is within {} rad of a pole, where north-east-down axes are singular; use an Earth-fixed formulation there",
+        num(.value),
+        num(.limit)
     )]
     NearPole {
         /// The rejected quantity.
@@ -92,7 +94,9 @@ pub enum Error {
     },
     /// A position so close to the Earth's centre that geodetic coordinates are not unique.
     #[error(
-        "`{quantity}` is {distance} m from the Earth's centre, inside the {limit} m region where geodetic coordinates are not unique"
+        "`{quantity}` is {} m from the Earth's centre, inside the {} m region where geodetic coordinates are not unique",
+        num(.distance),
+        num(.limit)
     )]
     NearEarthCentre {
         /// The rejected quantity.
@@ -111,6 +115,19 @@ pub enum Error {
         found: usize,
         /// The length required.
         expected: usize,
+    },
+    /// A finite value too large in magnitude for the function to give a finite, accurate
+    /// result (see [`limits`](crate::limits) for the supported ranges).
+    #[error("`{quantity}` magnitude {} {unit} is beyond the supported range (at most {} {unit})", num(.magnitude), num(.limit))]
+    BeyondLimit {
+        /// The rejected quantity.
+        quantity: &'static str,
+        /// Its magnitude (the norm of a vector, the absolute value of a scalar).
+        magnitude: f64,
+        /// The largest supported magnitude.
+        limit: f64,
+        /// The SI unit of the quantity, for the message.
+        unit: &'static str,
     },
     /// A set of parameters that is inconsistent for a reason given in the message.
     #[error("`{quantity}` is invalid: {reason}")]
@@ -141,6 +158,7 @@ impl Error {
             | Error::NearPole { quantity, .. }
             | Error::NearEarthCentre { quantity, .. }
             | Error::LengthMismatch { quantity, .. }
+            | Error::BeyondLimit { quantity, .. }
             | Error::Invalid { quantity, .. } => quantity,
         }
     }
@@ -169,8 +187,50 @@ impl Error {
             Error::NearPole { value, limit, .. } => Error::NearPole { quantity, value, limit },
             Error::NearEarthCentre { distance, limit, .. } => Error::NearEarthCentre { quantity, distance, limit },
             Error::LengthMismatch { found, expected, .. } => Error::LengthMismatch { quantity, found, expected },
+            Error::BeyondLimit { magnitude, limit, unit, .. } => Error::BeyondLimit { quantity, magnitude, limit, unit },
             Error::Invalid { reason, .. } => Error::Invalid { quantity, reason },
         }
+    }
+}
+
+/// A number as messages print it: the shortest digits that read back to the same f64, in
+/// positional or exponent form, whichever is shorter (`0.1`, `6378137`, `1e15`,
+/// `2.2250738585072014e-308`), never a long run of zeros.
+///
+/// ```
+/// use rotaframe::error::num;
+/// assert_eq!(num(&2.2250738585072014e-308).to_string(), "2.2250738585072014e-308");
+/// assert_eq!(num(&1e15).to_string(), "1e15");
+/// assert_eq!(num(&6378137.0).to_string(), "6378137");
+/// assert_eq!(num(&-0.25).to_string(), "-0.25");
+/// ```
+#[must_use]
+pub fn num(value: &f64) -> Num {
+    Num(*value)
+}
+
+/// See [`num`].
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Num(pub f64);
+
+impl fmt::Display for Num {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        /// Counts the bytes a formatting would write, without storing them.
+        struct Count(usize);
+        impl fmt::Write for Count {
+            fn write_str(&mut self, s: &str) -> fmt::Result {
+                self.0 += s.len();
+                Ok(())
+            }
+        }
+        let x = self.0;
+        if !x.is_finite() {
+            return write!(f, "{x}");
+        }
+        let (mut positional, mut exponent) = (Count(0), Count(0));
+        fmt::write(&mut positional, format_args!("{x}"))?;
+        fmt::write(&mut exponent, format_args!("{x:e}"))?;
+        if exponent.0 < positional.0 { write!(f, "{x:e}") } else { write!(f, "{x}") }
     }
 }
 

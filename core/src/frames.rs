@@ -58,7 +58,7 @@ use core::marker::PhantomData;
 
 use nalgebra::Vector3;
 
-use crate::error::{Result, ensure_finite3};
+use crate::error::Result;
 
 /// A reference frame marker. Implemented by zero-sized types; see [`frame!`](crate::frame).
 pub trait Frame: Copy + Default + fmt::Debug + Send + Sync + 'static {
@@ -159,12 +159,14 @@ impl<F: Frame> FreeVector<F> {
         Self { vector, frame: PhantomData }
     }
 
-    /// Like [`from_vector`](Self::from_vector) but rejects NaN or infinite components.
+    /// Like [`from_vector`](Self::from_vector) but rejects NaN or infinite components and
+    /// magnitudes beyond [`MAX_FREE_VECTOR`](crate::limits::MAX_FREE_VECTOR).
     ///
     /// # Errors
-    /// [`Error::NonFinite`](crate::Error::NonFinite) naming `quantity`.
+    /// [`Error::NonFinite`](crate::Error::NonFinite) or
+    /// [`Error::BeyondLimit`](crate::Error::BeyondLimit) naming `quantity`.
     pub fn try_from_vector(vector: Vector3<f64>, quantity: &'static str) -> Result<Self> {
-        ensure_finite3(&vector, quantity)?;
+        crate::limits::check_vector(&vector, crate::limits::MAX_FREE_VECTOR, "(SI units)", quantity)?;
         Ok(Self::from_vector(vector))
     }
 }
@@ -219,16 +221,31 @@ impl<F: Frame> PointKinematics<F> {
         Self::new(position, Vector3::zeros(), Vector3::zeros())
     }
 
-    /// Like [`new`](Self::new) but rejects NaN or infinite components, naming the first bad part
+    /// Like [`new`](Self::new) but rejects NaN or infinite components and components beyond
+    /// the [`limits`](crate::limits) ([`MAX_POSITION`](crate::limits::MAX_POSITION),
+    /// [`MAX_VELOCITY`](crate::limits::MAX_VELOCITY),
+    /// [`MAX_ACCELERATION`](crate::limits::MAX_ACCELERATION)), naming the first bad part
     /// (`position`, `velocity` or `acceleration`).
     ///
     /// # Errors
-    /// [`Error::NonFinite`](crate::Error::NonFinite).
+    /// [`Error::NonFinite`](crate::Error::NonFinite) or
+    /// [`Error::BeyondLimit`](crate::Error::BeyondLimit).
     pub fn try_new(position: Vector3<f64>, velocity: Vector3<f64>, acceleration: Vector3<f64>) -> Result<Self> {
-        ensure_finite3(&position, "position")?;
-        ensure_finite3(&velocity, "velocity")?;
-        ensure_finite3(&acceleration, "acceleration")?;
-        Ok(Self::new(position, velocity, acceleration))
+        let point = Self::new(position, velocity, acceleration);
+        point.validate()?;
+        Ok(point)
+    }
+
+    /// Checks the point as [`try_new`](Self::try_new) does.
+    ///
+    /// # Errors
+    /// As [`try_new`](Self::try_new).
+    #[inline]
+    pub fn validate(&self) -> Result<()> {
+        use crate::limits::{MAX_ACCELERATION, MAX_POSITION, MAX_VELOCITY, check_vector};
+        check_vector(&self.position, MAX_POSITION, "m", "position")?;
+        check_vector(&self.velocity, MAX_VELOCITY, "m/s", "velocity")?;
+        check_vector(&self.acceleration, MAX_ACCELERATION, "m/s²", "acceleration")
     }
 }
 

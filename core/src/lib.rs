@@ -14,6 +14,8 @@
 //! * [`apparent`]: translational, Coriolis, centrifugal and Euler accelerations;
 //! * [`rotation`]: quaternions, direction-cosine matrices, Euler angles, rotation vectors;
 //! * [`earth`]: ellipsoids, geodetic coordinates, local-level frames, Earth rotation, gravity;
+//! * [`dispatch`]: run-time choice of AVX2 + FMA code paths (one binary for every x86-64 CPU);
+//! * [`limits`]: the supported input ranges (finite input inside them gives finite output);
 //! * [`nav`]: ideal IMU output and increments, strapdown mechanization (NED and ECEF), sensor
 //!   error models, lever arms.
 //!
@@ -53,16 +55,20 @@
 
 #![cfg_attr(not(feature = "std"), no_std)]
 #![deny(missing_docs)]
-#![forbid(unsafe_code)]
+// One module holds unsafe code: `dispatch`, which calls the AVX2 + FMA copy of the hot loops
+// after checking that the CPU has those instructions.
+#![deny(unsafe_code)]
 
 mod dd;
 mod dd_tables;
 mod math;
 
 pub mod apparent;
+pub mod dispatch;
 pub mod earth;
 pub mod error;
 pub mod frames;
+pub mod limits;
 pub mod motion;
 pub mod nav;
 pub mod rotation;

@@ -72,6 +72,7 @@ use nalgebra::{Matrix3, Unit, UnitQuaternion, Vector3};
 
 use crate::error::{Error, Result, ensure_finite, ensure_finite1, ensure_finite3};
 use crate::frames::{AnyFrame, Frame, FreeVector, PointKinematics};
+use crate::limits;
 use crate::math;
 use crate::rotation::UNIT_NORM_TOLERANCE;
 
@@ -194,34 +195,33 @@ impl<P: Frame, C: Frame> FrameMotion<P, C> {
         Self::from_parts_unchecked(MotionParts::default())
     }
 
-    /// A motion from its parts, after checking that every part is finite and the rotation is a
-    /// unit quaternion within [`UNIT_NORM_TOLERANCE`] (it is renormalised unless already unit
-    /// to within [`UNIT_AS_GIVEN`](crate::rotation::UNIT_AS_GIVEN)).
+    /// A motion from its parts, after checking that every part is finite and within its limit
+    /// in [`limits`] and that the rotation is a unit quaternion within [`UNIT_NORM_TOLERANCE`]
+    /// (it is renormalised unless already unit to within
+    /// [`UNIT_AS_GIVEN`](crate::rotation::UNIT_AS_GIVEN)).
     ///
     /// # Errors
-    /// [`Error::NonFinite`] or [`Error::NotUnitQuaternion`] naming the part (`rotation`,
-    /// `position`, `velocity`, `acceleration`, `angular_velocity`, `angular_acceleration`).
+    /// [`Error::NonFinite`], [`Error::BeyondLimit`] or [`Error::NotUnitQuaternion`] naming the
+    /// part (`rotation`, `position`, `velocity`, `acceleration`, `angular_velocity`,
+    /// `angular_acceleration`).
     pub fn from_parts(parts: MotionParts) -> Result<Self> {
         let q = parts.rotation.into_inner();
-        // Branch-free acceptance of good parts: a finite sum of `x · 0` over every component
-        // (zero exactly when all are finite) and a rotation already unit to the last ulps.
-        let probe: f64 = [parts.position, parts.velocity, parts.acceleration, parts.angular_velocity, parts.angular_acceleration]
-            .iter()
-            .map(|v| v.x * 0.0 + v.y * 0.0 + v.z * 0.0)
-            .sum();
-        if (probe == 0.0) & ((q.norm_squared() - 1.0).abs() <= crate::rotation::UNIT_AS_GIVEN) {
+        // Branch-free acceptance of good parts: every component within its limit (NaN fails
+        // the comparison) and a rotation already unit to the last ulps.
+        let good = limits::within(&parts.position, limits::MAX_POSITION)
+            & limits::within(&parts.velocity, limits::MAX_VELOCITY)
+            & limits::within(&parts.acceleration, limits::MAX_ACCELERATION)
+            & limits::within(&parts.angular_velocity, limits::MAX_ANGULAR_VELOCITY)
+            & limits::within(&parts.angular_acceleration, limits::MAX_ANGULAR_ACCELERATION);
+        if good & ((q.norm_squared() - 1.0).abs() <= crate::rotation::UNIT_AS_GIVEN) {
             return Ok(Self::from_parts_unchecked(parts));
         }
         ensure_finite(q.coords.as_slice(), "rotation")?;
         let norm = q.norm();
-        if (norm - 1.0).abs() > UNIT_NORM_TOLERANCE {
+        if !(norm - 1.0).abs().le(&UNIT_NORM_TOLERANCE) {
             return Err(Error::NotUnitQuaternion { quantity: "rotation", norm, tolerance: UNIT_NORM_TOLERANCE });
         }
-        ensure_finite3(&parts.position, "position")?;
-        ensure_finite3(&parts.velocity, "velocity")?;
-        ensure_finite3(&parts.acceleration, "acceleration")?;
-        ensure_finite3(&parts.angular_velocity, "angular_velocity")?;
-        ensure_finite3(&parts.angular_acceleration, "angular_acceleration")?;
+        check_parts(&parts)?;
         Ok(Self::from_parts_unchecked(MotionParts { rotation: UnitQuaternion::new_unchecked(q / norm), ..parts }))
     }
 
@@ -272,8 +272,8 @@ impl<P: Frame, C: Frame> FrameMotion<P, C> {
     pub fn about_axis(axis: Vector3<f64>, angle: f64, angular_rate: f64, angular_acceleration: f64) -> Result<Self> {
         ensure_finite3(&axis, "axis")?;
         ensure_finite1(angle, "angle")?;
-        ensure_finite1(angular_rate, "angular_rate")?;
-        ensure_finite1(angular_acceleration, "angular_acceleration")?;
+        limits::check_scalar(angular_rate, limits::MAX_ANGULAR_VELOCITY, "rad/s", "angular_rate")?;
+        limits::check_scalar(angular_acceleration, limits::MAX_ANGULAR_ACCELERATION, "rad/s²", "angular_acceleration")?;
         let unit = Unit::try_new(axis, math::TINY_NORM).ok_or(Error::ZeroNorm { quantity: "axis" })?;
         Ok(Self::from_parts_unchecked(MotionParts {
             rotation: UnitQuaternion::from_axis_angle(&unit, angle),
@@ -289,8 +289,8 @@ impl<P: Frame, C: Frame> FrameMotion<P, C> {
     /// # Errors
     /// As [`about_axis`](Self::about_axis), and [`Error::NonFinite`] for `time`.
     pub fn spin(axis: Vector3<f64>, angular_rate: f64, time: f64) -> Result<Self> {
-        ensure_finite1(time, "time")?;
-        ensure_finite1(angular_rate, "angular_rate")?;
+        limits::check_scalar(time, limits::MAX_TIME, "s", "time")?;
+        limits::check_scalar(angular_rate, limits::MAX_ANGULAR_VELOCITY, "rad/s", "angular_rate")?;
         Self::about_axis(axis, angular_rate * time, angular_rate, 0.0)
     }
 
@@ -515,6 +515,19 @@ impl<P: Frame, C: Frame> FrameMotion<P, C> {
     pub fn erase_frames(&self) -> FrameMotion<AnyFrame, AnyFrame> {
         FrameMotion::from_parts_unchecked(self.parts())
     }
+}
+
+/// Checks every vector part of a motion against its limit in [`limits`], naming the part.
+///
+/// # Errors
+/// [`Error::NonFinite`] or [`Error::BeyondLimit`] naming `position`, `velocity`,
+/// `acceleration`, `angular_velocity` or `angular_acceleration`.
+pub fn check_parts(parts: &MotionParts) -> Result<()> {
+    limits::check_vector(&parts.position, limits::MAX_POSITION, "m", "position")?;
+    limits::check_vector(&parts.velocity, limits::MAX_VELOCITY, "m/s", "velocity")?;
+    limits::check_vector(&parts.acceleration, limits::MAX_ACCELERATION, "m/s²", "acceleration")?;
+    limits::check_vector(&parts.angular_velocity, limits::MAX_ANGULAR_VELOCITY, "rad/s", "angular_velocity")?;
+    limits::check_vector(&parts.angular_acceleration, limits::MAX_ANGULAR_ACCELERATION, "rad/s²", "angular_acceleration")
 }
 
 impl FrameMotion<AnyFrame, AnyFrame> {

@@ -27,7 +27,7 @@
 
 use nalgebra::{Matrix3, Quaternion, Rotation3, UnitQuaternion, Vector3};
 
-use crate::error::{Error, Result, ensure_finite, ensure_finite3};
+use crate::error::{Error, Result, ensure_finite};
 use crate::math;
 
 /// Largest accepted deviation of a quaternion's norm from one before it is rejected as
@@ -75,7 +75,9 @@ pub fn quaternion_from_wxyz(wxyz: [f64; 4], quantity: &'static str) -> Result<Un
     }
     ensure_finite(&wxyz, quantity)?;
     let q = Quaternion::new(wxyz[0], wxyz[1], wxyz[2], wxyz[3]);
-    let norm = q.norm();
+    // Scaled by the largest component, so that the norm of huge components stays finite.
+    let largest = q.coords.amax();
+    let norm = if largest > 1.0 { (q.coords / largest).norm() * largest } else { q.norm() };
     if norm < math::TINY_NORM {
         return Err(Error::ZeroNorm { quantity });
     }
@@ -229,7 +231,7 @@ impl EulerZyx {
 /// assert_relative_eq!(rotation_vector_from_quaternion(&q), theta, max_relative = 1e-15);
 /// ```
 pub fn quaternion_from_rotation_vector(rotation_vector: &Vector3<f64>, quantity: &'static str) -> Result<UnitQuaternion<f64>> {
-    ensure_finite3(rotation_vector, quantity)?;
+    crate::limits::check_vector(rotation_vector, crate::limits::MAX_ROTATION_ANGLE, "rad", quantity)?;
     Ok(UnitQuaternion::from_scaled_axis(*rotation_vector))
 }
 

@@ -37,6 +37,15 @@ static int check_count = 0;
         CHECK(fabs(close_g_ - close_w_) <= (tol), "%s: got %.17g, want %.17g (tolerance %g)", what, close_g_, close_w_, (double)(tol)); \
     } while (0)
 
+/* Every one of the `n` bytes at `p` still holds the `fill` byte written before a call. */
+static inline int still_filled(const void *p, size_t n, unsigned char fill) {
+    const unsigned char *b = (const unsigned char *)p;
+    size_t i;
+    for (i = 0; i < n; ++i)
+        if (b[i] != fill) return 0;
+    return 1;
+}
+
 static int check_report(const char *name) {
     if (check_failures == 0) {
         printf("%s: %d checks passed\n", name, check_count);

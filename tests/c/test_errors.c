@@ -3,18 +3,7 @@
 
 /* Fills an output with a recognisable pattern and checks it afterwards. */
 #define SENTINEL 0x5A
-#define UNTOUCHED(obj) untouched(&(obj), sizeof(obj))
-
-static int untouched(const void *p, size_t n) {
-    const unsigned char *b = (const unsigned char *)p;
-    size_t i;
-    for (i = 0; i < n; ++i) {
-        if (b[i] != SENTINEL) {
-            return 0;
-        }
-    }
-    return 1;
-}
+#define UNTOUCHED(obj) still_filled(&(obj), sizeof(obj), SENTINEL)
 
 #define EXPECT(call, status, out)                                          \
     do {                                                                   \

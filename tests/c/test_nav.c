@@ -384,8 +384,11 @@ int main(void) {
         OK(rf_imu_errors_apply(&a, &ideal, &m1));
         CLOSE(m1.delta_angle.x, ideal.delta_angle.x + 1e-5 * ideal.interval, 1e-19, "bias");
         CLOSE(m1.delta_angle.y, ideal.delta_angle.y * (1 + 2e-4), 1e-21, "scale factor");
-        model.gyro.noise_density = v3(rf_angle_random_walk_si(0.1), rf_angle_random_walk_si(0.1), rf_angle_random_walk_si(0.1));
-        model.accelerometer.noise_density = v3(rf_velocity_random_walk_si(0.06), 0.0, 0.0);
+        double arw = 0.0, vrw = 0.0;
+        CHECK(rf_angle_random_walk_si(0.1, &arw) == RF_STATUS_OK, "ARW conversion");
+        CHECK(rf_velocity_random_walk_si(0.06, &vrw) == RF_STATUS_OK, "VRW conversion");
+        model.gyro.noise_density = v3(arw, arw, arw);
+        model.accelerometer.noise_density = v3(vrw, 0.0, 0.0);
         CLOSE(model.accelerometer.noise_density.x, 0.001, 1e-18, "1 m/s/sqrt(h) is 1/60 m/s/sqrt(s)");
         OK(rf_imu_errors_init(&model, 42, &a));
         OK(rf_imu_errors_init(&model, 42, &b));

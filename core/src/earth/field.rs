@@ -21,7 +21,7 @@ use super::geodetic::check_latitude;
 use super::gravity::centrifugal_unchecked;
 use super::local::coriolis_ned;
 use super::model::EarthModel;
-use crate::error::{Result, ensure_finite3};
+use crate::error::Result;
 use crate::math;
 
 /// The Coriolis parameter `f = 2 Ω sin φ` (1/s) at geodetic latitude `latitude` (rad).
@@ -62,7 +62,9 @@ pub fn eotvos_correction(model: &EarthModel, latitude: f64, height: f64, velocit
 /// space, pointing at the rotation axis, of size `Ω² ρ` at distance ρ from it.
 ///
 /// # Errors
-/// [`Error::NonFinite`](crate::Error::NonFinite).
+/// [`Error::NonFinite`](crate::Error::NonFinite) or
+/// [`Error::BeyondLimit`](crate::Error::BeyondLimit) beyond
+/// [`MAX_GEOCENTRIC_DISTANCE`](crate::limits::MAX_GEOCENTRIC_DISTANCE).
 ///
 /// ```
 /// use approx::assert_relative_eq;
@@ -71,6 +73,6 @@ pub fn eotvos_correction(model: &EarthModel, latitude: f64, height: f64, velocit
 /// assert_relative_eq!(a.x, -0.0339157, max_relative = 1e-5);
 /// ```
 pub fn centripetal_acceleration_ecef(model: &EarthModel, position_ecef: &Vector3<f64>) -> Result<Vector3<f64>> {
-    ensure_finite3(position_ecef, "position_ecef")?;
+    crate::limits::check_vector(position_ecef, crate::limits::MAX_GEOCENTRIC_DISTANCE, "m", "position_ecef")?;
     Ok(-centrifugal_unchecked(model, position_ecef))
 }

@@ -54,7 +54,9 @@ use nalgebra::Vector3;
 
 use super::model::EarthModel;
 use crate::dd::{Dd, SIN_COS_DD_LIMIT, atan2_dd, sin_cos_dd};
-use crate::error::{BatchError, Error, Result, ensure_finite, ensure_finite3};
+use crate::dispatch::with_fast_kernels;
+use crate::error::{BatchError, Error, Result, ensure_finite};
+use crate::limits;
 use crate::math;
 
 /// A geodetic position: latitude and longitude in radians, ellipsoidal height in metres.
@@ -102,6 +104,30 @@ impl Geodetic {
         ensure_finite(&[self.longitude], "longitude")?;
         ensure_finite(&[self.height], "height")?;
         check_latitude(self.latitude, "latitude")
+    }
+}
+
+impl Geodetic {
+    /// Checks the position as [`validate`](Self::validate) does and its height against the
+    /// supported range for `model` ([`limits::min_height`] to [`limits::max_height`]).
+    ///
+    /// # Errors
+    /// As [`validate`](Self::validate), and [`Error::OutOfRange`] naming `height`.
+    ///
+    /// ```
+    /// use rotaframe::earth::{Geodetic, WGS84};
+    /// assert!(Geodetic::new(0.8, 0.1, -7.0e6).validate_for(&WGS84).is_err()); // 7000 km down
+    /// ```
+    #[inline]
+    pub fn validate_for(&self, model: &EarthModel) -> Result<()> {
+        // Branch-free acceptance of good input; only rejected input is examined to name it.
+        let heights = limits::min_height(model)..=limits::max_height(model);
+        if (self.latitude.abs() <= core::f64::consts::FRAC_PI_2) & (self.longitude * 0.0 == 0.0) & heights.contains(&self.height)
+        {
+            return Ok(());
+        }
+        self.validate()?;
+        limits::check_height(model, self.height, "height")
     }
 }
 
@@ -229,7 +255,7 @@ fn normalise(c: f64, s: f64) -> (f64, f64) {
 /// naming `quantity`.
 #[inline(always)]
 pub(crate) fn check_ecef(model: &EarthModel, ecef: &Vector3<f64>, quantity: &'static str) -> Result<()> {
-    ensure_finite3(ecef, quantity)?;
+    limits::check_vector(ecef, limits::MAX_GEOCENTRIC_DISTANCE, "m", quantity)?;
     let distance = ecef.norm();
     let limit = model.centre_exclusion_radius();
     if distance < limit { Err(Error::NearEarthCentre { quantity, distance, limit }) } else { Ok(()) }
@@ -238,7 +264,8 @@ pub(crate) fn check_ecef(model: &EarthModel, ecef: &Vector3<f64>, quantity: &'st
 /// ECEF coordinates (m) of a geodetic position.
 ///
 /// # Errors
-/// As [`Geodetic::validate`].
+/// As [`Geodetic::validate_for`]: a bad latitude, longitude or height, or a height outside the
+/// [supported range](crate::limits).
 ///
 /// # Example
 /// IOGP Guidance Note 7-2, method 9602 worked example (WGS 84):
@@ -253,14 +280,16 @@ pub(crate) fn check_ecef(model: &EarthModel, ecef: &Vector3<f64>, quantity: &'st
 /// assert_abs_diff_eq!(xyz.z, 5124304.349, epsilon = 0.0005);
 /// ```
 pub fn geodetic_to_ecef(model: &EarthModel, position: &Geodetic) -> Result<Vector3<f64>> {
-    position.validate()?;
-    Ok(Vector3::from(forward_any(model, position.latitude, position.longitude, position.height)))
+    position.validate_for(model)?;
+    Ok(Vector3::from(with_fast_kernels(|| forward_any(model, position.latitude, position.longitude, position.height))))
 }
 
 /// Geodetic position of an ECEF point (m).
 ///
 /// # Errors
-/// [`Error::NonFinite`] or [`Error::NearEarthCentre`] naming `ecef`.
+/// [`Error::NonFinite`], [`Error::NearEarthCentre`] or [`Error::BeyondLimit`] (farther than
+/// [`MAX_GEOCENTRIC_DISTANCE`](crate::limits::MAX_GEOCENTRIC_DISTANCE) from the centre) naming
+/// `ecef`.
 ///
 /// # Example
 /// ```
@@ -273,7 +302,7 @@ pub fn geodetic_to_ecef(model: &EarthModel, position: &Geodetic) -> Result<Vecto
 #[inline]
 pub fn ecef_to_geodetic(model: &EarthModel, ecef: &Vector3<f64>) -> Result<Geodetic> {
     check_ecef(model, ecef, "ecef")?;
-    let [latitude, longitude, height] = inverse_any(model, ecef.x, ecef.y, ecef.z);
+    let [latitude, longitude, height] = with_fast_kernels(|| inverse_any(model, ecef.x, ecef.y, ecef.z));
     Ok(Geodetic { latitude, longitude, height })
 }
 
@@ -294,7 +323,7 @@ where
 {
     let mut largest_longitude: f64 = 0.0;
     for (index, (lat, lon, h)) in inputs.clone().enumerate() {
-        Geodetic::new(lat, lon, h).validate().map_err(|error| BatchError { index, error })?;
+        Geodetic::new(lat, lon, h).validate_for(model).map_err(|error| BatchError { index, error })?;
         largest_longitude = largest_longitude.max(lon.abs());
     }
     // Zipped iterators carry no bounds checks, so the common case vectorises.
@@ -364,7 +393,7 @@ pub fn geodetic_to_ecef_slices(
     check_len(height.len(), n, "height")?;
     check_len(ecef.len(), n, "ecef")?;
     let inputs = latitude.iter().zip(longitude).zip(height).map(|((&lat, &lon), &h)| (lat, lon, h));
-    forward_batch(model, inputs, ecef)
+    with_fast_kernels(|| forward_batch(model, inputs, ecef))
 }
 
 /// Converts a batch of geodetic positions into ECEF coordinates (m). Every input is validated
@@ -387,7 +416,7 @@ pub fn geodetic_to_ecef_many(
     ecef: &mut [[f64; 3]],
 ) -> core::result::Result<(), BatchError> {
     check_len(ecef.len(), positions.len(), "ecef")?;
-    forward_batch(model, positions.iter().map(|g| (g.latitude, g.longitude, g.height)), ecef)
+    with_fast_kernels(|| forward_batch(model, positions.iter().map(|g| (g.latitude, g.longitude, g.height)), ecef))
 }
 
 /// Converts a batch of ECEF points (m) into geodetic latitude, longitude (radians) and height
@@ -410,7 +439,7 @@ pub fn ecef_to_geodetic_slices(
     check_len(longitude.len(), n, "longitude")?;
     check_len(height.len(), n, "height")?;
     let outputs = latitude.iter_mut().zip(longitude.iter_mut()).zip(height.iter_mut()).map(|((a, b), c)| (a, b, c));
-    inverse_batch(model, ecef, outputs)
+    with_fast_kernels(|| inverse_batch(model, ecef, outputs))
 }
 
 /// Converts a batch of ECEF points (m) into geodetic positions. Every input is validated
@@ -427,5 +456,5 @@ pub fn ecef_to_geodetic_many(
 ) -> core::result::Result<(), BatchError> {
     check_len(positions.len(), ecef.len(), "positions")?;
     let outputs = positions.iter_mut().map(|g| (&mut g.latitude, &mut g.longitude, &mut g.height));
-    inverse_batch(model, ecef, outputs)
+    with_fast_kernels(|| inverse_batch(model, ecef, outputs))
 }

@@ -48,7 +48,8 @@ use super::geodetic::{Geodetic, check_latitude, ecef_to_geodetic, geodetic_to_ec
 use super::local::ned_from_ecef;
 use super::model::EarthModel;
 use crate::apparent::{FrameDynamics, apparent_terms};
-use crate::error::{Error, Result, ensure_finite1, ensure_finite3};
+use crate::error::{Error, Result};
+use crate::limits;
 use crate::math;
 
 /// Normal gravity on the ellipsoid at geodetic latitude `latitude` (rad), by Somigliana's
@@ -89,7 +90,7 @@ fn somigliana(model: &EarthModel, sin2: f64) -> f64 {
 /// ```
 pub fn normal_gravity_at_height(model: &EarthModel, latitude: f64, height: f64) -> Result<f64> {
     check_latitude(latitude, "latitude")?;
-    ensure_finite1(height, "height")?;
+    limits::check_height(model, height, "height")?;
     let s = math::sin(latitude);
     Ok(normal_gravity_at_height_unchecked(model, s * s, height))
 }
@@ -115,7 +116,7 @@ pub fn gravity_ned(model: &EarthModel, latitude: f64, height: f64) -> Result<Vec
 /// mass only, and the formula is singular at the centre. Half the semi-minor axis keeps the
 /// whole of the physically meaningful region (and far below it) open.
 fn check_outside_core(model: &EarthModel, position_ecef: &Vector3<f64>) -> Result<()> {
-    ensure_finite3(position_ecef, "position_ecef")?;
+    limits::check_vector(position_ecef, limits::MAX_GEOCENTRIC_DISTANCE, "m", "position_ecef")?;
     let distance = position_ecef.norm();
     let limit = 0.5 * model.semi_minor_axis();
     if distance < limit { Err(Error::NearEarthCentre { quantity: "position_ecef", distance, limit }) } else { Ok(()) }
@@ -221,9 +222,9 @@ impl GravityModel {
     /// Gravity (gravitation plus centrifugal) resolved in NED at a geodetic position (m/s²).
     ///
     /// # Errors
-    /// As [`Geodetic::validate`]; for [`J2`](Self::J2) also as [`gravity_ecef`].
+    /// As [`Geodetic::validate_for`]; for [`J2`](Self::J2) also as [`gravity_ecef`].
     pub fn gravity_ned(self, model: &EarthModel, position: &Geodetic) -> Result<Vector3<f64>> {
-        position.validate()?;
+        position.validate_for(model)?;
         match self {
             GravityModel::Normal => {
                 let s = math::sin(position.latitude);

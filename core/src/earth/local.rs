@@ -55,8 +55,9 @@ use nalgebra::{Matrix3, UnitQuaternion, Vector3};
 
 use super::geodetic::{Geodetic, check_latitude, geodetic_to_ecef};
 use super::model::EarthModel;
-use crate::error::{Error, Result, ensure_finite1, ensure_finite3};
+use crate::error::{Error, Result, ensure_finite1};
 use crate::frames::{Ecef, Enu, Ned};
+use crate::limits;
 use crate::math;
 use crate::motion::{FrameMotion, MotionParts};
 
@@ -210,8 +211,8 @@ pub(crate) fn earth_rate_ned_unchecked(model: &EarthModel, sin_lat: f64, cos_lat
 /// ```
 pub fn transport_rate_ned(model: &EarthModel, latitude: f64, height: f64, velocity_ned: &Vector3<f64>) -> Result<Vector3<f64>> {
     check_away_from_pole(latitude, "latitude")?;
-    ensure_finite1(height, "height")?;
-    ensure_finite3(velocity_ned, "velocity_ned")?;
+    limits::check_height(model, height, "height")?;
+    limits::check_vector(velocity_ned, limits::MAX_VELOCITY, "m/s", "velocity_ned")?;
     let (s, c) = math::sin_cos(latitude);
     Ok(transport_rate_unchecked(&radii_unchecked(model, s), s, c, height, velocity_ned))
 }
@@ -269,10 +270,10 @@ pub fn local_level_motion(
     velocity_ned: &Vector3<f64>,
     acceleration_ned: &Vector3<f64>,
 ) -> Result<FrameMotion<Ecef, Ned>> {
-    position.validate()?;
+    position.validate_for(model)?;
     check_away_from_pole(position.latitude, "latitude")?;
-    ensure_finite3(velocity_ned, "velocity_ned")?;
-    ensure_finite3(acceleration_ned, "acceleration_ned")?;
+    limits::check_vector(velocity_ned, limits::MAX_VELOCITY, "m/s", "velocity_ned")?;
+    limits::check_vector(acceleration_ned, limits::MAX_ACCELERATION, "m/s²", "acceleration_ned")?;
     let origin = geodetic_to_ecef(model, position)?;
     let rotation = ecef_from_ned_quaternion(position.latitude, position.longitude)?;
     let (s, c) = math::sin_cos(position.latitude);

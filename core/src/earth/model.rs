@@ -120,6 +120,31 @@ pub struct EarthModelConstants {
 /// flattening and, by property tests, up to this value.
 pub const MAX_FLATTENING: f64 = 0.1;
 
+/// Smallest semi-major axis a custom model may have (m): a body of planetary size (a large
+/// asteroid). With [`MAX_SEMI_MAJOR_AXIS`] it keeps every derived length and every product
+/// formed by the geodetic and gravity code finite.
+pub const MIN_SEMI_MAJOR_AXIS: f64 = 1.0e5;
+/// Largest semi-major axis a custom model may have (m): larger than Jupiter's (7.1e7 m).
+pub const MAX_SEMI_MAJOR_AXIS: f64 = 1.0e8;
+/// Largest geocentric gravitational constant a custom model may have (m³/s²; Jupiter's is
+/// 1.27e17).
+pub const MAX_GM: f64 = 1.0e18;
+/// Largest ratio `m = ω² a² b / GM` of centrifugal to gravitational acceleration at the equator
+/// a model may have (Earth 0.00345, Jupiter about 0.09). Beyond it the level-ellipsoid formulas
+/// stop describing a body held together by its own gravity.
+pub const MAX_GRAVITY_RATIO_M: f64 = 0.2;
+/// Relative tolerance within which given normal-gravity constants (γe, γp) must agree with
+/// those of the level ellipsoid of the same `a`, `f`, `GM` and `ω` ([`EarthModel::custom`]).
+/// Published ellipsoids agree to about 1e-10; the tolerance leaves room for rounded constants
+/// but refuses a set that describes a different body.
+pub const GRAVITY_CONSISTENCY: f64 = 1.0e-3;
+/// Relative tolerance within which a given `J₂` must agree with the level ellipsoid's.
+pub const J2_CONSISTENCY: f64 = 1.0e-2;
+/// Smallest flattening for which [`EarthModel::custom`] checks γe, γp and `J₂` against the
+/// level ellipsoid (the closed formulas lose accuracy as `f` → 0; below it only positivity and
+/// [`MAX_GRAVITY_RATIO_M`] are checked).
+pub const CONSISTENCY_MIN_FLATTENING: f64 = 1.0e-4;
+
 impl EarthModel {
     /// A model from published constants, deriving only what needs no square root (so that
     /// presets can be constants). Not validated.
@@ -135,7 +160,12 @@ impl EarthModel {
     ///
     /// # Errors
     /// [`Error::NonFinite`], [`Error::NotPositive`] or [`Error::OutOfRange`] naming the constant
-    /// (`semi_major_axis`, `flattening` in (0, [`MAX_FLATTENING`]], `gm`, `rotation_rate` ≥ 0).
+    /// (`semi_major_axis` in [[`MIN_SEMI_MAJOR_AXIS`], [`MAX_SEMI_MAJOR_AXIS`]], `flattening` in
+    /// [[`CONSISTENCY_MIN_FLATTENING`], [`MAX_FLATTENING`]] (the closed formulas lose accuracy
+    /// for flatter bodies; give a near-sphere's constants to [`custom`](Self::custom)), `gm` in
+    /// (0, [`MAX_GM`]], `rotation_rate` ≥ 0 with `m = ω²a²b/GM` at most
+    /// [`MAX_GRAVITY_RATIO_M`]); [`Error::Invalid`] naming `gamma_equator` or `gamma_pole` if
+    /// the level ellipsoid has no positive normal gravity.
     ///
     /// # Example
     /// ```
@@ -146,31 +176,32 @@ impl EarthModel {
     /// ```
     pub fn from_defining_constants(semi_major_axis: f64, flattening: f64, gm: f64, rotation_rate: f64) -> Result<Self> {
         validate_geometry(semi_major_axis, flattening, gm, rotation_rate)?;
-        if flattening == 0.0 {
-            return Err(Error::OutOfRange { quantity: "flattening", value: 0.0, min: f64::MIN_POSITIVE, max: MAX_FLATTENING });
+        if flattening < CONSISTENCY_MIN_FLATTENING {
+            return Err(Error::OutOfRange {
+                quantity: "flattening",
+                value: flattening,
+                min: CONSISTENCY_MIN_FLATTENING,
+                max: MAX_FLATTENING,
+            });
         }
+        let (gamma_equator, gamma_pole, j2) = level_ellipsoid_gravity(semi_major_axis, flattening, gm, rotation_rate);
+        positive_gravity(gamma_equator, "gamma_equator")?;
+        positive_gravity(gamma_pole, "gamma_pole")?;
         let (a, f) = (semi_major_axis, flattening);
         let b = a * (1.0 - f);
-        let e2 = f * (2.0 - f);
-        let ep = math::sqrt(e2 / (1.0 - e2));
-        let atan_ep = math::atan(ep);
-        let q0 = 0.5 * ((1.0 + 3.0 / (ep * ep)) * atan_ep - 3.0 / ep);
-        let q0p = 3.0 * (1.0 + 1.0 / (ep * ep)) * (1.0 - atan_ep / ep) - 1.0;
-        let m = rotation_rate * rotation_rate * a * a * b / gm;
-        let gamma_equator = gm / (a * b) * (1.0 - m - m / 6.0 * ep * q0p / q0);
-        let gamma_pole = gm / (a * a) * (1.0 + m / 3.0 * ep * q0p / q0);
-        let j2 = e2 / 3.0 * (1.0 - 2.0 / 15.0 * m * ep / q0);
         let k = b * gamma_pole / (a * gamma_equator) - 1.0;
         Ok(Self::from_published(a, f, gm, rotation_rate, gamma_equator, gamma_pole, j2, k))
     }
 
     /// A model with every constant given, for ellipsoids whose gravity constants are published
-    /// separately. Checks ranges and that the gravity constants are positive and finite; it
-    /// does not check that they are consistent with the geometry.
+    /// separately. Checks ranges, that the gravity constants are positive, finite and within a
+    /// factor of two of `GM/a²` (`|J₂|` < 0.1), and (for flattening of at least [`CONSISTENCY_MIN_FLATTENING`]) that γe and γp agree with the
+    /// level ellipsoid of the same `a`, `f`, `GM`, `ω` within [`GRAVITY_CONSISTENCY`] and `J₂`
+    /// within [`J2_CONSISTENCY`] (relative), so that the constants describe one body.
     ///
     /// # Errors
     /// As [`from_defining_constants`](Self::from_defining_constants), and for `gamma_equator`,
-    /// `gamma_pole` (positive) and `j2` (finite).
+    /// `gamma_pole` (positive, consistent) and `j2` (finite, consistent).
     ///
     /// ```
     /// use rotaframe::earth::EarthModel;
@@ -191,6 +222,23 @@ impl EarthModel {
         positive(gamma_equator, "gamma_equator")?;
         positive(gamma_pole, "gamma_pole")?;
         ensure_finite1(j2, "j2")?;
+        let gm_over_a2 = gm / (semi_major_axis * semi_major_axis);
+        let (min, max) = (0.5 * gm_over_a2, 2.0 * gm_over_a2);
+        if !(min..=max).contains(&gamma_equator) {
+            return Err(Error::OutOfRange { quantity: "gamma_equator", value: gamma_equator, min, max });
+        }
+        if !(min..=max).contains(&gamma_pole) {
+            return Err(Error::OutOfRange { quantity: "gamma_pole", value: gamma_pole, min, max });
+        }
+        if j2.abs() >= 0.1 {
+            return Err(Error::OutOfRange { quantity: "j2", value: j2, min: -0.1, max: 0.1 });
+        }
+        if flattening >= CONSISTENCY_MIN_FLATTENING {
+            let (ge, gp, j2_level) = level_ellipsoid_gravity(semi_major_axis, flattening, gm, rotation_rate);
+            consistent(gamma_equator, ge, GRAVITY_CONSISTENCY, "gamma_equator")?;
+            consistent(gamma_pole, gp, GRAVITY_CONSISTENCY, "gamma_pole")?;
+            consistent(j2, j2_level, J2_CONSISTENCY, "j2")?;
+        }
         let b = semi_major_axis * (1.0 - flattening);
         let k = b * gamma_pole / (semi_major_axis * gamma_equator) - 1.0;
         Ok(Self::from_published(semi_major_axis, flattening, gm, rotation_rate, gamma_equator, gamma_pole, j2, k))
@@ -204,6 +252,26 @@ impl EarthModel {
             Err(e) => e,
             Ok(_) => Error::NonFinite { quantity: "somigliana_k" },
         }
+    }
+
+    /// Which plausibility check of `from_constants` failed (the rare path).
+    #[cold]
+    #[inline(never)]
+    fn implausible(c: &EarthModelConstants, gm_over_a2: f64, k: f64) -> Error {
+        if let Err(e) = check_gravity_ratio(c.semi_major_axis, c.flattening, c.gm, c.rotation_rate) {
+            return e;
+        }
+        let (min, max) = (0.5 * gm_over_a2, 2.0 * gm_over_a2);
+        if !(min..=max).contains(&c.gamma_equator) {
+            return Error::OutOfRange { quantity: "gamma_equator", value: c.gamma_equator, min, max };
+        }
+        if !(min..=max).contains(&c.gamma_pole) {
+            return Error::OutOfRange { quantity: "gamma_pole", value: c.gamma_pole, min, max };
+        }
+        if c.j2.abs() >= 0.1 {
+            return Error::OutOfRange { quantity: "j2", value: c.j2, min: -0.1, max: 0.1 };
+        }
+        Error::OutOfRange { quantity: "somigliana_k", value: c.somigliana_k, min: k - 1e-8, max: k + 1e-8 }
     }
 
     /// The model's constants in plain form.
@@ -242,8 +310,9 @@ impl EarthModel {
             + c.j2 * 0.0
             + c.somigliana_k * 0.0;
         let good = probe == 0.0
-            && c.semi_major_axis > 0.0
+            && (MIN_SEMI_MAJOR_AXIS..=MAX_SEMI_MAJOR_AXIS).contains(&c.semi_major_axis)
             && c.gm > 0.0
+            && c.gm <= MAX_GM
             && c.gamma_equator > 0.0
             && c.gamma_pole > 0.0
             && c.rotation_rate >= 0.0
@@ -251,6 +320,22 @@ impl EarthModel {
             && c.flattening <= MAX_FLATTENING;
         if !good {
             return Err(Self::rejection(c));
+        }
+        // Cheap plausibility of the gravity constants (this runs once per C call, so the
+        // level-ellipsoid comparison of `custom` is left to the constructors): the ratio m in
+        // range, γe and γp within a factor of two of GM/a², |J₂| < 0.1, and Somigliana's k
+        // consistent with γe and γp.
+        let b = c.semi_major_axis * (1.0 - c.flattening);
+        let gm_over_a2 = c.gm / (c.semi_major_axis * c.semi_major_axis);
+        let m = c.rotation_rate * c.rotation_rate * c.semi_major_axis * b / gm_over_a2 / c.semi_major_axis;
+        let k = b * c.gamma_pole / (c.semi_major_axis * c.gamma_equator) - 1.0;
+        let plausible = m <= MAX_GRAVITY_RATIO_M
+            && (0.5 * gm_over_a2..=2.0 * gm_over_a2).contains(&c.gamma_equator)
+            && (0.5 * gm_over_a2..=2.0 * gm_over_a2).contains(&c.gamma_pole)
+            && c.j2.abs() < 0.1
+            && (c.somigliana_k - k).abs() <= 1e-8;
+        if !plausible {
+            return Err(Self::implausible(c, gm_over_a2, k));
         }
         Ok(Self::from_published(
             c.semi_major_axis,
@@ -341,10 +426,12 @@ impl EarthModel {
     /// Radius of the sphere about the Earth's centre inside which geodetic coordinates are not
     /// unique: `(a² − b²)/b`, the larger half-axis of the evolute of the meridian ellipse
     /// (42.8 km for WGS 84). More than one ellipsoidal normal passes through points inside it.
+    /// For a near-sphere that region shrinks to the centre, where the conversion is still
+    /// singular, so the radius is at least `a/1000`.
     #[must_use]
     #[inline]
     pub fn centre_exclusion_radius(&self) -> f64 {
-        (self.a - self.b) * (self.a + self.b) / self.b
+        ((self.a - self.b) * (self.a + self.b) / self.b).max(1e-3 * self.a)
     }
 }
 
@@ -353,16 +440,81 @@ fn positive(value: f64, quantity: &'static str) -> Result<()> {
     if value > 0.0 { Ok(()) } else { Err(Error::NotPositive { quantity, value }) }
 }
 
+/// Normal gravity at the equator and pole and `J₂` of the level ellipsoid with these defining
+/// constants (the closed formulas of the module documentation; `f` > 0).
+fn level_ellipsoid_gravity(a: f64, f: f64, gm: f64, omega: f64) -> (f64, f64, f64) {
+    let b = a * (1.0 - f);
+    let e2 = f * (2.0 - f);
+    let ep = math::sqrt(e2 / (1.0 - e2));
+    let atan_ep = math::atan(ep);
+    let q0 = 0.5 * ((1.0 + 3.0 / (ep * ep)) * atan_ep - 3.0 / ep);
+    let q0p = 3.0 * (1.0 + 1.0 / (ep * ep)) * (1.0 - atan_ep / ep) - 1.0;
+    let m = omega * omega * a * a * b / gm;
+    let gamma_equator = gm / (a * b) * (1.0 - m - m / 6.0 * ep * q0p / q0);
+    let gamma_pole = gm / (a * a) * (1.0 + m / 3.0 * ep * q0p / q0);
+    let j2 = e2 / 3.0 * (1.0 - 2.0 / 15.0 * m * ep / q0);
+    (gamma_equator, gamma_pole, j2)
+}
+
+/// A derived normal gravity must be positive (it is not when the body spins too fast).
+fn positive_gravity(value: f64, quantity: &'static str) -> Result<()> {
+    if value > 0.0 && value.is_finite() {
+        Ok(())
+    } else {
+        Err(Error::Invalid {
+            quantity,
+            reason: "the level ellipsoid of these constants has no positive normal gravity (the body spins too fast)",
+        })
+    }
+}
+
+/// `given` within relative `tolerance` of `level`, naming `quantity`.
+fn consistent(given: f64, level: f64, tolerance: f64, quantity: &'static str) -> Result<()> {
+    let slack = tolerance * level.abs();
+    if (given - level).abs() <= slack {
+        Ok(())
+    } else {
+        Err(Error::OutOfRange { quantity, value: given, min: level - slack, max: level + slack })
+    }
+}
+
+/// The ratio `m = ω² a² b / GM` within [0, [`MAX_GRAVITY_RATIO_M`]], reported against the
+/// rotation rate (the constant that usually carries the mistake).
+fn check_gravity_ratio(a: f64, f: f64, gm: f64, omega: f64) -> Result<()> {
+    let b = a * (1.0 - f);
+    let m = omega * omega * a * a * b / gm;
+    if m <= MAX_GRAVITY_RATIO_M {
+        return Ok(());
+    }
+    Err(Error::OutOfRange {
+        quantity: "rotation_rate",
+        value: omega,
+        min: 0.0,
+        max: math::sqrt(MAX_GRAVITY_RATIO_M * gm / (a * a * b)),
+    })
+}
+
 fn validate_geometry(a: f64, f: f64, gm: f64, omega: f64) -> Result<()> {
-    positive(a, "semi_major_axis")?;
+    ensure_finite1(a, "semi_major_axis")?;
+    if !(MIN_SEMI_MAJOR_AXIS..=MAX_SEMI_MAJOR_AXIS).contains(&a) {
+        return Err(Error::OutOfRange {
+            quantity: "semi_major_axis",
+            value: a,
+            min: MIN_SEMI_MAJOR_AXIS,
+            max: MAX_SEMI_MAJOR_AXIS,
+        });
+    }
     ensure_finite1(f, "flattening")?;
     if !(0.0..=MAX_FLATTENING).contains(&f) {
         return Err(Error::OutOfRange { quantity: "flattening", value: f, min: 0.0, max: MAX_FLATTENING });
     }
     positive(gm, "gm")?;
+    if gm > MAX_GM {
+        return Err(Error::OutOfRange { quantity: "gm", value: gm, min: 0.0, max: MAX_GM });
+    }
     ensure_finite1(omega, "rotation_rate")?;
     if omega < 0.0 {
         return Err(Error::OutOfRange { quantity: "rotation_rate", value: omega, min: 0.0, max: f64::INFINITY });
     }
-    Ok(())
+    check_gravity_ratio(a, f, gm, omega)
 }

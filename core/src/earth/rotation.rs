@@ -63,10 +63,16 @@ const ERA_EXCESS_TURNS_PER_UT1_DAY: f64 = 0.002_737_811_911_354_48;
 /// Julian date of the J2000.0 epoch (2000 January 1, 12h).
 pub const J2000_JULIAN_DATE: f64 = 2_451_545.0;
 
+/// Largest magnitude of either part of a Julian date (days): about 2.7 million years either
+/// side of the epoch of Julian dates, far beyond the validity of the rotation model.
+pub const MAX_JULIAN_DATE: f64 = 1.0e9;
+
 /// The Earth Rotation Angle (rad, in [0, 2π)) at the UT1 Julian date `jd_ut1 + jd_ut1_fraction`.
 ///
 /// # Errors
-/// [`Error::NonFinite`](crate::Error::NonFinite) naming the bad part.
+/// [`Error::NonFinite`](crate::Error::NonFinite) or
+/// [`Error::BeyondLimit`](crate::Error::BeyondLimit) (beyond [`MAX_JULIAN_DATE`]) naming the
+/// bad part.
 ///
 /// # Example
 /// At J2000.0 the angle is 2π × 0.7790572732640 (IERS Conventions 2010):
@@ -77,8 +83,8 @@ pub const J2000_JULIAN_DATE: f64 = 2_451_545.0;
 /// assert_relative_eq!(theta, 2.0 * std::f64::consts::PI * 0.7790572732640, max_relative = 1e-15);
 /// ```
 pub fn earth_rotation_angle(jd_ut1: f64, jd_ut1_fraction: f64) -> Result<f64> {
-    ensure_finite1(jd_ut1, "jd_ut1")?;
-    ensure_finite1(jd_ut1_fraction, "jd_ut1_fraction")?;
+    crate::limits::check_scalar(jd_ut1, MAX_JULIAN_DATE, "days", "jd_ut1")?;
+    crate::limits::check_scalar(jd_ut1_fraction, MAX_JULIAN_DATE, "days", "jd_ut1_fraction")?;
     let (d1, d2) = if jd_ut1.abs() >= jd_ut1_fraction.abs() { (jd_ut1, jd_ut1_fraction) } else { (jd_ut1_fraction, jd_ut1) };
     let tu = (d1 - J2000_JULIAN_DATE) + d2;
     let frac = |x: f64| x - math::floor(x);

@@ -34,6 +34,7 @@ use nalgebra::Vector3;
 use crate::earth::{EarthModel, GravityModel};
 use crate::error::{BatchError, Error, Result, ensure_finite1};
 use crate::frames::{Eci, Frame};
+use crate::limits;
 use crate::motion::FrameMotion;
 
 /// The gyro and accelerometer outputs of an ideal IMU at one instant, resolved in the body.
@@ -80,20 +81,35 @@ impl ImuIncrement {
         Self { delta_angle, delta_velocity, interval }
     }
 
-    /// Checks that every part is finite and the interval positive.
+    /// Checks that every part is finite and within its limit (`delta_angle` within
+    /// [`MAX_ROTATION_ANGLE`](limits::MAX_ROTATION_ANGLE), `delta_velocity` within
+    /// [`MAX_VELOCITY`](limits::MAX_VELOCITY)) and the interval in
+    /// [[`MIN_INTERVAL`](limits::MIN_INTERVAL), [`MAX_INTERVAL`](limits::MAX_INTERVAL)].
     ///
     /// # Errors
-    /// [`Error::NonFinite`] naming `delta_angle`, `delta_velocity` or `interval`;
-    /// [`Error::NotPositive`] naming `interval`.
+    /// [`Error::NonFinite`] or [`Error::BeyondLimit`] naming `delta_angle` or
+    /// `delta_velocity`; [`Error::NonFinite`], [`Error::NotPositive`] or
+    /// [`Error::OutOfRange`] naming `interval`.
     pub fn validate(&self) -> Result<()> {
-        let probe = (self.delta_angle + self.delta_velocity).sum() * 0.0;
-        if probe == 0.0 && self.interval > 0.0 && self.interval.is_finite() {
+        if limits::within(&self.delta_angle, limits::MAX_ROTATION_ANGLE)
+            & limits::within(&self.delta_velocity, limits::MAX_VELOCITY)
+            & (self.interval >= limits::MIN_INTERVAL)
+            & (self.interval <= limits::MAX_INTERVAL)
+        {
             return Ok(());
         }
-        crate::error::ensure_finite3(&self.delta_angle, "delta_angle")?;
-        crate::error::ensure_finite3(&self.delta_velocity, "delta_velocity")?;
+        limits::check_vector(&self.delta_angle, limits::MAX_ROTATION_ANGLE, "rad", "delta_angle")?;
+        limits::check_vector(&self.delta_velocity, limits::MAX_VELOCITY, "m/s", "delta_velocity")?;
         ensure_finite1(self.interval, "interval")?;
-        Err(Error::NotPositive { quantity: "interval", value: self.interval })
+        if self.interval <= 0.0 {
+            return Err(Error::NotPositive { quantity: "interval", value: self.interval });
+        }
+        Err(Error::OutOfRange {
+            quantity: "interval",
+            value: self.interval,
+            min: limits::MIN_INTERVAL,
+            max: limits::MAX_INTERVAL,
+        })
     }
 }
 
@@ -156,6 +172,51 @@ const GL_WEIGHTS: [f64; QUADRATURE_NODES] = [
     0.171_324_492_379_170_345_040_296_1,
 ];
 
+/// Checks an integration interval `[start, end]` (s): both ends within
+/// [`MAX_TIME`](limits::MAX_TIME) and the length in
+/// [[`MIN_INTERVAL`](limits::MIN_INTERVAL), [`MAX_INTERVAL`](limits::MAX_INTERVAL)].
+///
+/// # Errors
+/// [`Error::NonFinite`] or [`Error::BeyondLimit`] naming `start` or `end`;
+/// [`Error::NotPositive`] or [`Error::OutOfRange`] naming `interval`.
+///
+/// ```
+/// use rotaframe::nav::check_interval;
+/// assert!(check_interval(10.0, 10.01).is_ok());
+/// assert_eq!(check_interval(10.0, 9.0).unwrap_err().quantity(), "interval");
+/// ```
+pub fn check_interval(start: f64, end: f64) -> Result<()> {
+    limits::check_scalar(start, limits::MAX_TIME, "s", "start")?;
+    limits::check_scalar(end, limits::MAX_TIME, "s", "end")?;
+    let interval = end - start;
+    if interval <= 0.0 {
+        return Err(Error::NotPositive { quantity: "interval", value: interval });
+    }
+    if !(limits::MIN_INTERVAL..=limits::MAX_INTERVAL).contains(&interval) {
+        return Err(Error::OutOfRange {
+            quantity: "interval",
+            value: interval,
+            min: limits::MIN_INTERVAL,
+            max: limits::MAX_INTERVAL,
+        });
+    }
+    Ok(())
+}
+
+impl ImuSample {
+    /// Checks that the angular rate is within
+    /// [`MAX_ANGULAR_VELOCITY`](limits::MAX_ANGULAR_VELOCITY) and the specific force within
+    /// [`MAX_ACCELERATION`](limits::MAX_ACCELERATION).
+    ///
+    /// # Errors
+    /// [`Error::NonFinite`] or [`Error::BeyondLimit`] naming `angular_rate` or
+    /// `specific_force`.
+    pub fn validate(&self) -> Result<()> {
+        limits::check_vector(&self.angular_rate, limits::MAX_ANGULAR_VELOCITY, "rad/s", "angular_rate")?;
+        limits::check_vector(&self.specific_force, limits::MAX_ACCELERATION, "m/s²", "specific_force")
+    }
+}
+
 /// The times at which [`increment_from_node_samples`] expects the trajectory sampled for the
 /// interval `[start, end]` (s): the Gauss–Legendre nodes, ascending.
 ///
@@ -198,8 +259,7 @@ pub fn increment_from_node_samples(start: f64, end: f64, samples: &[ImuSample; Q
 /// frame at time `t` is `trajectory(t)`.
 ///
 /// # Errors
-/// [`Error::NonFinite`] naming `start` or `end`, [`Error::NotPositive`] naming `interval` if
-/// `end ≤ start`; any error of `trajectory` or [`ideal_imu`].
+/// As [`check_interval`]; any error of `trajectory` or [`ideal_imu`].
 pub fn imu_increment<B, F>(
     model: &EarthModel,
     gravity: GravityModel,
@@ -211,11 +271,7 @@ where
     B: Frame,
     F: FnMut(f64) -> Result<FrameMotion<Eci, B>>,
 {
-    ensure_finite1(start, "start")?;
-    ensure_finite1(end, "end")?;
-    if end <= start {
-        return Err(Error::NotPositive { quantity: "interval", value: end - start });
-    }
+    check_interval(start, end)?;
     let mut samples = [ImuSample::default(); QUADRATURE_NODES];
     for (sample, t) in samples.iter_mut().zip(quadrature_times(start, end)) {
         *sample = ideal_imu(model, gravity, &trajectory(t)?)?;

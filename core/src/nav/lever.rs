@@ -19,8 +19,9 @@ use nalgebra::{UnitQuaternion, Vector3};
 use super::strapdown::NavState;
 use crate::earth::local::{earth_rate_ned_unchecked, transport_rate_unchecked};
 use crate::earth::{EarthModel, Geodetic, ecef_to_geodetic, local_level_motion, ned_from_ecef};
-use crate::error::{Result, ensure_finite3};
+use crate::error::Result;
 use crate::frames::{Body, Frame, Ned, PointKinematics};
+use crate::limits;
 use crate::motion::{FrameMotion, MotionParts};
 
 /// The fixed frame of a sensor mounted on body B at `lever_arm` (m, resolved in B) with
@@ -49,8 +50,13 @@ pub fn sensor_mount<B: Frame, S: Frame>(
     lever_arm: &Vector3<f64>,
     sensor_to_body: &UnitQuaternion<f64>,
 ) -> Result<FrameMotion<B, S>> {
-    ensure_finite3(lever_arm, "lever_arm")?;
-    FrameMotion::from_parts(MotionParts { rotation: *sensor_to_body, position: *lever_arm, ..MotionParts::default() })
+    FrameMotion::from_parts(MotionParts { rotation: *sensor_to_body, position: *lever_arm, ..MotionParts::default() }).map_err(
+        |e| match e.quantity() {
+            "position" => e.with_quantity("lever_arm"),
+            "rotation" => e.with_quantity("sensor_to_body"),
+            _ => e,
+        },
+    )
 }
 
 /// Position, velocity and acceleration relative to P (resolved in P) of the point fixed at
@@ -73,7 +79,7 @@ pub fn lever_arm_kinematics<P: Frame, B: Frame>(
     body: &FrameMotion<P, B>,
     lever_arm: &Vector3<f64>,
 ) -> Result<PointKinematics<P>> {
-    ensure_finite3(lever_arm, "lever_arm")?;
+    limits::check_vector(lever_arm, limits::MAX_POSITION, "m", "lever_arm")?;
     Ok(body.map_point(&PointKinematics::at_rest(*lever_arm)))
 }
 
@@ -106,9 +112,11 @@ pub fn lever_arm_state(
     angular_rate: &Vector3<f64>,
     lever_arm: &Vector3<f64>,
 ) -> Result<(Geodetic, Vector3<f64>)> {
-    state.validate()?;
-    ensure_finite3(angular_rate, "angular_rate")?;
-    ensure_finite3(lever_arm, "lever_arm")?;
+    state.validate_for(model)?;
+    limits::check_vector(angular_rate, limits::MAX_ANGULAR_VELOCITY, "rad/s", "angular_rate")?;
+    // A lever arm on a vehicle: no longer than the Earth is wide, so that the point stays in
+    // the range of geodetic coordinates.
+    limits::check_vector(lever_arm, model.semi_minor_axis() / 4.0, "m", "lever_arm")?;
     let ned = local_level_motion(model, &state.position, &state.velocity_ned, &Vector3::zeros())?;
     let (s, c) = crate::math::sin_cos(state.position.latitude);
     let radii = crate::earth::local::radii_unchecked(model, s);

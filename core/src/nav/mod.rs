@@ -36,13 +36,15 @@ pub mod sensor;
 pub mod strapdown;
 
 pub use imu::{
-    ImuIncrement, ImuSample, QUADRATURE_NODES, ideal_imu, imu_increment, imu_increments, increment_from_node_samples,
-    quadrature_times,
+    ImuIncrement, ImuSample, QUADRATURE_NODES, check_interval, ideal_imu, imu_increment, imu_increments,
+    increment_from_node_samples, quadrature_times,
 };
 pub use lever::{lever_arm_kinematics, lever_arm_state, sensor_mount};
 pub use recorded::{RecordedSample, RecordedSlices, RecordedTrajectory, SampleSource};
 pub use sensor::{
-    ImuErrorGenerator, ImuErrorModel, SensorErrorModel, Xoshiro256PlusPlus, angle_random_walk_from_deg_per_sqrt_hour,
-    velocity_random_walk_from_mps_per_sqrt_hour,
+    ImuErrorGenerator, ImuErrorModel, MAX_SENSOR_ERROR, SensorErrorModel, Xoshiro256PlusPlus,
+    angle_random_walk_from_deg_per_sqrt_hour, velocity_random_walk_from_mps_per_sqrt_hour,
 };
-pub use strapdown::{MechanizationState, NavFrame, NavState, StepMemory, Strapdown, StrapdownConfig, VerticalChannel};
+pub use strapdown::{
+    MechanizationState, NavFrame, NavState, StepMemory, Strapdown, StrapdownConfig, VerticalChannel, max_aided_time_constant,
+};

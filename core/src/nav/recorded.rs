@@ -151,8 +151,10 @@ pub struct RecordedTrajectory<S: SampleSource> {
 }
 
 impl<S: SampleSource> RecordedTrajectory<S> {
-    /// Checks the samples and wraps them: at least 3 samples, times finite and strictly
-    /// increasing, positions valid, attitudes unit quaternions.
+    /// Checks the samples and wraps them: at least 3 samples, times finite, within
+    /// [`MAX_TIME`](crate::limits::MAX_TIME) and strictly increasing, positions valid for
+    /// `model` ([`Geodetic::validate_for`](crate::earth::Geodetic::validate_for)), attitudes
+    /// unit quaternions.
     ///
     /// # Errors
     /// [`BatchError`] with the index of the first bad sample; [`Error::LengthMismatch`]
@@ -166,11 +168,11 @@ impl<S: SampleSource> RecordedTrajectory<S> {
         for index in 0..n {
             let s = source.sample(index);
             let check = || -> Result<()> {
-                crate::error::ensure_finite1(s.time, "time")?;
+                crate::limits::check_scalar(s.time, crate::limits::MAX_TIME, "s", "time")?;
                 if s.time <= previous {
                     return Err(Error::Invalid { quantity: "time", reason: "times must be strictly increasing" });
                 }
-                s.position.validate()?;
+                s.position.validate_for(&model)?;
                 quaternion_from_wxyz(s.attitude, "attitude").map(|_| ())
             };
             check().map_err(|error| BatchError { index, error })?;
@@ -197,7 +199,10 @@ impl<S: SampleSource> RecordedTrajectory<S> {
     /// The interpolated motion of the body relative to ECEF at `time` (s), within the record.
     ///
     /// # Errors
-    /// [`Error::OutOfRange`] naming `time` outside `[start_time, end_time]`.
+    /// [`Error::OutOfRange`] naming `time` outside `[start_time, end_time]`;
+    /// [`Error::BeyondLimit`] naming the part of the motion (`velocity`, `angular_velocity`,
+    /// ...) when samples too close in time for their motion give rates beyond the
+    /// [`limits`](crate::limits).
     pub fn motion_at<B: Frame>(&mut self, time: f64) -> Result<FrameMotion<Ecef, B>> {
         let (t0, t1) = (self.start_time(), self.end_time());
         crate::error::ensure_finite1(time, "time")?;
@@ -221,7 +226,7 @@ impl<S: SampleSource> RecordedTrajectory<S> {
                 s
             }
         };
-        Ok(segment.evaluate(time))
+        segment.evaluate(time)
     }
 
     /// The interpolated motion of the body relative to the inertial frame at `time`: ECEF's
@@ -294,7 +299,7 @@ impl<S: SampleSource> RecordedTrajectory<S> {
 }
 
 impl Segment {
-    fn evaluate<B: Frame>(&self, time: f64) -> FrameMotion<Ecef, B> {
+    fn evaluate<B: Frame>(&self, time: f64) -> Result<FrameMotion<Ecef, B>> {
         let u = (time - self.start) / self.length;
         let (inv, inv2) = (1.0 / self.length, 1.0 / (self.length * self.length));
         let mut value = [0.0; 7];
@@ -311,7 +316,9 @@ impl Segment {
         let n2 = p.norm_squared();
         let omega = 2.0 * (p_dot * p.conjugate()).imag() / n2;
         let alpha = 2.0 * (p_ddot * p.conjugate()).imag() / n2 - 2.0 * omega * p.dot(&p_dot) / n2;
-        FrameMotion::from_parts_unchecked(MotionParts {
+        // Checked: samples closer in time than their motion allows (a glitch in a log's clock)
+        // give rates beyond the limits, reported rather than passed on.
+        FrameMotion::from_parts(MotionParts {
             rotation: UnitQuaternion::new_normalize(p),
             position: self.origin + Vector3::new(value[0], value[1], value[2]),
             velocity: Vector3::new(rate[0], rate[1], rate[2]),

@@ -38,6 +38,7 @@ use rand_xoshiro::rand_core::SeedableRng;
 
 use super::imu::ImuIncrement;
 use crate::error::{Error, Result, ensure_finite, ensure_finite3};
+use crate::limits::check_vector;
 use crate::math;
 
 /// Converts an angle random walk from deg/√h to rad/√s (the white-noise rate density).
@@ -104,21 +105,32 @@ impl Default for SensorErrorModel {
 impl SensorErrorModel {
     /// Checks the model; errors name the rejected field (`bias`, `misalignment`, ...).
     ///
+    /// Every field is finite and within the ranges below (wide enough for any real sensor;
+    /// they keep the corrupted increments finite for any valid increment): bias,
+    /// Gauss–Markov σ and noise density at most [`MAX_SENSOR_ERROR`] in magnitude (rad/s or
+    /// m/s², per √Hz for the density), scale factors and misalignment entries at most 1
+    /// (100 %). The all-zero model (with zero or infinite correlation times) is the perfect
+    /// sensor.
+    ///
     /// # Errors
-    /// [`Error::NonFinite`], [`Error::Invalid`] (non-zero misalignment diagonal, negative
-    /// noise or σ) or [`Error::NotPositive`] (`markov_time`).
+    /// [`Error::NonFinite`], [`Error::BeyondLimit`], [`Error::Invalid`] (non-zero
+    /// misalignment diagonal, negative noise or σ) or [`Error::NotPositive`] (`markov_time`).
     pub fn validate(&self) -> Result<()> {
-        ensure_finite3(&self.bias, "bias")?;
-        ensure_finite3(&self.scale_factor, "scale_factor")?;
+        check_vector(&self.bias, MAX_SENSOR_ERROR, "sensor units", "bias")?;
+        check_vector(&self.scale_factor, 1.0, "(dimensionless)", "scale_factor")?;
         ensure_finite(self.misalignment.as_slice(), "misalignment")?;
+        let largest = self.misalignment.amax();
+        if largest > 1.0 {
+            return Err(Error::BeyondLimit { quantity: "misalignment", magnitude: largest, limit: 1.0, unit: "(dimensionless)" });
+        }
         if self.misalignment.diagonal() != Vector3::zeros() {
             return Err(Error::Invalid { quantity: "misalignment", reason: "its diagonal must be zero (use scale_factor)" });
         }
-        ensure_finite3(&self.noise_density, "noise_density")?;
+        check_vector(&self.noise_density, MAX_SENSOR_ERROR, "sensor units per √Hz", "noise_density")?;
         if self.noise_density.iter().any(|&x| x < 0.0) {
             return Err(Error::Invalid { quantity: "noise_density", reason: "must be non-negative" });
         }
-        ensure_finite3(&self.markov_sigma, "markov_sigma")?;
+        check_vector(&self.markov_sigma, MAX_SENSOR_ERROR, "sensor units", "markov_sigma")?;
         if self.markov_sigma.iter().any(|&x| x < 0.0) {
             return Err(Error::Invalid { quantity: "markov_sigma", reason: "must be non-negative" });
         }
@@ -130,6 +142,12 @@ impl SensorErrorModel {
         Ok(())
     }
 }
+
+/// Largest magnitude of a sensor bias, Gauss–Markov σ or noise density (rad/s or m/s²; per
+/// √Hz for densities) that [`SensorErrorModel::validate`] accepts: a million times a
+/// consumer-grade gyro's bias, far beyond any sensor, small enough that corrupted increments
+/// stay finite.
+pub const MAX_SENSOR_ERROR: f64 = 1.0e3;
 
 /// Error models of both triads.
 #[derive(Debug, Clone, Copy, PartialEq, Default)]

@@ -72,7 +72,9 @@
 //! * [`Aided`](VerticalChannel::Aided): a second-order loop pulls the inertial height to the
 //!   reference (a barometric altimeter, say) with error `δh = h − h_ref`:
 //!   `ḣ = −v_D − k₁ δh`, `v̇_D = … + k₂ δh` with `k₁ = 2/τ`, `k₂ = 1/τ²` (critically damped, time
-//!   constant τ). The loop is stable when `k₂ > 2g/R` (about `3.1e-6 s⁻²`), i.e. `τ < 570 s`;
+//!   constant τ). The loop is stable when `k₂ > 2g/R` (about `3.1e-6 s⁻²`), i.e. `τ < 570 s`
+//!   ([`max_aided_time_constant`] takes the most demanding `g/R` of the model, at the poles:
+//!   `√(b / 2γp)`, 568.5 s for WGS 84; longer time constants are refused);
 //!   `τ` should also be many steps long. Set the reference with
 //!   [`set_height_reference`](Strapdown::set_height_reference) before each step (or per step in
 //!   [`run`](Strapdown::run)); it stays in force until changed and starts as the initial
@@ -86,11 +88,13 @@
 use nalgebra::{UnitQuaternion, Vector3};
 
 use super::imu::ImuIncrement;
+use crate::dispatch::with_fast_kernels;
 use crate::earth::geodetic::{check_ecef, inverse_unchecked};
 use crate::earth::gravity::{normal_gravity_at_height_unchecked, normal_gravity_ecef_at};
 use crate::earth::local::{check_away_from_pole, earth_rate_ned_unchecked, radii_unchecked, transport_rate_unchecked};
 use crate::earth::{EarthModel, Geodetic, GravityModel, ecef_from_ned_quaternion, geodetic_to_ecef};
-use crate::error::{BatchError, Error, Result, ensure_finite1, ensure_finite3};
+use crate::error::{BatchError, Error, Result, ensure_finite1};
+use crate::limits;
 use crate::math;
 
 /// Position, velocity and attitude as every mechanization reports them.
@@ -119,15 +123,26 @@ impl NavState {
         Self { position, velocity_ned, attitude }
     }
 
-    /// Checks that every part is finite, the latitude in range and the attitude unit.
+    /// Checks that every part is finite, the latitude in range, the speed within
+    /// [`MAX_VELOCITY`](limits::MAX_VELOCITY) and the attitude unit.
     ///
     /// # Errors
-    /// As [`Geodetic::validate`]; [`Error::NonFinite`] naming `velocity_ned`;
-    /// [`Error::NotUnitQuaternion`] or [`Error::NonFinite`] naming `attitude`.
+    /// As [`Geodetic::validate`]; [`Error::NonFinite`] or [`Error::BeyondLimit`] naming
+    /// `velocity_ned`; [`Error::NotUnitQuaternion`] or [`Error::NonFinite`] naming `attitude`.
     pub fn validate(&self) -> Result<()> {
         self.position.validate()?;
-        ensure_finite3(&self.velocity_ned, "velocity_ned")?;
+        limits::check_vector(&self.velocity_ned, limits::MAX_VELOCITY, "m/s", "velocity_ned")?;
         check_unit(&self.attitude, "attitude")
+    }
+
+    /// As [`validate`](Self::validate), and the height within the supported range of `model`
+    /// ([`Geodetic::validate_for`]).
+    ///
+    /// # Errors
+    /// As [`validate`](Self::validate) and [`Geodetic::validate_for`].
+    pub fn validate_for(&self, model: &EarthModel) -> Result<()> {
+        self.validate()?;
+        self.position.validate_for(model)
     }
 }
 
@@ -188,20 +203,47 @@ impl Default for StrapdownConfig {
 }
 
 impl StrapdownConfig {
-    /// Checks the vertical-channel settings.
+    /// Checks the vertical-channel settings: an aided loop's time constant must be positive
+    /// and no longer than [`max_aided_time_constant`] (beyond it the loop is unstable).
     ///
     /// # Errors
-    /// [`Error::NotPositive`] or [`Error::NonFinite`] naming `time_constant`.
+    /// [`Error::NotPositive`], [`Error::NonFinite`] or [`Error::OutOfRange`] naming
+    /// `time_constant`.
+    ///
+    /// ```
+    /// use rotaframe::nav::{StrapdownConfig, VerticalChannel};
+    /// let cfg = StrapdownConfig { vertical: VerticalChannel::Aided { time_constant: 1e6 }, ..StrapdownConfig::default() };
+    /// assert!(cfg.validate().unwrap_err().to_string().contains("568.5"));
+    /// ```
     pub fn validate(&self) -> Result<()> {
         if let VerticalChannel::Aided { time_constant } = self.vertical {
             ensure_finite1(time_constant, "time_constant")?;
             if time_constant <= 0.0 {
                 return Err(Error::NotPositive { quantity: "time_constant", value: time_constant });
             }
+            let max = max_aided_time_constant(&self.earth);
+            if time_constant > max {
+                return Err(Error::OutOfRange { quantity: "time_constant", value: time_constant, min: 0.0, max });
+            }
         }
         Ok(())
     }
 }
+
+/// The longest stable time constant of the aided vertical channel for `model` (s): the loop
+/// needs `k₂ = 1/τ² > 2g/R`, and `2g/R` is largest at the poles, so `τ < √(b / 2γp)`
+/// (568.5 s for WGS 84). The figure is rounded down to 0.1 s.
+///
+/// ```
+/// use rotaframe::{earth::WGS84, nav::max_aided_time_constant};
+/// assert_eq!(max_aided_time_constant(&WGS84), 568.5);
+/// ```
+#[must_use]
+pub fn max_aided_time_constant(model: &EarthModel) -> f64 {
+    math::floor(10.0 * math::sqrt(model.semi_minor_axis() / (2.0 * model.gamma_pole()))) / 10.0
+}
+
+impl StrapdownConfig {}
 
 /// The state a mechanization integrates, in its own coordinates.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -285,7 +327,7 @@ impl Strapdown {
     /// for the NED form within [`POLE_EXCLUSION`](crate::earth::POLE_EXCLUSION) of a pole.
     pub fn new(config: StrapdownConfig, initial: &NavState) -> Result<Self> {
         config.validate()?;
-        initial.validate()?;
+        initial.validate_for(&config.earth)?;
         let state = match config.frame {
             NavFrame::Ned => {
                 check_away_from_pole(initial.position.latitude, "latitude")?;
@@ -320,12 +362,12 @@ impl Strapdown {
         config.validate()?;
         match (&state, config.frame) {
             (MechanizationState::Ned { position, velocity_ned, attitude }, NavFrame::Ned) => {
-                NavState::new(*position, *velocity_ned, *attitude).validate()?;
+                NavState::new(*position, *velocity_ned, *attitude).validate_for(&config.earth)?;
                 check_away_from_pole(position.latitude, "latitude")?;
             }
             (MechanizationState::Ecef { position_ecef, velocity_ecef, attitude_ecef }, NavFrame::Ecef) => {
                 check_position_ecef(&config.earth, position_ecef)?;
-                ensure_finite3(velocity_ecef, "velocity_ecef")?;
+                limits::check_vector(velocity_ecef, limits::MAX_VELOCITY, "m/s", "velocity_ecef")?;
                 check_unit(attitude_ecef, "attitude_ecef")?;
             }
             _ => return Err(Error::Invalid { quantity: "state", reason: "its form does not match the configured frame" }),
@@ -333,9 +375,22 @@ impl Strapdown {
         if let Some(previous) = &memory.previous {
             previous.validate()?;
         }
-        ensure_finite1(memory.height_reference, "height_reference")?;
+        limits::check_height(&config.earth, memory.height_reference, "height_reference")?;
         ensure_finite1(memory.elapsed, "elapsed")?;
-        ensure_finite1(memory.elapsed_correction, "elapsed_correction")?;
+        if memory.elapsed < 0.0 {
+            return Err(Error::OutOfRange { quantity: "elapsed", value: memory.elapsed, min: 0.0, max: f64::MAX });
+        }
+        // A compensated sum's correction is the accumulated rounding of the plain sum: about
+        // one ulp per step at worst, so far below a millionth of the sum for any real run.
+        let slack = 1e-6 * (1.0 + memory.elapsed);
+        if memory.elapsed_correction.abs() > slack || memory.elapsed_correction.is_nan() {
+            return Err(Error::OutOfRange {
+                quantity: "elapsed_correction",
+                value: memory.elapsed_correction,
+                min: -slack,
+                max: slack,
+            });
+        }
         Ok(Self { config, state, memory })
     }
 
@@ -376,9 +431,10 @@ impl Strapdown {
     /// from the next step on. Ignored by [`Free`](VerticalChannel::Free).
     ///
     /// # Errors
-    /// [`Error::NonFinite`] naming `height_reference`.
+    /// [`Error::NonFinite`] or [`Error::OutOfRange`] (outside the supported heights of the
+    /// model, [`Geodetic::validate_for`]) naming `height_reference`.
     pub fn set_height_reference(&mut self, height_reference: f64) -> Result<()> {
-        ensure_finite1(height_reference, "height_reference")?;
+        limits::check_height(&self.config.earth, height_reference, "height_reference")?;
         self.memory.height_reference = height_reference;
         Ok(())
     }
@@ -396,6 +452,12 @@ impl Strapdown {
     /// ends within [`POLE_EXCLUSION`](crate::earth::POLE_EXCLUSION) of a pole; [`Error::NearEarthCentre`] (ECEF form) if the
     /// position leaves the region where gravity is defined.
     pub fn step(&mut self, increment: &ImuIncrement) -> Result<()> {
+        with_fast_kernels(|| self.step_on_this_cpu(increment))
+    }
+
+    /// The body of [`step`](Self::step), inlined into both CPU code paths.
+    #[inline(always)]
+    fn step_on_this_cpu(&mut self, increment: &ImuIncrement) -> Result<()> {
         increment.validate()?;
         let body = corrected_increments(increment, self.memory.previous.as_ref());
         let state = match &self.state {
@@ -477,6 +539,7 @@ impl Strapdown {
         Ok(())
     }
 
+    #[inline(always)]
     fn step_ned(
         &self,
         position: &Geodetic,
@@ -532,10 +595,12 @@ impl Strapdown {
         }
         let (mut position, velocity_ned, attitude) = next;
         position.longitude = wrap_longitude(position.longitude);
-        ensure_finite1(position.height, "height")?;
+        limits::check_height(model, position.height, "height")?;
+        limits::check_vector(&velocity_ned, limits::MAX_VELOCITY, "m/s", "velocity_ned")?;
         Ok(MechanizationState::Ned { position, velocity_ned, attitude: renormalise(attitude) })
     }
 
+    #[inline(always)]
     fn step_ecef(
         &self,
         position: &Vector3<f64>,
@@ -588,6 +653,7 @@ impl Strapdown {
         }
         let (position_ecef, velocity_ecef) = next;
         check_position_ecef(model, &position_ecef)?;
+        limits::check_vector(&velocity_ecef, limits::MAX_VELOCITY, "m/s", "velocity_ecef")?;
         Ok(MechanizationState::Ecef { position_ecef, velocity_ecef, attitude_ecef: renormalise(q) })
     }
 }
@@ -632,8 +698,13 @@ fn rotation_compensation_factors(theta2: f64) -> (f64, f64) {
     }
 }
 
+/// An ECEF navigation position: within [`MAX_GEOCENTRIC_DISTANCE`](limits::MAX_GEOCENTRIC_DISTANCE)
+/// of the centre and at least half the semi-minor axis from it (the inner limit of
+/// [`limits`], which also bounds the heights of the NED form).
 fn check_position_ecef(model: &EarthModel, position: &Vector3<f64>) -> Result<()> {
-    check_ecef(model, position, "position_ecef")
+    check_ecef(model, position, "position_ecef")?;
+    let (distance, limit) = (position.norm(), 0.5 * model.semi_minor_axis());
+    if distance < limit { Err(Error::NearEarthCentre { quantity: "position_ecef", distance, limit }) } else { Ok(()) }
 }
 
 /// `C_n^e` for a validated geodetic position.
