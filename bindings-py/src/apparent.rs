@@ -3,9 +3,12 @@
 use numpy::PyArrayDyn;
 use pyo3::prelude::*;
 use rotaframe::apparent::{FrameDynamics, apparent_terms};
+use rotaframe::dispatch::with_fast_kernels;
 use rotaframe::frames::{AnyFrame, PointKinematics};
 
-use crate::broadcast::{Operand, Plan, RawOutput, Slot, failure_to_py, non_finite_flag, run};
+use rotaframe::limits::{MAX_ACCELERATION, MAX_ANGULAR_ACCELERATION, MAX_ANGULAR_VELOCITY, MAX_POSITION, MAX_VELOCITY, within};
+
+use crate::broadcast::{Operand, Plan, RawOutput, Slot, failure_to_py, run};
 
 /// The apparent accelerations in a rotating frame, each an array `(..., 3)` resolved in that
 /// frame (m/s²): `translational` (−a₀), `coriolis` (−2 ω × v), `centrifugal` (−ω × (ω × r)),
@@ -46,55 +49,63 @@ pub fn apparent_acceleration<'py>(
     angular_acceleration: Option<&Bound<'py, PyAny>>,
     origin_acceleration: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<PyApparentAcceleration> {
-    let zero = 0.0f64.into_pyobject(py)?.into_any();
     let mut w = Operand::extract(angular_velocity, "angular_velocity", &[3])?;
     let mut r = Operand::extract(position, "position", &[3])?;
-    let mut v = Operand::extract(velocity.unwrap_or(&zero), "velocity", &[3])?;
-    let mut al = Operand::extract(angular_acceleration.unwrap_or(&zero), "angular_acceleration", &[3])?;
-    let mut a0 = Operand::extract(origin_acceleration.unwrap_or(&zero), "origin_acceleration", &[3])?;
+    let mut v = Operand::optional(velocity, "velocity", &[3])?;
+    let mut al = Operand::optional(angular_acceleration, "angular_acceleration", &[3])?;
+    let mut a0 = Operand::optional(origin_acceleration, "origin_acceleration", &[3])?;
     let plan = Plan::for_operands(&mut [&mut w, &mut r, &mut v, &mut al, &mut a0], &[])?;
     let (wa, ra, va, ala, a0a) = (w.access(&plan), r.access(&plan), v.access(&plan), al.access(&plan), a0.access(&plan));
     let n = plan.n;
     let mut outs: [RawOutput<'py>; 5] = core::array::from_fn(|_| RawOutput::vec3(py, &plan));
     let [s0, s1, s2, s3, s4] = outs.each_mut().map(RawOutput::slots);
-    // One pass writes every slot and folds a finiteness check in without branching; only a
-    // batch whose totals are not all finite is scanned again, to name the first bad input (if
-    // every input is finite the non-finite values are overflow, and are returned as computed).
+    // One pass writes every slot and folds a check of every input against its supported
+    // range in without branching (inside the ranges the terms cannot overflow); only a batch
+    // with a bad input is scanned again, to name the first one.
     let finite = py.detach(|| {
-        let mut bad = 0u64;
-        let slots = s0.iter_mut().zip(s1.iter_mut()).zip(s2.iter_mut()).zip(s3.iter_mut()).zip(s4.iter_mut());
-        type Vectors<'a> = (&'a [f64; 3], &'a [f64; 3], &'a [f64; 3], &'a [f64; 3], &'a [f64; 3]);
-        let vector = |x: &[f64; 3]| rotaframe::nalgebra::Vector3::new(x[0], x[1], x[2]);
-        type Slots<'a> = ((((Slot<'a>, Slot<'a>), Slot<'a>), Slot<'a>), Slot<'a>);
-        let mut element = |(((((t, c), f), e), s), (w, al, a0, r, v)): (Slots<'_>, Vectors<'_>)| {
-            let dynamics =
-                FrameDynamics { angular_velocity: vector(w), angular_acceleration: vector(al), origin_acceleration: vector(a0) };
-            let (position, velocity) = (vector(r), vector(v));
-            let terms = apparent_terms(&dynamics, &position, &velocity);
-            // Every input component reaches the total through a sum or a product, so a NaN or
-            // infinite input makes the total non-finite: probing the total finds bad input.
-            bad |= non_finite_flag(&[terms.total]);
-            t.write(terms.translational.into());
-            c.write(terms.coriolis.into());
-            f.write(terms.centrifugal.into());
-            e.write(terms.euler.into());
-            s.write(terms.total.into());
-        };
-        match (wa.full_vec3(n), ala.full_vec3(n), a0a.full_vec3(n), ra.full_vec3(n), va.full_vec3(n)) {
-            // Every argument has one vector per element: iterate the slices directly.
-            (Some(w), Some(al), Some(a0), Some(r), Some(v)) => {
-                let inputs = w.iter().zip(al).zip(a0).zip(r).zip(v).map(|((((w, al), a0), r), v)| (w, al, a0, r, v));
-                slots.zip(inputs).for_each(&mut element);
-            }
-            _ => {
-                for (i, slot) in slots.enumerate() {
-                    let x: [[f64; 3]; 5] =
-                        [wa.vec3(i).into(), ala.vec3(i).into(), a0a.vec3(i).into(), ra.vec3(i).into(), va.vec3(i).into()];
-                    element((slot, (&x[0], &x[1], &x[2], &x[3], &x[4])));
+        with_fast_kernels(|| {
+            let mut bad = 0u64;
+            let slots = s0.iter_mut().zip(s1.iter_mut()).zip(s2.iter_mut()).zip(s3.iter_mut()).zip(s4.iter_mut());
+            type Vectors<'a> = (&'a [f64; 3], &'a [f64; 3], &'a [f64; 3], &'a [f64; 3], &'a [f64; 3]);
+            let vector = |x: &[f64; 3]| rotaframe::nalgebra::Vector3::new(x[0], x[1], x[2]);
+            type Slots<'a> = ((((Slot<'a>, Slot<'a>), Slot<'a>), Slot<'a>), Slot<'a>);
+            let mut element = |(((((t, c), f), e), s), (w, al, a0, r, v)): (Slots<'_>, Vectors<'_>)| {
+                let dynamics = FrameDynamics {
+                    angular_velocity: vector(w),
+                    angular_acceleration: vector(al),
+                    origin_acceleration: vector(a0),
+                };
+                let (position, velocity) = (vector(r), vector(v));
+                let terms = apparent_terms(&dynamics, &position, &velocity);
+                bad |= u64::from(
+                    !(within(&dynamics.angular_velocity, MAX_ANGULAR_VELOCITY)
+                        & within(&dynamics.angular_acceleration, MAX_ANGULAR_ACCELERATION)
+                        & within(&dynamics.origin_acceleration, MAX_ACCELERATION)
+                        & within(&position, MAX_POSITION)
+                        & within(&velocity, MAX_VELOCITY)),
+                );
+                t.write(terms.translational.into());
+                c.write(terms.coriolis.into());
+                f.write(terms.centrifugal.into());
+                e.write(terms.euler.into());
+                s.write(terms.total.into());
+            };
+            match (wa.full_vec3(n), ala.full_vec3(n), a0a.full_vec3(n), ra.full_vec3(n), va.full_vec3(n)) {
+                // Every argument has one vector per element: iterate the slices directly.
+                (Some(w), Some(al), Some(a0), Some(r), Some(v)) => {
+                    let inputs = w.iter().zip(al).zip(a0).zip(r).zip(v).map(|((((w, al), a0), r), v)| (w, al, a0, r, v));
+                    slots.zip(inputs).for_each(&mut element);
+                }
+                _ => {
+                    for (i, slot) in slots.enumerate() {
+                        let x: [[f64; 3]; 5] =
+                            [wa.vec3(i).into(), ala.vec3(i).into(), a0a.vec3(i).into(), ra.vec3(i).into(), va.vec3(i).into()];
+                        element((slot, (&x[0], &x[1], &x[2], &x[3], &x[4])));
+                    }
                 }
             }
-        }
-        bad == 0
+            bad == 0
+        })
     });
     if !finite {
         let result = run(py, n, |i| {

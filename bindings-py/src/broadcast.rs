@@ -4,24 +4,27 @@
 //! Every array argument has a *core* shape (`()` for a scalar, `(3,)` for a vector, `(4,)` for
 //! a quaternion, `(3, 3)` for a matrix) that must match its trailing axes exactly, and a
 //! *leading* shape that broadcasts with the other arguments by numpy's rules. A Python number
-//! or a 0-d array broadcasts over everything, core axes included (so `velocity=0` means the
-//! zero vector). C-contiguous float64 input is read in place; anything else (lists, other
-//! dtypes, strided views, partial broadcasts) is converted once.
+//! or a 0-d array is a scalar argument (it broadcasts over the batch); where a vector,
+//! quaternion or matrix is required the trailing axes must be given, as in numpy's generalised
+//! ufuncs. Only real numbers are accepted (see [`Operand::extract`]). C-contiguous float64
+//! input is read in place; anything else (lists, other dtypes, strided views, partial
+//! broadcasts) is converted once.
 
-use numpy::{AllowTypeChange, PyArrayDyn, PyArrayLikeDyn, PyArrayMethods, PyUntypedArrayMethods};
+use numpy::{PyArrayDyn, PyArrayMethods, PyUntypedArrayMethods};
 use pyo3::prelude::*;
 use pyo3::types::{PyBool, PyFloat, PyInt, PyTuple};
+use rotaframe::dispatch::with_fast_kernels;
 
-use crate::errors::{ShapeError, to_py};
+use crate::errors::{ShapeError, input_type_error, to_py};
 
 /// Largest core size (a 3×3 matrix).
 const MAX_CORE: usize = 9;
 
 enum Storage<'py> {
-    /// One number broadcast over every element and every core slot.
+    /// One number broadcast over every element (a scalar argument).
     Scalar([f64; MAX_CORE]),
     /// A C-contiguous float64 numpy array, read in place.
-    Array(PyArrayLikeDyn<'py, f64, AllowTypeChange>),
+    Array(numpy::PyReadonlyArrayDyn<'py, f64>),
     /// A contiguous copy (of a strided view, or of a partially broadcast operand).
     Owned(Vec<f64>),
 }
@@ -35,6 +38,46 @@ pub struct Operand<'py> {
     storage: Storage<'py>,
 }
 
+/// The `ShapeError` for a scalar given where a vector, quaternion or matrix is required.
+fn needs_core(name: &str, core_shape: &[usize], what: &str) -> PyErr {
+    ShapeError::new_err(format!(
+        "`{name}` must be an array with trailing shape {} (one per element), got {what}",
+        shape_text(core_shape)
+    ))
+}
+
+/// numpy's `asarray`, looked up once.
+static ASARRAY: pyo3::sync::PyOnceLock<Py<PyAny>> = pyo3::sync::PyOnceLock::new();
+
+/// `obj` as a float64 numpy array, refusing anything that is not real numbers: numpy
+/// converts strings, booleans, dates and complex numbers (dropping the imaginary part) to
+/// float64 when asked, so the kind is checked first.
+fn real_array<'py>(obj: &Bound<'py, PyAny>, name: &str) -> PyResult<Bound<'py, PyArrayDyn<f64>>> {
+    let py = obj.py();
+    if obj.is_none() {
+        return Err(input_type_error(format!("`{name}` must be a number or an array of numbers, got None")));
+    }
+    if let Ok(a) = obj.cast::<PyArrayDyn<f64>>() {
+        return Ok(a.clone());
+    }
+    let asarray =
+        ASARRAY.get_or_try_init(py, || -> PyResult<Py<PyAny>> { Ok(py.import("numpy")?.getattr("asarray")?.unbind()) })?;
+    let array = asarray.bind(py).call1((obj,)).map_err(|e| {
+        input_type_error(format!("`{name}` must be a number or an array of numbers, got {}: {e}", crate::args::describe(obj)))
+    })?;
+    match crate::args::numpy_kind(&array) {
+        Some('i' | 'u' | 'f') => {}
+        _ => {
+            return Err(input_type_error(format!(
+                "`{name}` must be a number or an array of real numbers, got {}",
+                crate::args::describe(&array)
+            )));
+        }
+    }
+    let array = if array.cast::<PyArrayDyn<f64>>().is_ok() { array } else { array.call_method1("astype", ("float64",))? };
+    Ok(array.cast_into::<PyArrayDyn<f64>>()?)
+}
+
 fn shape_text(shape: &[usize]) -> String {
     match shape.len() {
         0 => "()".to_string(),
@@ -44,20 +87,28 @@ fn shape_text(shape: &[usize]) -> String {
 }
 
 impl<'py> Operand<'py> {
-    /// Converts `obj` (a number, sequence or array) into an operand with the given core shape.
+    /// Converts `obj` (a number, sequence or array of real numbers) into an operand with the
+    /// given core shape. Numbers only: booleans, complex numbers, strings, bytes, dates,
+    /// `None` and arrays of objects raise `InputTypeError` naming the argument; an argument
+    /// with a core shape needs those trailing axes (a number where a vector is required is a
+    /// `ShapeError`, as in numpy's generalised ufuncs).
     pub fn extract(obj: &Bound<'py, PyAny>, name: &'static str, core_shape: &[usize]) -> PyResult<Self> {
         let core: usize = core_shape.iter().product();
         // Plain Python numbers skip numpy entirely (this keeps single-sample calls cheap).
         if (obj.is_exact_instance_of::<PyFloat>() || obj.is_instance_of::<PyInt>()) && !obj.is_instance_of::<PyBool>() {
-            let v: f64 = obj.extract()?;
+            if !core_shape.is_empty() {
+                return Err(needs_core(name, core_shape, "a number"));
+            }
+            let v = crate::args::number(obj, name)?;
             return Ok(Self { name, core, leading: Vec::new(), storage: Storage::Scalar([v; MAX_CORE]) });
         }
-        let array: PyArrayLikeDyn<'py, f64, AllowTypeChange> = obj.extract().map_err(|e| {
-            pyo3::exceptions::PyTypeError::new_err(format!("`{name}` must be a number or an array of numbers: {e}"))
-        })?;
+        let array = real_array(obj, name)?;
         let shape = array.shape().to_vec();
         if shape.is_empty() {
-            let v = array.as_array().first().copied().unwrap_or(f64::NAN);
+            if !core_shape.is_empty() {
+                return Err(needs_core(name, core_shape, "a 0-d array"));
+            }
+            let v = array.readonly().as_array().first().copied().unwrap_or(f64::NAN);
             return Ok(Self { name, core, leading: Vec::new(), storage: Storage::Scalar([v; MAX_CORE]) });
         }
         let k = core_shape.len();
@@ -70,11 +121,25 @@ impl<'py> Operand<'py> {
         }
         let leading = shape[..shape.len() - k].to_vec();
         let storage = if array.is_c_contiguous() {
-            Storage::Array(array)
+            Storage::Array(array.readonly())
         } else {
-            Storage::Owned(array.as_array().iter().copied().collect())
+            Storage::Owned(array.readonly().as_array().iter().copied().collect())
         };
         Ok(Self { name, core, leading, storage })
+    }
+
+    /// [`extract`](Self::extract) for an optional argument: `None` (omitted) is zero in every
+    /// core slot, broadcast over the batch.
+    pub fn optional(obj: Option<&Bound<'py, PyAny>>, name: &'static str, core_shape: &[usize]) -> PyResult<Self> {
+        match obj {
+            Some(o) if !o.is_none() => Self::extract(o, name, core_shape),
+            _ => Ok(Self {
+                name,
+                core: core_shape.iter().product(),
+                leading: Vec::new(),
+                storage: Storage::Scalar([0.0; MAX_CORE]),
+            }),
+        }
     }
 
     fn size(&self) -> usize {
@@ -163,12 +228,14 @@ where
         let bufs: &mut [&mut [f64]; M] = (&mut bufs[..]).try_into().expect("M outputs");
         let n = plan.n;
         let result = py.detach(|| {
-            for i in 0..n {
-                let inputs: [&[f64]; N] = core::array::from_fn(|j| accesses[j].slice(i));
-                let mut slots = bufs.each_mut().map(|b| &mut b[i * k..(i + 1) * k]);
-                kernel(&inputs, &mut slots).map_err(|error| Failure { index: i, error: rename(error, &inputs) })?;
-            }
-            Ok(())
+            with_fast_kernels(|| {
+                for i in 0..n {
+                    let inputs: [&[f64]; N] = core::array::from_fn(|j| accesses[j].slice(i));
+                    let mut slots = bufs.each_mut().map(|b| &mut b[i * k..(i + 1) * k]);
+                    kernel(&inputs, &mut slots).map_err(|error| Failure { index: i, error: rename(error, &inputs) })?;
+                }
+                Ok(())
+            })
         });
         if let Err(f) = result {
             let refs: Vec<&Operand<'py>> = ops.iter().collect();
@@ -380,10 +447,12 @@ where
     F: FnMut(usize) -> Result<(), rotaframe::Error> + Send,
 {
     py.detach(move || {
-        for i in 0..n {
-            kernel(i).map_err(|error| Failure { index: i, error })?;
-        }
-        Ok(())
+        with_fast_kernels(move || {
+            for i in 0..n {
+                kernel(i).map_err(|error| Failure { index: i, error })?;
+            }
+            Ok(())
+        })
     })
 }
 

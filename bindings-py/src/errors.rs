@@ -54,6 +54,39 @@ pyo3::create_exception!(
     "Array shapes do not fit: a wrong trailing dimension, or shapes that do not broadcast."
 );
 pyo3::create_exception!(rotaframe, FrameMismatchError, RotaframeError, "Frame motions whose labels do not chain were composed.");
+pyo3::create_exception!(
+    rotaframe,
+    ConcurrentUseError,
+    RotaframeError,
+    "A stateful object (a Strapdown, an ImuErrors) was used by two threads at once; give each thread its own copy."
+);
+
+/// `InputTypeError(RotaframeError, TypeError)`: an argument that is not a number, an array of
+/// numbers or the object it must be. Built at import, because it has two bases.
+static INPUT_TYPE_ERROR: pyo3::sync::PyOnceLock<Py<pyo3::types::PyType>> = pyo3::sync::PyOnceLock::new();
+
+/// The `InputTypeError` class.
+fn input_type_error_class(py: Python<'_>) -> PyResult<&Py<pyo3::types::PyType>> {
+    INPUT_TYPE_ERROR.get_or_try_init(py, || {
+        let bases = pyo3::types::PyTuple::new(py, [py.get_type::<RotaframeError>().into_any(), py.get_type::<pyo3::exceptions::PyTypeError>().into_any()])?;
+        let namespace = pyo3::types::PyDict::new(py);
+        namespace.set_item(
+            "__doc__",
+            "An argument of the wrong kind: not a real number or an array of real numbers (complex, string, bytes, date, None, object), or not the object required. Both a RotaframeError and a TypeError.",
+        )?;
+        namespace.set_item("__module__", "rotaframe")?;
+        let class = py.get_type::<pyo3::types::PyType>().call1(("InputTypeError", bases, namespace))?;
+        Ok(class.cast_into::<pyo3::types::PyType>()?.unbind())
+    })
+}
+
+/// An `InputTypeError` with `message`.
+pub fn input_type_error(message: String) -> PyErr {
+    Python::attach(|py| match input_type_error_class(py) {
+        Ok(class) => PyErr::from_type(class.bind(py).clone(), message),
+        Err(e) => e,
+    })
+}
 
 /// Python exception for a core error, with the core's message and `context` appended (the
 /// position of the bad element, when there is one).
@@ -67,7 +100,7 @@ pub fn to_py(error: &Error, context: &str) -> PyErr {
         Error::NotPositive { .. } => NotPositiveError::new_err(message),
         Error::NearPole { .. } => NearPoleError::new_err(message),
         Error::NearEarthCentre { .. } => NearEarthCentreError::new_err(message),
-        Error::OutOfRange { .. } => OutOfRangeError::new_err(message),
+        Error::OutOfRange { .. } | Error::BeyondLimit { .. } => OutOfRangeError::new_err(message),
         Error::LengthMismatch { .. } => ShapeError::new_err(message),
         _ => RotaframeError::new_err(message),
     }
@@ -87,5 +120,7 @@ pub fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add("NearEarthCentreError", py.get_type::<NearEarthCentreError>())?;
     m.add("ShapeError", py.get_type::<ShapeError>())?;
     m.add("FrameMismatchError", py.get_type::<FrameMismatchError>())?;
+    m.add("ConcurrentUseError", py.get_type::<ConcurrentUseError>())?;
+    m.add("InputTypeError", input_type_error_class(py)?.clone_ref(py))?;
     Ok(())
 }

@@ -73,10 +73,10 @@ pub fn geodetic_to_ecef<'py>(
     lat: &Bound<'py, PyAny>,
     lon: &Bound<'py, PyAny>,
     h: &Bound<'py, PyAny>,
-    model: Option<&Bound<'py, PyEarthModel>>,
-    degrees: bool,
+    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
 ) -> PyResult<Bound<'py, PyAny>> {
-    let model = model_or_default(model);
+    let model = model_or_default(model.as_ref());
     let (mut lat, mut lon, mut h) =
         (Operand::extract(lat, "lat", &[])?, Operand::extract(lon, "lon", &[])?, Operand::extract(h, "h", &[])?);
     let plan = Plan::for_operands(&mut [&mut lat, &mut lon, &mut h], &[])?;
@@ -109,10 +109,10 @@ pub fn geodetic_to_ecef<'py>(
 pub fn ecef_to_geodetic<'py>(
     py: Python<'py>,
     xyz: &Bound<'py, PyAny>,
-    model: Option<&Bound<'py, PyEarthModel>>,
-    degrees: bool,
+    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
 ) -> PyResult<Bound<'py, PyTuple>> {
-    let model = model_or_default(model);
+    let model = model_or_default(model.as_ref());
     let mut xyz = Operand::extract(xyz, "xyz", &[3])?;
     let plan = Plan::for_operands(&mut [&mut xyz], &[])?;
     let outs = vec![plan.output(py, &[]), plan.output(py, &[]), plan.output(py, &[])];
@@ -145,7 +145,7 @@ pub fn ned_from_ecef<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
     lon: &Bound<'py, PyAny>,
-    degrees: bool,
+    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
 ) -> PyResult<Bound<'py, PyAny>> {
     local_rotation(py, lat, lon, degrees, earth::ned_from_ecef)
 }
@@ -157,7 +157,7 @@ pub fn enu_from_ecef<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
     lon: &Bound<'py, PyAny>,
-    degrees: bool,
+    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
 ) -> PyResult<Bound<'py, PyAny>> {
     local_rotation(py, lat, lon, degrees, earth::enu_from_ecef)
 }
@@ -188,10 +188,10 @@ fn local_rotation<'py>(
 pub fn radii_of_curvature<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
-    model: Option<&Bound<'py, PyEarthModel>>,
-    degrees: bool,
+    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
 ) -> PyResult<Bound<'py, PyTuple>> {
-    let (model, s) = (model_or_default(model), angle_scale(degrees));
+    let (model, s) = (model_or_default(model.as_ref()), angle_scale(degrees));
     let (plan, [m, n]) = map_elements(py, [Operand::extract(lat, "lat", &[])?], &[], lat_first(degrees), |x, [m, n]| {
         let r = earth::radii_of_curvature(&model, x[0][0] * s)?;
         m[0] = r.meridian;
@@ -225,10 +225,10 @@ pub fn normal_gravity<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
     h: Option<&Bound<'py, PyAny>>,
-    model: Option<&Bound<'py, PyEarthModel>>,
-    degrees: bool,
+    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
 ) -> PyResult<Bound<'py, PyAny>> {
-    let model = model_or_default(model);
+    let model = model_or_default(model.as_ref());
     let zero = 0.0f64.into_pyobject(py)?.into_any();
     lat_scalar(py, lat, h.unwrap_or(&zero), degrees, |lat, h| earth::normal_gravity_at_height(&model, lat, h))
 }
@@ -240,12 +240,11 @@ pub fn gravity_ned<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
     h: Option<&Bound<'py, PyAny>>,
-    model: Option<&Bound<'py, PyEarthModel>>,
-    degrees: bool,
+    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
 ) -> PyResult<Bound<'py, PyAny>> {
-    let (model, s) = (model_or_default(model), angle_scale(degrees));
-    let zero = 0.0f64.into_pyobject(py)?.into_any();
-    let ops = [Operand::extract(lat, "lat", &[])?, Operand::extract(h.unwrap_or(&zero), "h", &[])?];
+    let (model, s) = (model_or_default(model.as_ref()), angle_scale(degrees));
+    let ops = [Operand::extract(lat, "lat", &[])?, Operand::optional(h, "h", &[])?];
     let (_, [out]) = map_elements(py, ops, &[3], lat_first(degrees), |x, [o]| {
         put3(o, &earth::gravity_ned(&model, x[0][0] * s, x[1][0])?);
         Ok(())
@@ -278,9 +277,9 @@ fn ecef_vector<'py>(
 pub fn gravitation_ecef<'py>(
     py: Python<'py>,
     xyz: &Bound<'py, PyAny>,
-    model: Option<&Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
 ) -> PyResult<Bound<'py, PyAny>> {
-    ecef_vector(py, xyz, &model_or_default(model), earth::gravitation_ecef)
+    ecef_vector(py, xyz, &model_or_default(model.as_ref()), earth::gravitation_ecef)
 }
 
 /// Gravity (J2 gravitation plus centrifugal) at ECEF positions, resolved in ECEF (m/s²).
@@ -289,9 +288,9 @@ pub fn gravitation_ecef<'py>(
 pub fn gravity_ecef<'py>(
     py: Python<'py>,
     xyz: &Bound<'py, PyAny>,
-    model: Option<&Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
 ) -> PyResult<Bound<'py, PyAny>> {
-    ecef_vector(py, xyz, &model_or_default(model), earth::gravity_ecef)
+    ecef_vector(py, xyz, &model_or_default(model.as_ref()), earth::gravity_ecef)
 }
 
 /// Centripetal acceleration `ω × (ω × r)` of Earth-fixed points at ECEF positions (m/s²).
@@ -300,9 +299,9 @@ pub fn gravity_ecef<'py>(
 pub fn centripetal_acceleration_ecef<'py>(
     py: Python<'py>,
     xyz: &Bound<'py, PyAny>,
-    model: Option<&Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
 ) -> PyResult<Bound<'py, PyAny>> {
-    ecef_vector(py, xyz, &model_or_default(model), earth::centripetal_acceleration_ecef)
+    ecef_vector(py, xyz, &model_or_default(model.as_ref()), earth::centripetal_acceleration_ecef)
 }
 
 /// Earth rate `Ω (cos φ, 0, −sin φ)` resolved in NED (rad/s), shape `(..., 3)`.
@@ -311,10 +310,10 @@ pub fn centripetal_acceleration_ecef<'py>(
 pub fn earth_rate_ned<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
-    model: Option<&Bound<'py, PyEarthModel>>,
-    degrees: bool,
+    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
 ) -> PyResult<Bound<'py, PyAny>> {
-    let (model, s) = (model_or_default(model), angle_scale(degrees));
+    let (model, s) = (model_or_default(model.as_ref()), angle_scale(degrees));
     let (_, [out]) = map_elements(py, [Operand::extract(lat, "lat", &[])?], &[3], lat_first(degrees), |x, [o]| {
         put3(o, &earth::earth_rate_ned(&model, x[0][0] * s)?);
         Ok(())
@@ -361,10 +360,10 @@ pub fn transport_rate_ned<'py>(
     lat: &Bound<'py, PyAny>,
     h: &Bound<'py, PyAny>,
     v_ned: &Bound<'py, PyAny>,
-    model: Option<&Bound<'py, PyEarthModel>>,
-    degrees: bool,
+    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
 ) -> PyResult<Bound<'py, PyAny>> {
-    velocity_vector(py, [lat, h, v_ned], model, degrees, earth::transport_rate_ned)
+    velocity_vector(py, [lat, h, v_ned], model.as_ref(), degrees, earth::transport_rate_ned)
 }
 
 /// The Coriolis and transport-rate term `−(2 ω_ie + ω_en) × v` of the NED velocity equation (m/s²).
@@ -375,10 +374,10 @@ pub fn coriolis_ned<'py>(
     lat: &Bound<'py, PyAny>,
     h: &Bound<'py, PyAny>,
     v_ned: &Bound<'py, PyAny>,
-    model: Option<&Bound<'py, PyEarthModel>>,
-    degrees: bool,
+    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
 ) -> PyResult<Bound<'py, PyAny>> {
-    velocity_vector(py, [lat, h, v_ned], model, degrees, earth::coriolis_ned)
+    velocity_vector(py, [lat, h, v_ned], model.as_ref(), degrees, earth::coriolis_ned)
 }
 
 /// Eötvös correction (m/s², to add to a moving gravimeter's reading).
@@ -389,10 +388,10 @@ pub fn eotvos_correction<'py>(
     lat: &Bound<'py, PyAny>,
     v_ned: &Bound<'py, PyAny>,
     h: Option<&Bound<'py, PyAny>>,
-    model: Option<&Bound<'py, PyEarthModel>>,
-    degrees: bool,
+    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
 ) -> PyResult<Bound<'py, PyAny>> {
-    let model = model_or_default(model);
+    let model = model_or_default(model.as_ref());
     let zero = 0.0f64.into_pyobject(py)?.into_any();
     let (plan, out) = lat_h_velocity(py, [lat, h.unwrap_or(&zero), v_ned], degrees, &[], |lat, h, v, o| {
         o[0] = earth::eotvos_correction(&model, lat, h, v)?;
@@ -407,10 +406,10 @@ pub fn eotvos_correction<'py>(
 pub fn coriolis_parameter<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
-    model: Option<&Bound<'py, PyEarthModel>>,
-    degrees: bool,
+    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
 ) -> PyResult<Bound<'py, PyAny>> {
-    let model = model_or_default(model);
+    let model = model_or_default(model.as_ref());
     let zero = 0.0f64.into_pyobject(py)?.into_any();
     lat_scalar(py, lat, &zero, degrees, |lat, _| earth::coriolis_parameter(&model, lat))
 }
@@ -423,9 +422,7 @@ pub fn earth_rotation_angle<'py>(
     jd_ut1: &Bound<'py, PyAny>,
     jd_ut1_fraction: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyAny>> {
-    let zero = 0.0f64.into_pyobject(py)?.into_any();
-    let ops =
-        [Operand::extract(jd_ut1, "jd_ut1", &[])?, Operand::extract(jd_ut1_fraction.unwrap_or(&zero), "jd_ut1_fraction", &[])?];
+    let ops = [Operand::extract(jd_ut1, "jd_ut1", &[])?, Operand::optional(jd_ut1_fraction, "jd_ut1_fraction", &[])?];
     let (plan, [out]) = map_elements(
         py,
         ops,

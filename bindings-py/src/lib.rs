@@ -6,6 +6,7 @@
 //! exceptions. No formula is written here.
 
 mod apparent;
+mod args;
 mod broadcast;
 mod errors;
 mod geodesy;
@@ -16,10 +17,18 @@ mod rotations;
 
 use pyo3::prelude::*;
 
+/// True when this process runs rotaframe's AVX2 + FMA code paths (an x86-64 CPU with those
+/// instructions). Results are the same bits either way; only speed differs.
+#[pyfunction]
+fn fast_kernels_active() -> bool {
+    rotaframe::dispatch::fast_kernels_active()
+}
+
 /// The native part of the `rotaframe` package.
 #[pymodule(gil_used = false)]
 fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     errors::register(m)?;
+    m.add_function(wrap_pyfunction!(fast_kernels_active, m)?)?;
     m.add_class::<model::PyEarthModel>()?;
     m.add("WGS84", model::PyEarthModel::preset(rotaframe::earth::WGS84, "WGS84"))?;
     m.add("GRS80", model::PyEarthModel::preset(rotaframe::earth::GRS80, "GRS80"))?;

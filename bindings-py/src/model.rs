@@ -20,6 +20,18 @@ impl PyEarthModel {
     }
 }
 
+/// A model-construction error with the core's constant names spelled as `EarthModel`'s
+/// keywords.
+fn model_error(error: rotaframe::Error) -> PyErr {
+    let name = match error.quantity() {
+        "semi_major_axis" => "a",
+        "flattening" => "f",
+        "rotation_rate" => "omega",
+        _ => "",
+    };
+    to_py(&if name.is_empty() { error } else { error.with_quantity(name) }, "")
+}
+
 /// The model argument of a function: the given one, or WGS 84.
 pub fn model_or_default(model: Option<&Bound<'_, PyEarthModel>>) -> EarthModel {
     model.map_or(earth::WGS84, |m| m.get().inner)
@@ -32,13 +44,13 @@ impl PyEarthModel {
     #[new]
     #[pyo3(signature = (*, a, f, gm, omega, gamma_equator=None, gamma_pole=None, j2=None))]
     fn new(
-        a: f64,
-        f: f64,
-        gm: f64,
-        omega: f64,
-        gamma_equator: Option<f64>,
-        gamma_pole: Option<f64>,
-        j2: Option<f64>,
+        #[pyo3(from_py_with = crate::args::a)] a: f64,
+        #[pyo3(from_py_with = crate::args::f)] f: f64,
+        #[pyo3(from_py_with = crate::args::gm)] gm: f64,
+        #[pyo3(from_py_with = crate::args::omega)] omega: f64,
+        #[pyo3(from_py_with = crate::args::gamma_equator)] gamma_equator: Option<f64>,
+        #[pyo3(from_py_with = crate::args::gamma_pole)] gamma_pole: Option<f64>,
+        #[pyo3(from_py_with = crate::args::j2)] j2: Option<f64>,
     ) -> PyResult<Self> {
         let inner = match (gamma_equator, gamma_pole, j2) {
             (None, None, None) => EarthModel::from_defining_constants(a, f, gm, omega),
@@ -48,7 +60,7 @@ impl PyEarthModel {
                 reason: "give gamma_equator, gamma_pole and j2 together, or none of them",
             }),
         }
-        .map_err(|e| to_py(&e, ""))?;
+        .map_err(model_error)?;
         Ok(Self { inner, preset: None })
     }
 
@@ -153,13 +165,13 @@ impl PyEarthModel {
 #[pyfunction]
 #[allow(clippy::too_many_arguments)]
 pub fn _earth_model_from_constants(
-    a: f64,
-    f: f64,
-    gm: f64,
-    omega: f64,
-    gamma_equator: f64,
-    gamma_pole: f64,
-    j2: f64,
+    #[pyo3(from_py_with = crate::args::a)] a: f64,
+    #[pyo3(from_py_with = crate::args::f)] f: f64,
+    #[pyo3(from_py_with = crate::args::gm)] gm: f64,
+    #[pyo3(from_py_with = crate::args::omega)] omega: f64,
+    #[pyo3(from_py_with = crate::args::req_gamma_equator)] gamma_equator: f64,
+    #[pyo3(from_py_with = crate::args::req_gamma_pole)] gamma_pole: f64,
+    #[pyo3(from_py_with = crate::args::req_j2)] j2: f64,
     preset: &str,
 ) -> PyResult<PyEarthModel> {
     match preset {
@@ -167,6 +179,6 @@ pub fn _earth_model_from_constants(
         "GRS80" => return Ok(PyEarthModel::preset(earth::GRS80, "GRS80")),
         _ => {}
     }
-    let inner = EarthModel::custom(a, f, gm, omega, gamma_equator, gamma_pole, j2).map_err(|e| to_py(&e, ""))?;
+    let inner = EarthModel::custom(a, f, gm, omega, gamma_equator, gamma_pole, j2).map_err(model_error)?;
     Ok(PyEarthModel { inner, preset: None })
 }

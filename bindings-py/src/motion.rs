@@ -4,13 +4,16 @@
 use numpy::{PyArrayDyn, PyArrayMethods, PyUntypedArrayMethods};
 use pyo3::prelude::*;
 use pyo3::types::{PySlice, PyTuple};
+use rotaframe::dispatch::with_fast_kernels;
 use rotaframe::earth;
 use rotaframe::frames::{AnyFrame, PointKinematics};
 use rotaframe::motion::{FrameMotion, MotionParts};
 use rotaframe::nalgebra::Vector3;
 
+use rotaframe::limits::{MAX_ACCELERATION, MAX_POSITION, MAX_VELOCITY, within};
+
 use crate::broadcast::{Operand, Plan, RawOutput, failure_to_py, non_finite_flag, out_slice, run};
-use crate::errors::{FrameMismatchError, ShapeError};
+use crate::errors::{FrameMismatchError, OutOfRangeError, ShapeError};
 use crate::geodesy::python_error;
 use crate::model::{PyEarthModel, model_or_default};
 use crate::rotations::{matrix, put_matrix, put_quaternion, quaternion};
@@ -204,8 +207,7 @@ impl PyFrameMotion {
     ) -> PyResult<Self> {
         let identity = numpy::PyArray1::from_slice(py, &[1.0, 0.0, 0.0, 0.0]).into_any();
         let (mut rot, is_matrix) = rotation_operand(rotation.filter(|r| !r.is_none()).unwrap_or(&identity))?;
-        let zero = 0.0f64.into_pyobject(py)?.into_any();
-        let vector = |obj: Option<&Bound<'py, PyAny>>, name| Operand::extract(obj.unwrap_or(&zero), name, &[3]);
+        let vector = |obj: Option<&Bound<'py, PyAny>>, name| Operand::optional(obj, name, &[3]);
         let mut parts = [
             vector(position, "position")?,
             vector(velocity, "velocity")?,
@@ -325,14 +327,15 @@ impl PyFrameMotion {
         }
         let plan = Plan::new(&[("self", &self.shape), ("other", &other.shape)])?;
         let (a, b) = (self.indexer(&plan), other.indexer(&plan));
-        let motions: Vec<Motion> =
-            py.detach(|| (0..plan.n).map(|i| self.motions.get(a(i)).then(&other.motions.get(b(i)))).collect());
+        let motions: Vec<Motion> = py.detach(|| {
+            with_fast_kernels(|| (0..plan.n).map(|i| self.motions.get(a(i)).then(&other.motions.get(b(i)))).collect())
+        });
         Ok(PyFrameMotion::new_batch(motions, plan.shape.clone(), self.parent.clone(), other.child.clone()))
     }
 
     /// The motion of the parent relative to the child (labels swapped).
     fn inverse(&self, py: Python<'_>) -> PyFrameMotion {
-        let motions: Vec<Motion> = py.detach(|| self.motions.iter().map(|m| m.inverse()).collect());
+        let motions: Vec<Motion> = py.detach(|| with_fast_kernels(|| self.motions.iter().map(|m| m.inverse()).collect()));
         PyFrameMotion::new_batch(motions, self.shape.clone(), self.child.clone(), self.parent.clone())
     }
 
@@ -346,10 +349,9 @@ impl PyFrameMotion {
         velocity: Option<&Bound<'py, PyAny>>,
         acceleration: Option<&Bound<'py, PyAny>>,
     ) -> PyResult<Bound<'py, PyTuple>> {
-        let zero = 0.0f64.into_pyobject(py)?.into_any();
         let mut r = Operand::extract(position, "position", &[3])?;
-        let mut v = Operand::extract(velocity.unwrap_or(&zero), "velocity", &[3])?;
-        let mut a = Operand::extract(acceleration.unwrap_or(&zero), "acceleration", &[3])?;
+        let mut v = Operand::optional(velocity, "velocity", &[3])?;
+        let mut a = Operand::optional(acceleration, "acceleration", &[3])?;
         let plan = Plan::for_operands(&mut [&mut r, &mut v, &mut a], &[("motion", &self.shape)])?;
         let n = plan.n;
         let (ra, va, aa) = (r.access(&plan), v.access(&plan), a.access(&plan));
@@ -365,38 +367,55 @@ impl PyFrameMotion {
         // returned as three views: one write stream is markedly faster than three.
         let mut out = RawOutput::<9>::new(py, &plan, &[3, 3]);
         let slots = out.slots();
-        // One pass writes every slot; the motion is valid by construction and each point input
-        // reaches the output of the same name, so checking the outputs finds bad input.
-        let finite = py.detach(|| {
-            let mut bad = 0u64;
-            let [mp, mv, ma, mw, mal] = &motions.vectors;
-            let slots = slots.iter_mut().zip(&motions.rotation).zip(mp).zip(mv).zip(ma).zip(mw).zip(mal);
-            // Inputs arrive as references, read straight into registers (copying them through
-            // a stack array first caused store-forwarding stalls).
-            type Parts<'a> = (
-                (
-                    ((((&'a mut core::mem::MaybeUninit<[f64; 9]>, &'a [f64; 4]), &'a [f64; 3]), &'a [f64; 3]), &'a [f64; 3]),
+        // One pass writes every slot, folding in without branching a check of each point
+        // against its supported range (bit 0) and of the outputs for overflow (bit 1, possible
+        // only for a motion composed beyond the ranges); only a flagged batch is scanned
+        // again, to name the first bad element.
+        let flags = py.detach(|| {
+            with_fast_kernels(|| {
+                let mut bad = 0u64;
+                let [mp, mv, ma, mw, mal] = &motions.vectors;
+                let slots = slots.iter_mut().zip(&motions.rotation).zip(mp).zip(mv).zip(ma).zip(mw).zip(mal);
+                // Inputs arrive as references, read straight into registers (copying them through
+                // a stack array first caused store-forwarding stalls).
+                type Parts<'a> = (
+                    (
+                        ((((&'a mut core::mem::MaybeUninit<[f64; 9]>, &'a [f64; 4]), &'a [f64; 3]), &'a [f64; 3]), &'a [f64; 3]),
+                        &'a [f64; 3],
+                    ),
                     &'a [f64; 3],
-                ),
-                &'a [f64; 3],
-            );
-            let mut element = |((((((slot, q), p), v), a), w), al): Parts<'_>, r: &[f64; 3], vel: &[f64; 3], acc: &[f64; 3]| {
-                let vector = |x: &[f64; 3]| rotaframe::nalgebra::Vector3::new(x[0], x[1], x[2]);
-                let m = MotionBatch::assemble(q, [p, v, a, w, al]);
-                let k = m.map_point(&PointKinematics::new(vector(r), vector(vel), vector(acc)));
-                bad |= non_finite_flag(&[k.position, k.velocity, k.acceleration]);
-                let (p, v, a) = (k.position, k.velocity, k.acceleration);
-                slot.write([p.x, p.y, p.z, v.x, v.y, v.z, a.x, a.y, a.z]);
-            };
-            match (ra.full_vec3(n), va.full_vec3(n), aa.full_vec3(n)) {
-                (Some(r), Some(v), Some(a)) => slots.zip(r.iter().zip(v).zip(a)).for_each(|(s, ((r, v), a))| element(s, r, v, a)),
-                _ => slots.enumerate().for_each(|(i, s)| element(s, &ra.vec3(i).into(), &va.vec3(i).into(), &aa.vec3(i).into())),
-            }
-            bad == 0
+                );
+                let mut element =
+                    |((((((slot, q), p), v), a), w), al): Parts<'_>, r: &[f64; 3], vel: &[f64; 3], acc: &[f64; 3]| {
+                        let vector = |x: &[f64; 3]| rotaframe::nalgebra::Vector3::new(x[0], x[1], x[2]);
+                        let m = MotionBatch::assemble(q, [p, v, a, w, al]);
+                        let point = PointKinematics::new(vector(r), vector(vel), vector(acc));
+                        let k = m.map_point(&point);
+                        bad |= u64::from(
+                            !(within(&point.position, MAX_POSITION)
+                                & within(&point.velocity, MAX_VELOCITY)
+                                & within(&point.acceleration, MAX_ACCELERATION)),
+                        ) | (non_finite_flag(&[k.position, k.velocity, k.acceleration]) << 1);
+                        let (p, v, a) = (k.position, k.velocity, k.acceleration);
+                        slot.write([p.x, p.y, p.z, v.x, v.y, v.z, a.x, a.y, a.z]);
+                    };
+                match (ra.full_vec3(n), va.full_vec3(n), aa.full_vec3(n)) {
+                    (Some(r), Some(v), Some(a)) => {
+                        slots.zip(r.iter().zip(v).zip(a)).for_each(|(s, ((r, v), a))| element(s, r, v, a))
+                    }
+                    _ => slots
+                        .enumerate()
+                        .for_each(|(i, s)| element(s, &ra.vec3(i).into(), &va.vec3(i).into(), &aa.vec3(i).into())),
+                }
+                bad
+            })
         });
-        if !finite {
+        if flags != 0 {
             let result = run(py, n, |i| PointKinematics::<AnyFrame>::try_new(ra.vec3(i), va.vec3(i), aa.vec3(i)).map(|_| ()));
             result.map_err(|f| failure_to_py(&f, &plan, &[&r, &v, &a]))?;
+            return Err(OutOfRangeError::new_err(
+                "the motion maps these points beyond the supported range (it was composed from motions at the edge of the supported ranges; see rotaframe's input ranges)",
+            ));
         }
         let all = out.into_array();
         let ellipsis = py.Ellipsis().into_bound(py);
@@ -429,7 +448,12 @@ impl PyFrameMotion {
     /// True when every part agrees within `rtol · |value| + atol` (rotations compared as
     /// rotations: `q` and `−q` are equal), with equal shapes and labels.
     #[pyo3(signature = (other, *, rtol=1e-12, atol=1e-12))]
-    fn isclose(&self, other: &Bound<'_, PyAny>, rtol: f64, atol: f64) -> bool {
+    fn isclose(
+        &self,
+        other: &Bound<'_, PyAny>,
+        #[pyo3(from_py_with = crate::args::rtol)] rtol: f64,
+        #[pyo3(from_py_with = crate::args::atol)] atol: f64,
+    ) -> bool {
         let Ok(other) = other.cast::<PyFrameMotion>() else { return false };
         let other = other.get();
         if self.shape != other.shape || self.parent != other.parent || self.child != other.child {
@@ -565,10 +589,10 @@ pub fn _frame_motion_from_parts<'py>(
 pub fn earth_motion<'py>(
     py: Python<'py>,
     t: &Bound<'py, PyAny>,
-    angle_at_epoch: f64,
-    model: Option<&Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::args::angle_at_epoch)] angle_at_epoch: f64,
+    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
 ) -> PyResult<PyFrameMotion> {
-    let model = model_or_default(model);
+    let model = model_or_default(model.as_ref());
     let mut t = Operand::extract(t, "t", &[])?;
     let plan = Plan::for_operands(&mut [&mut t], &[])?;
     let mut motions = vec![Motion::identity(); plan.n];
@@ -597,18 +621,17 @@ pub fn local_level_motion<'py>(
     h: &Bound<'py, PyAny>,
     v_ned: Option<&Bound<'py, PyAny>>,
     a_ned: Option<&Bound<'py, PyAny>>,
-    model: Option<&Bound<'py, PyEarthModel>>,
-    degrees: bool,
+    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
 ) -> PyResult<PyFrameMotion> {
-    let model = model_or_default(model);
+    let model = model_or_default(model.as_ref());
     let s = if degrees { core::f64::consts::PI / 180.0 } else { 1.0 };
-    let zero = 0.0f64.into_pyobject(py)?.into_any();
     let mut ops = [
         Operand::extract(lat, "lat", &[])?,
         Operand::extract(lon, "lon", &[])?,
         Operand::extract(h, "h", &[])?,
-        Operand::extract(v_ned.unwrap_or(&zero), "v_ned", &[3])?,
-        Operand::extract(a_ned.unwrap_or(&zero), "a_ned", &[3])?,
+        Operand::optional(v_ned, "v_ned", &[3])?,
+        Operand::optional(a_ned, "a_ned", &[3])?,
     ];
     let plan = {
         let mut refs: Vec<&mut Operand<'py>> = ops.iter_mut().collect();

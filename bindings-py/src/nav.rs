@@ -15,7 +15,7 @@ use rotaframe::nav::{
 use rotaframe::rotation::quaternion_to_wxyz;
 
 use crate::broadcast::{Failure, Operand, Plan, failure_to_py, out_slice, run};
-use crate::errors::{FrameMismatchError, RotaframeError, ShapeError, to_py};
+use crate::errors::{ConcurrentUseError, FrameMismatchError, RotaframeError, ShapeError, to_py};
 use crate::geodesy::python_error;
 use crate::model::{PyEarthModel, model_or_default};
 use crate::motion::{Motion, PyFrameMotion};
@@ -94,10 +94,10 @@ fn array_from<'py>(py: Python<'py>, dims: Vec<usize>, values: &[f64]) -> Bound<'
 pub fn ideal_imu<'py>(
     py: Python<'py>,
     body_motion: &Bound<'py, PyFrameMotion>,
-    model: Option<&Bound<'py, PyEarthModel>>,
-    gravity: &str,
+    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::args::gravity)] gravity: &str,
 ) -> PyResult<Bound<'py, PyTuple>> {
-    let model = model_or_default(model);
+    let model = model_or_default(model.as_ref());
     let gravity = gravity_model(gravity)?;
     let motion = body_motion.get();
     check_inertial(motion, "body_motion")?;
@@ -172,10 +172,10 @@ pub fn imu_increments<'py>(
     py: Python<'py>,
     trajectory: &Bound<'py, PyAny>,
     t: &Bound<'py, PyAny>,
-    model: Option<&Bound<'py, PyEarthModel>>,
-    gravity: &str,
+    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::args::gravity)] gravity: &str,
 ) -> PyResult<Bound<'py, PyTuple>> {
-    let model = model_or_default(model);
+    let model = model_or_default(model.as_ref());
     let gravity = gravity_model(gravity)?;
     let times = sample_times(t, "t", 2)?;
     let intervals = times.len() - 1;
@@ -306,11 +306,11 @@ pub fn imu_increments_from_samples<'py>(
     h: &Bound<'py, PyAny>,
     attitude: &Bound<'py, PyAny>,
     times: Option<&Bound<'py, PyAny>>,
-    model: Option<&Bound<'py, PyEarthModel>>,
-    gravity: &str,
-    degrees: bool,
+    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::args::gravity)] gravity: &str,
+    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
 ) -> PyResult<Bound<'py, PyTuple>> {
-    let model = model_or_default(model);
+    let model = model_or_default(model.as_ref());
     let gravity = gravity_model(gravity)?;
     let mut path = recorded(t, lat, lon, h, attitude, model, degrees)?;
     let grid = match times {
@@ -340,10 +340,10 @@ pub fn motion_from_samples<'py>(
     h: &Bound<'py, PyAny>,
     attitude: &Bound<'py, PyAny>,
     times: &Bound<'py, PyAny>,
-    model: Option<&Bound<'py, PyEarthModel>>,
-    degrees: bool,
+    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
 ) -> PyResult<PyFrameMotion> {
-    let model = model_or_default(model);
+    let model = model_or_default(model.as_ref());
     let mut path = recorded(t, lat, lon, h, attitude, model, degrees)?;
     let mut op = Operand::extract(times, "times", &[])?;
     let plan = Plan::for_operands(&mut [&mut op], &[])?;
@@ -441,21 +441,52 @@ fn single(obj: &Bound<'_, PyAny>, name: &'static str, core: &[usize]) -> PyResul
 /// the reference with `set_height_reference` or per step in `run`.
 ///
 /// Not certified for safety-of-life navigation; validate against your own requirements.
-#[pyclass(name = "Strapdown", module = "rotaframe._native")]
+#[pyclass(frozen, name = "Strapdown", module = "rotaframe._native")]
 #[derive(Debug)]
 pub struct PyStrapdown {
-    inner: Strapdown,
+    /// The stepper, behind a lock: `run` releases the GIL while it steps, so another thread
+    /// touching the same object would otherwise see it half-way; it gets a clear
+    /// `ConcurrentUseError` instead.
+    inner: std::sync::Mutex<Strapdown>,
     degrees: bool,
     model: Py<PyEarthModel>,
 }
 
+/// Increments converted and stepped per chunk by `Strapdown.run`: the only memory the runner
+/// needs beyond its outputs (65 536 × 56 B ≈ 3.7 MB).
+const RUN_CHUNK: usize = 65_536;
+
+/// The core's quantity names that belong to `run`'s or `step`'s own arguments.
+const STEP_ARGUMENTS: [&str; 4] = ["dtheta", "dv", "dt", "height_reference"];
+
 impl PyStrapdown {
+    fn new_object(inner: Strapdown, degrees: bool, model: Py<PyEarthModel>) -> Self {
+        Self { inner: std::sync::Mutex::new(inner), degrees, model }
+    }
+
+    /// The stepper, or `ConcurrentUseError` if another thread is using it.
+    fn lock(&self) -> PyResult<std::sync::MutexGuard<'_, Strapdown>> {
+        match self.inner.try_lock() {
+            Ok(guard) => Ok(guard),
+            // The stepper is plain data, always left whole: a panic elsewhere cannot corrupt it.
+            Err(std::sync::TryLockError::Poisoned(poisoned)) => Ok(poisoned.into_inner()),
+            Err(std::sync::TryLockError::WouldBlock) => Err(ConcurrentUseError::new_err(
+                "this Strapdown is in use by another thread (a run or step is in progress); give each thread its own copy (Strapdown.copy())",
+            )),
+        }
+    }
+
+    /// A copy of the stepper's current value.
+    fn current(&self) -> PyResult<Strapdown> {
+        Ok(*self.lock()?)
+    }
+
     fn angle_out(&self, radians: f64) -> f64 {
         if self.degrees { radians.to_degrees() } else { radians }
     }
 
-    fn vertical_name(&self) -> (&'static str, Option<f64>) {
-        match self.inner.config().vertical {
+    fn vertical_name(stepper: &Strapdown) -> (&'static str, Option<f64>) {
+        match stepper.config().vertical {
             VerticalChannel::Free => ("free", None),
             VerticalChannel::Hold => ("hold", None),
             VerticalChannel::Aided { time_constant } => ("aided", Some(time_constant)),
@@ -466,6 +497,20 @@ impl PyStrapdown {
         let (a, v, t) = (single(dtheta, "dtheta", &[3])?, single(dv, "dv", &[3])?, single(dt, "dt", &[])?);
         Ok(ImuIncrement::new(Vector3::from_column_slice(&a), Vector3::from_column_slice(&v), t[0]))
     }
+
+    /// A step's error for Python. An error about the step's own arguments names them (and, in
+    /// a run, is located at its step); an error about the navigation solution (its height,
+    /// latitude or velocity leaving the supported range) says that the solution, not an
+    /// argument, is at fault, and at which step.
+    fn step_error(&self, error: rotaframe::Error, step: Option<usize>, lat_before: f64) -> (rotaframe::Error, Option<String>) {
+        let error = nav_name(error);
+        if STEP_ARGUMENTS.contains(&error.quantity()) {
+            return (error, None);
+        }
+        let error = python_error(error, self.degrees, lat_before);
+        let at = step.map_or_else(String::new, |k| format!(" at step {k}"));
+        (error, Some(format!("(the navigation solution{at}: the increments drove it out of its supported range)")))
+    }
 }
 
 #[pymethods]
@@ -475,19 +520,19 @@ impl PyStrapdown {
     #[allow(clippy::too_many_arguments)]
     fn py_new(
         py: Python<'_>,
-        lat: f64,
-        lon: f64,
-        h: f64,
+        #[pyo3(from_py_with = crate::args::lat)] lat: f64,
+        #[pyo3(from_py_with = crate::args::lon)] lon: f64,
+        #[pyo3(from_py_with = crate::args::h)] h: f64,
         v_ned: &Bound<'_, PyAny>,
         attitude: &Bound<'_, PyAny>,
-        frame: &str,
-        model: Option<&Bound<'_, PyEarthModel>>,
-        degrees: bool,
-        gravity: &str,
-        vertical: &str,
-        height_time_constant: Option<f64>,
+        #[pyo3(from_py_with = crate::args::frame)] frame: &str,
+        #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'_, PyEarthModel>>,
+        #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+        #[pyo3(from_py_with = crate::args::gravity)] gravity: &str,
+        #[pyo3(from_py_with = crate::args::vertical)] vertical: &str,
+        #[pyo3(from_py_with = crate::args::height_time_constant)] height_time_constant: Option<f64>,
     ) -> PyResult<Self> {
-        let earth_model = model_or_default(model);
+        let earth_model = model_or_default(model.as_ref());
         let config = strapdown_config(earth_model, frame, gravity, vertical, height_time_constant)?;
         let v = single(v_ned, "v_ned", &[3])?;
         let q = single(attitude, "attitude", &[4])?;
@@ -496,10 +541,10 @@ impl PyStrapdown {
         let start = NavState::new(Geodetic::new(lat * s, lon * s, h), Vector3::from_column_slice(&v), q);
         let inner = Strapdown::new(config, &start).map_err(|e| nav_error(e, degrees, lat, ""))?;
         let model = match model {
-            Some(m) => m.clone().unbind(),
+            Some(m) => m.unbind(),
             None => Py::new(py, PyEarthModel::preset(earth::WGS84, "WGS84"))?,
         };
-        Ok(Self { inner, degrees, model })
+        Ok(Self::new_object(inner, degrees, model))
     }
 
     /// Advances the state by one increment: `dtheta` (3,) rad, `dv` (3,) m/s over `dt` s,
@@ -507,31 +552,37 @@ impl PyStrapdown {
     /// is unchanged.
     #[pyo3(signature = (dtheta, dv, dt, *, height_reference=None))]
     fn step(
-        &mut self,
+        &self,
         dtheta: &Bound<'_, PyAny>,
         dv: &Bound<'_, PyAny>,
         dt: &Bound<'_, PyAny>,
-        height_reference: Option<f64>,
+        #[pyo3(from_py_with = crate::args::opt_height_reference)] height_reference: Option<f64>,
     ) -> PyResult<()> {
         let increment = Self::increment(dtheta, dv, dt)?;
-        let before = self.inner;
-        let lat = self.lat();
+        let mut stepper = self.lock()?;
+        let mut trial = *stepper;
+        let lat = self.angle_out(trial.state().position.latitude);
         if let Some(h) = height_reference {
-            self.inner.set_height_reference(h).map_err(|e| nav_error(e, false, 0.0, ""))?;
+            trial.set_height_reference(h).map_err(|e| nav_error(e, false, 0.0, ""))?;
         }
-        self.inner.step(&increment).map_err(|e| {
-            self.inner = before;
-            nav_error(e, self.degrees, lat, "")
-        })
+        trial.step(&increment).map_err(|e| {
+            let (error, context) = self.step_error(e, None, lat);
+            to_py(&error, context.as_deref().unwrap_or(""))
+        })?;
+        *stepper = trial;
+        Ok(())
     }
 
     /// Runs every increment in turn: `dtheta` and `dv` `(N, 3)`, `dt` a number or `(N,)`,
     /// `height_reference` None, a number or `(N,)` (set before each step). Returns the state
     /// after every step as a `StrapdownHistory`. On error nothing is returned and the stepper
     /// is where it started.
+    ///
+    /// The states are written straight into the returned arrays and the increments are read
+    /// in chunks, so the call needs little memory beyond its result (88 bytes per step).
     #[pyo3(signature = (dtheta, dv, dt, *, height_reference=None))]
     fn run<'py>(
-        &mut self,
+        &self,
         py: Python<'py>,
         dtheta: &Bound<'py, PyAny>,
         dv: &Bound<'py, PyAny>,
@@ -542,8 +593,8 @@ impl PyStrapdown {
         let mut v = Operand::extract(dv, "dv", &[3])?;
         let mut t = Operand::extract(dt, "dt", &[])?;
         let mut href = match height_reference {
-            Some(obj) => Some(Operand::extract(obj, "height_reference", &[])?),
-            None => None,
+            Some(obj) if !obj.is_none() => Some(Operand::extract(obj, "height_reference", &[])?),
+            _ => None,
         };
         let plan = match href.as_mut() {
             Some(h) => Plan::for_operands(&mut [&mut a, &mut v, &mut t, h], &[])?,
@@ -557,124 +608,138 @@ impl PyStrapdown {
         }
         let n = plan.n;
         let (aa, va, ta) = (a.access(&plan), v.access(&plan), t.access(&plan));
-        let increments: Vec<ImuIncrement> = (0..n).map(|i| ImuIncrement::new(aa.vec3(i), va.vec3(i), ta.scalar(i))).collect();
-        let heights: Option<Vec<f64>> = href.as_ref().map(|h| {
-            let access = h.access(&plan);
-            (0..n).map(|i| access.scalar(i)).collect()
-        });
-        let mut lat = vec![0.0; n];
-        let mut lon = vec![0.0; n];
-        let mut hh = vec![0.0; n];
-        let mut vel = vec![0.0; 3 * n];
-        let mut att = vec![0.0; 4 * n];
-        let mut time = vec![0.0; n];
+        let ha = href.as_ref().map(|h| h.access(&plan));
+        let outputs =
+            [vec![n], vec![n], vec![n], vec![n, 3], vec![n, 4], vec![n]].map(|dims| PyArrayDyn::<f64>::zeros(py, dims, false));
+        let mut guards: Vec<numpy::PyReadwriteArrayDyn<'py, f64>> = outputs.iter().map(|o| o.readwrite()).collect();
+        let [lat, lon, hh, vel, att, time]: [&mut [f64]; 6] = {
+            let mut slices = guards.iter_mut().map(out_slice);
+            core::array::from_fn(|_| slices.next().expect("six outputs"))
+        };
         let scale = if self.degrees { 180.0 / core::f64::consts::PI } else { 1.0 };
-        let start_lat = self.lat();
-        let inner = &mut self.inner;
+        let mut stepper = self.lock()?;
+        let start = *stepper;
+        let inner = &mut *stepper;
         let result = py.detach(|| {
-            inner.run_each(&increments, heights.as_deref(), |k, stepper| {
-                let s = stepper.state();
-                lat[k] = s.position.latitude * scale;
-                lon[k] = s.position.longitude * scale;
-                hh[k] = s.position.height;
-                vel[3 * k..3 * k + 3].copy_from_slice(s.velocity_ned.as_slice());
-                att[4 * k..4 * k + 4].copy_from_slice(&quaternion_to_wxyz(&s.attitude));
-                time[k] = stepper.elapsed();
-            })
+            let mut increments = Vec::with_capacity(RUN_CHUNK.min(n));
+            let mut heights = Vec::with_capacity(if ha.is_some() { RUN_CHUNK.min(n) } else { 0 });
+            for first in (0..n).step_by(RUN_CHUNK) {
+                let last = (first + RUN_CHUNK).min(n);
+                increments.clear();
+                increments.extend((first..last).map(|i| ImuIncrement::new(aa.vec3(i), va.vec3(i), ta.scalar(i))));
+                if let Some(h) = &ha {
+                    heights.clear();
+                    heights.extend((first..last).map(|i| h.scalar(i)));
+                }
+                let chunk_heights = ha.as_ref().map(|_| heights.as_slice());
+                inner
+                    .run_each(&increments, chunk_heights, |j, s| {
+                        let k = first + j;
+                        let state = s.state();
+                        lat[k] = state.position.latitude * scale;
+                        lon[k] = state.position.longitude * scale;
+                        hh[k] = state.position.height;
+                        vel[3 * k..3 * k + 3].copy_from_slice(state.velocity_ned.as_slice());
+                        att[4 * k..4 * k + 4].copy_from_slice(&quaternion_to_wxyz(&state.attitude));
+                        time[k] = s.elapsed();
+                    })
+                    .map_err(|e| rotaframe::BatchError { index: first + e.index, error: e.error })?;
+            }
+            Ok::<(), rotaframe::BatchError>(())
         });
         if let Err(e) = result {
-            let lat_at = if e.index == 0 { start_lat } else { lat[e.index - 1] };
-            let error = python_error(nav_name(e.error), self.degrees, lat_at);
+            *stepper = start;
+            let lat_before = if e.index == 0 { self.angle_out(start.state().position.latitude) } else { lat[e.index - 1] };
+            let (error, context) = self.step_error(e.error, Some(e.index), lat_before);
+            if let Some(context) = context {
+                return Err(to_py(&error, &context));
+            }
             let mut refs: Vec<&Operand<'_>> = vec![&a, &v, &t];
             if let Some(h) = &href {
                 refs.push(h);
             }
             return Err(failure_to_py(&Failure { index: e.index, error }, &plan, &refs));
         }
-        Ok(PyStrapdownHistory {
-            lat: array_from(py, vec![n], &lat).unbind(),
-            lon: array_from(py, vec![n], &lon).unbind(),
-            h: array_from(py, vec![n], &hh).unbind(),
-            v_ned: array_from(py, vec![n, 3], &vel).unbind(),
-            attitude: array_from(py, vec![n, 4], &att).unbind(),
-            t: array_from(py, vec![n], &time).unbind(),
-            len: n,
-        })
+        drop(guards);
+        let [lat, lon, h, v_ned, attitude, t] = outputs.map(Bound::unbind);
+        Ok(PyStrapdownHistory { lat, lon, h, v_ned, attitude, t, len: n })
     }
 
     /// Sets the external ellipsoidal height reference (m) for `vertical="hold"` or `"aided"`.
-    fn set_height_reference(&mut self, height_reference: f64) -> PyResult<()> {
-        self.inner.set_height_reference(height_reference).map_err(|e| nav_error(e, false, 0.0, ""))
+    fn set_height_reference(&self, #[pyo3(from_py_with = crate::args::height_reference)] height_reference: f64) -> PyResult<()> {
+        self.lock()?.set_height_reference(height_reference).map_err(|e| nav_error(e, false, 0.0, ""))
     }
 
     /// Forgets the previous increment (after a data gap), so that the next step applies no
     /// two-sample coning and sculling corrections.
-    fn reset_history(&mut self) {
-        self.inner.reset_history();
+    fn reset_history(&self) -> PyResult<()> {
+        self.lock()?.reset_history();
+        Ok(())
     }
 
     /// Latitude (radians, or degrees with `degrees=True`).
     #[getter]
-    fn lat(&self) -> f64 {
-        self.angle_out(self.inner.state().position.latitude)
+    fn lat(&self) -> PyResult<f64> {
+        Ok(self.angle_out(self.current()?.state().position.latitude))
     }
 
     /// Longitude (radians, or degrees with `degrees=True`), in (−180°, 180°].
     #[getter]
-    fn lon(&self) -> f64 {
-        self.angle_out(self.inner.state().position.longitude)
+    fn lon(&self) -> PyResult<f64> {
+        Ok(self.angle_out(self.current()?.state().position.longitude))
     }
 
     /// Ellipsoidal height (m).
     #[getter]
-    fn h(&self) -> f64 {
-        self.inner.state().position.height
+    fn h(&self) -> PyResult<f64> {
+        Ok(self.current()?.state().position.height)
     }
 
     /// Velocity relative to the Earth, resolved in NED (m/s), shape (3,).
     #[getter]
-    fn v_ned<'py>(&self, py: Python<'py>) -> Bound<'py, PyArrayDyn<f64>> {
-        array_from(py, vec![3], self.inner.state().velocity_ned.as_slice())
+    fn v_ned<'py>(&self, py: Python<'py>) -> PyResult<Bound<'py, PyArrayDyn<f64>>> {
+        Ok(array_from(py, vec![3], self.current()?.state().velocity_ned.as_slice()))
     }
 
     /// Body-to-NED attitude quaternion (w, x, y, z), shape (4,).
     #[getter]
-    fn attitude<'py>(&self, py: Python<'py>) -> Bound<'py, PyArrayDyn<f64>> {
-        array_from(py, vec![4], &quaternion_to_wxyz(&self.inner.state().attitude))
+    fn attitude<'py>(&self, py: Python<'py>) -> PyResult<Bound<'py, PyArrayDyn<f64>>> {
+        Ok(array_from(py, vec![4], &quaternion_to_wxyz(&self.current()?.state().attitude)))
     }
 
     /// ECEF position (m), shape (3,).
     #[getter]
     fn position_ecef<'py>(&self, py: Python<'py>) -> PyResult<Bound<'py, PyArrayDyn<f64>>> {
-        let r = earth::geodetic_to_ecef(&self.inner.config().earth, &self.inner.state().position).map_err(|e| to_py(&e, ""))?;
+        let stepper = self.current()?;
+        let r = earth::geodetic_to_ecef(&stepper.config().earth, &stepper.state().position).map_err(|e| to_py(&e, ""))?;
         Ok(array_from(py, vec![3], r.as_slice()))
     }
 
     /// Time since the initial state (s): the sum of the intervals stepped.
     #[getter]
-    fn elapsed(&self) -> f64 {
-        self.inner.elapsed()
+    fn elapsed(&self) -> PyResult<f64> {
+        Ok(self.current()?.elapsed())
     }
 
     /// The mechanization: "ned" or "ecef".
     #[getter]
-    fn frame(&self) -> &'static str {
-        match self.inner.config().frame {
+    fn frame(&self) -> PyResult<&'static str> {
+        Ok(match self.current()?.config().frame {
             NavFrame::Ecef => "ecef",
             _ => "ned",
-        }
+        })
     }
 
     /// The gravity model: "normal" or "j2".
     #[getter]
-    fn gravity(&self) -> &'static str {
-        gravity_name(self.inner.config().gravity)
+    fn gravity(&self) -> PyResult<&'static str> {
+        Ok(gravity_name(self.current()?.config().gravity))
     }
 
     /// The vertical channel: "free", "hold" or "aided".
     #[getter]
-    fn vertical(&self) -> &'static str {
-        self.vertical_name().0
+    fn vertical(&self) -> PyResult<&'static str> {
+        Ok(Self::vertical_name(&self.current()?).0)
     }
 
     /// Whether angles are given and reported in degrees.
@@ -690,36 +755,38 @@ impl PyStrapdown {
     }
 
     /// An independent copy (same state, same memory of the previous increment).
-    fn copy(&self, py: Python<'_>) -> Self {
-        Self { inner: self.inner, degrees: self.degrees, model: self.model.clone_ref(py) }
+    fn copy(&self, py: Python<'_>) -> PyResult<Self> {
+        Ok(Self::new_object(self.current()?, self.degrees, self.model.clone_ref(py)))
     }
 
-    fn __copy__(&self, py: Python<'_>) -> Self {
+    fn __copy__(&self, py: Python<'_>) -> PyResult<Self> {
         self.copy(py)
     }
 
-    fn __deepcopy__(&self, py: Python<'_>, _memo: &Bound<'_, PyAny>) -> Self {
+    fn __deepcopy__(&self, py: Python<'_>, _memo: &Bound<'_, PyAny>) -> PyResult<Self> {
         self.copy(py)
     }
 
-    fn __repr__(&self) -> String {
-        let s = self.inner.state();
+    fn __repr__(&self) -> PyResult<String> {
+        let stepper = self.current()?;
+        let s = stepper.state();
         let unit = if self.degrees { "deg" } else { "rad" };
-        format!(
+        Ok(format!(
             "Strapdown(frame={:?}, lat={} {unit}, lon={} {unit}, h={} m, v_ned={:?} m/s, elapsed={} s)",
-            self.frame(),
+            self.frame()?,
             self.angle_out(s.position.latitude),
             self.angle_out(s.position.longitude),
             s.position.height,
             s.velocity_ned.as_slice(),
-            self.inner.elapsed()
-        )
+            stepper.elapsed()
+        ))
     }
 
     /// Pickling: the configuration, the mechanization's own state and its step memory.
     fn __reduce__<'py>(&self, py: Python<'py>) -> PyResult<(Bound<'py, PyAny>, Bound<'py, PyTuple>)> {
         let rebuild = py.import("rotaframe._native")?.getattr("_strapdown_from_parts")?;
-        let (config, state, memory) = self.inner.parts();
+        let stepper = self.current()?;
+        let (config, state, memory) = stepper.parts();
         let state: Vec<f64> = match state {
             MechanizationState::Ned { position, velocity_ned, attitude } => {
                 [position.latitude, position.longitude, position.height]
@@ -737,10 +804,10 @@ impl PyStrapdown {
         };
         let previous: Option<Vec<f64>> =
             memory.previous.map(|p| p.delta_angle.iter().chain(p.delta_velocity.iter()).copied().chain([p.interval]).collect());
-        let (vertical, tau) = self.vertical_name();
+        let (vertical, tau) = Self::vertical_name(&stepper);
         let args = (
             self.model.clone_ref(py),
-            self.frame(),
+            self.frame()?,
             gravity_name(config.gravity),
             vertical,
             tau,
@@ -760,16 +827,16 @@ impl PyStrapdown {
 #[allow(clippy::too_many_arguments)]
 pub fn _strapdown_from_parts(
     model: Bound<'_, PyEarthModel>,
-    frame: &str,
-    gravity: &str,
-    vertical: &str,
-    height_time_constant: Option<f64>,
-    degrees: bool,
+    #[pyo3(from_py_with = crate::args::frame)] frame: &str,
+    #[pyo3(from_py_with = crate::args::gravity)] gravity: &str,
+    #[pyo3(from_py_with = crate::args::vertical)] vertical: &str,
+    #[pyo3(from_py_with = crate::args::height_time_constant)] height_time_constant: Option<f64>,
+    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
     state: Vec<f64>,
     previous: Option<Vec<f64>>,
-    height_reference: f64,
-    elapsed: f64,
-    elapsed_correction: f64,
+    #[pyo3(from_py_with = crate::args::height_reference)] height_reference: f64,
+    #[pyo3(from_py_with = crate::args::elapsed)] elapsed: f64,
+    #[pyo3(from_py_with = crate::args::elapsed_correction)] elapsed_correction: f64,
 ) -> PyResult<PyStrapdown> {
     let config = strapdown_config(model.get().inner, frame, gravity, vertical, height_time_constant)?;
     if state.len() != 10 || previous.as_ref().is_some_and(|p| p.len() != 7) {
@@ -790,13 +857,17 @@ pub fn _strapdown_from_parts(
     let previous = previous.map(|p| ImuIncrement::new(v3(&p[0..3]), v3(&p[3..6]), p[6]));
     let inner = Strapdown::from_parts(config, state, StepMemory { previous, height_reference, elapsed, elapsed_correction })
         .map_err(|e| to_py(&e, ""))?;
-    Ok(PyStrapdown { inner, degrees, model: model.unbind() })
+    Ok(PyStrapdown::new_object(inner, degrees, model.unbind()))
 }
 
-/// A per-axis 3-vector argument (a number broadcasts to all three axes).
+/// A per-axis error parameter: three values, or one number meaning the same value on every
+/// axis (an isotropic sensor; the documented shorthand of `ImuErrors`).
 fn axes(obj: Option<&Bound<'_, PyAny>>, name: &'static str, scale: f64) -> PyResult<Vector3<f64>> {
     match obj {
         None => Ok(Vector3::zeros()),
+        Some(o) if o.is_instance_of::<pyo3::types::PyFloat>() || o.is_instance_of::<pyo3::types::PyInt>() => {
+            Ok(Vector3::repeat(crate::args::number(o, name)? * scale))
+        }
         Some(o) => Ok(Vector3::from_column_slice(&single(o, name, &[3])?) * scale),
     }
 }
@@ -806,11 +877,25 @@ fn axes(obj: Option<&Bound<'_, PyAny>>, name: &'static str, scale: f64) -> PyRes
 /// walk in m/s/√h) and a first-order Gauss–Markov bias (steady-state sigma, correlation time).
 /// Gyro quantities in rad/s, accelerometer quantities in m/s², times in s. The same seed gives
 /// the same numbers.
-#[pyclass(name = "ImuErrors", module = "rotaframe._native")]
+#[pyclass(frozen, name = "ImuErrors", module = "rotaframe._native")]
 #[derive(Debug)]
 pub struct PyImuErrors {
-    inner: ImuErrorGenerator,
+    /// The generator, behind a lock (`apply` releases the GIL while it runs).
+    inner: std::sync::Mutex<ImuErrorGenerator>,
     seed: u64,
+}
+
+impl PyImuErrors {
+    /// The generator, or `ConcurrentUseError` if another thread is using it.
+    fn lock(&self) -> PyResult<std::sync::MutexGuard<'_, ImuErrorGenerator>> {
+        match self.inner.try_lock() {
+            Ok(guard) => Ok(guard),
+            Err(std::sync::TryLockError::Poisoned(poisoned)) => Ok(poisoned.into_inner()),
+            Err(std::sync::TryLockError::WouldBlock) => Err(ConcurrentUseError::new_err(
+                "this ImuErrors is in use by another thread (an apply is in progress); give each thread its own generator",
+            )),
+        }
+    }
 }
 
 #[pymethods]
@@ -831,7 +916,7 @@ impl PyImuErrors {
         accel_vrw_mps_per_sqrt_h: Option<&Bound<'_, PyAny>>,
         accel_markov_sigma: Option<&Bound<'_, PyAny>>,
         accel_markov_time: Option<&Bound<'_, PyAny>>,
-        seed: u64,
+        #[pyo3(from_py_with = crate::args::seed)] seed: u64,
     ) -> PyResult<Self> {
         let matrix = |obj: Option<&Bound<'_, PyAny>>, name| -> PyResult<Matrix3<f64>> {
             match obj {
@@ -864,14 +949,14 @@ impl PyImuErrors {
             markov_time: time(accel_markov_time, "accel_markov_time")?,
         };
         let inner = ImuErrorGenerator::new(ImuErrorModel { gyro, accelerometer }, seed).map_err(|e| to_py(&nav_name(e), ""))?;
-        Ok(Self { inner, seed })
+        Ok(Self { inner: std::sync::Mutex::new(inner), seed })
     }
 
     /// The measured increments for ideal ones: `dtheta`, `dv` `(N, 3)` (or `(3,)`), `dt` a
     /// number or `(N,)`; returns `(dtheta, dv)` of the same shape. Advances the random stream
     /// and the Gauss–Markov states one interval per row. On error nothing advances.
     fn apply<'py>(
-        &mut self,
+        &self,
         py: Python<'py>,
         dtheta: &Bound<'py, PyAny>,
         dv: &Bound<'py, PyAny>,
@@ -889,7 +974,8 @@ impl PyImuErrors {
         }
         let n = plan.n;
         let (aa, va, ta) = (a.access(&plan), v.access(&plan), t.access(&plan));
-        let mut trial = self.inner.clone();
+        let mut generator = self.lock()?;
+        let mut trial = generator.clone();
         let mut out_a = vec![0.0; 3 * n];
         let mut out_v = vec![0.0; 3 * n];
         let result = run(py, n, |i| {
@@ -899,7 +985,7 @@ impl PyImuErrors {
             Ok(())
         });
         result.map_err(|f| failure_to_py(&Failure { index: f.index, error: nav_name(f.error) }, &plan, &[&a, &v, &t]))?;
-        self.inner = trial;
+        *generator = trial;
         let mut dims = plan.shape.clone();
         dims.push(3);
         PyTuple::new(py, [array_from(py, dims.clone(), &out_a), array_from(py, dims, &out_v)])
@@ -914,7 +1000,7 @@ impl PyImuErrors {
     /// Current Gauss–Markov bias states `(gyro (3,) rad/s, accel (3,) m/s²)`.
     #[getter]
     fn markov_states<'py>(&self, py: Python<'py>) -> PyResult<Bound<'py, PyTuple>> {
-        let (g, a) = self.inner.markov_states();
+        let (g, a) = self.lock()?.markov_states();
         PyTuple::new(py, [array_from(py, vec![3], g.as_slice()), array_from(py, vec![3], a.as_slice())])
     }
 
@@ -939,10 +1025,10 @@ pub fn lever_arm_state<'py>(
     attitude: &Bound<'py, PyAny>,
     angular_rate: &Bound<'py, PyAny>,
     lever_arm: &Bound<'py, PyAny>,
-    model: Option<&Bound<'py, PyEarthModel>>,
-    degrees: bool,
+    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
 ) -> PyResult<Bound<'py, PyTuple>> {
-    let model = model_or_default(model);
+    let model = model_or_default(model.as_ref());
     let mut ops = [
         Operand::extract(lat, "lat", &[])?,
         Operand::extract(lon, "lon", &[])?,

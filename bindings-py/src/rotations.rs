@@ -6,6 +6,8 @@ use pyo3::types::PyTuple;
 use rotaframe::nalgebra::{Matrix3, UnitQuaternion, Vector3};
 use rotaframe::rotation::{self, EulerZyx};
 
+use rotaframe::frames::{AnyFrame, FreeVector};
+
 use crate::broadcast::{Operand, map_elements, tuple_of};
 
 fn same<const N: usize>(error: rotaframe::Error, _inputs: &[&[f64]; N]) -> rotaframe::Error {
@@ -44,7 +46,7 @@ pub fn quat_from_euler<'py>(
     yaw: &Bound<'py, PyAny>,
     pitch: &Bound<'py, PyAny>,
     roll: &Bound<'py, PyAny>,
-    degrees: bool,
+    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
 ) -> PyResult<Bound<'py, PyAny>> {
     let s = angle_scale(degrees);
     let ops = [Operand::extract(yaw, "yaw", &[])?, Operand::extract(pitch, "pitch", &[])?, Operand::extract(roll, "roll", &[])?];
@@ -120,11 +122,8 @@ pub fn quat_inverse<'py>(py: Python<'py>, q: &Bound<'py, PyAny>) -> PyResult<Bou
 pub fn quat_rotate<'py>(py: Python<'py>, q: &Bound<'py, PyAny>, v: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyAny>> {
     let ops = [Operand::extract(q, "q", &[4])?, Operand::extract(v, "v", &[3])?];
     let (_, [out]) = map_elements(py, ops, &[3], same, |x, [o]| {
-        let v = Vector3::new(x[1][0], x[1][1], x[1][2]);
-        if !v.iter().all(|c| c.is_finite()) {
-            return Err(rotaframe::Error::NonFinite { quantity: "v" });
-        }
-        o.copy_from_slice((quaternion(x[0], "q")? * v).as_slice());
+        let v = FreeVector::<AnyFrame>::try_from_vector(Vector3::new(x[1][0], x[1][1], x[1][2]), "v")?;
+        o.copy_from_slice((quaternion(x[0], "q")? * v.vector).as_slice());
         Ok(())
     })?;
     Ok(out.into_any())

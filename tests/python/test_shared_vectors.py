@@ -1,6 +1,8 @@
 """The shared cross-language vectors (tests/vectors/shared_cases.txt), written from the Rust
 core: the Python package must give the same numbers to the last bit."""
 
+import os
+
 import numpy as np
 import pytest
 
@@ -85,3 +87,13 @@ def test_file_covers_every_shared_function():
 @pytest.mark.parametrize("name,inputs,outputs", CASES, ids=[f"{c[0]}-{i}" for i, c in enumerate(CASES)])
 def test_python_reproduces_the_shared_vector_exactly(name, inputs, outputs):
     np.testing.assert_array_equal(np.asarray(evaluate(name, inputs), float).ravel(), outputs)
+
+
+def test_the_expected_cpu_code_path_runs():
+    # The emulated-CPU runs of scripts/test set ROTAFRAME_EXPECT_FAST_KERNELS (0 on a CPU
+    # without AVX2 and FMA, 1 with them); the vectors above must pass on both paths.
+    active = rf.fast_kernels_active()
+    assert isinstance(active, bool)
+    expected = os.environ.get("ROTAFRAME_EXPECT_FAST_KERNELS")
+    if expected is not None:
+        assert active == (expected == "1")

@@ -10,11 +10,13 @@ _FloatOrArray = Union[float, _Array]
 
 __all__ = [
     "ApparentAcceleration",
+    "ConcurrentUseError",
     "EarthModel",
     "FrameMismatchError",
     "FrameMotion",
     "GRS80",
     "ImuErrors",
+    "InputTypeError",
     "NearEarthCentreError",
     "NearPoleError",
     "NonFiniteError",
@@ -42,6 +44,7 @@ __all__ = [
     "enu_from_ecef",
     "eotvos_correction",
     "euler_from_quat",
+    "fast_kernels_active",
     "geodetic_to_ecef",
     "gravitation_ecef",
     "gravity_ecef",
@@ -66,6 +69,8 @@ __all__ = [
     "transport_rate_ned",
 ]
 
+def fast_kernels_active() -> bool: ...
+
 class RotaframeError(ValueError): ...
 class NonFiniteError(RotaframeError): ...
 class OutOfRangeError(RotaframeError): ...
@@ -77,6 +82,8 @@ class NearPoleError(OutOfRangeError): ...
 class NearEarthCentreError(OutOfRangeError): ...
 class ShapeError(RotaframeError): ...
 class FrameMismatchError(RotaframeError): ...
+class ConcurrentUseError(RotaframeError): ...
+class InputTypeError(RotaframeError, TypeError): ...
 
 @final
 class EarthModel:

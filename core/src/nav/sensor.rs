@@ -251,8 +251,21 @@ impl ImuErrorGenerator {
     }
 }
 
-/// Names a rejected field with its triad.
+/// Names a rejected field with its triad (and gives a limit its triad's unit).
 fn qualify(error: Error, gyro: bool) -> Error {
+    let error = match error {
+        Error::BeyondLimit { quantity, magnitude, limit, unit } => {
+            let unit = match (gyro, unit) {
+                (true, "sensor units") => "rad/s",
+                (false, "sensor units") => "m/s²",
+                (true, "sensor units per √Hz") => "rad/√s",
+                (false, "sensor units per √Hz") => "m/s/√s",
+                (_, other) => other,
+            };
+            Error::BeyondLimit { quantity, magnitude, limit, unit }
+        }
+        other => other,
+    };
     let name = match (gyro, error.quantity()) {
         (true, "bias") => "gyro_bias",
         (true, "scale_factor") => "gyro_scale_factor",
