@@ -185,6 +185,80 @@ typedef uint32_t rf_vertical_channel;
 #endif // __cplusplus
 
 /**
+ * Edge kinds of a graph node.
+ */
+enum rf_edge_kind
+#if defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+  : uint32_t
+#endif // defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+ {
+  /**
+   * The root (no edge).
+   */
+  RF_EDGE_ROOT = 0,
+  /**
+   * A constant rotation and offset.
+   */
+  RF_EDGE_FIXED = 1,
+  /**
+   * A spin about a fixed axis.
+   */
+  RF_EDGE_SPIN = 2,
+  /**
+   * The Earth's rotation (ECEF relative to the inertial frame).
+   */
+  RF_EDGE_EARTH = 3,
+  /**
+   * A local-level frame at a fixed geodetic point.
+   */
+  RF_EDGE_SITE = 4,
+  /**
+   * Geodetic samples (`rf_recorded_sample`) relative to an Earth-fixed parent.
+   */
+  RF_EDGE_SAMPLES_GEODETIC = 5,
+  /**
+   * Cartesian samples (`rf_pose_sample`) in the parent.
+   */
+  RF_EDGE_SAMPLES_CARTESIAN = 6,
+  /**
+   * A caller's function of time.
+   */
+  RF_EDGE_FUNCTION = 7,
+};
+#ifndef __cplusplus
+#if __STDC_VERSION__ >= 202311L
+typedef enum rf_edge_kind rf_edge_kind;
+#else
+typedef uint32_t rf_edge_kind;
+#endif // __STDC_VERSION__ >= 202311L
+#endif // __cplusplus
+
+/**
+ * Local-level axes of a site, for `rf_graph_add_site`.
+ */
+enum rf_local_axes
+#if defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+  : uint32_t
+#endif // defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+ {
+  /**
+   * North, east, down.
+   */
+  RF_AXES_NED = 0,
+  /**
+   * East, north, up.
+   */
+  RF_AXES_ENU = 1,
+};
+#ifndef __cplusplus
+#if __STDC_VERSION__ >= 202311L
+typedef enum rf_local_axes rf_local_axes;
+#else
+typedef uint32_t rf_local_axes;
+#endif // __STDC_VERSION__ >= 202311L
+#endif // __cplusplus
+
+/**
  * The constants of a reference ellipsoid with its normal gravity field. Obtain one from
  * `rf_earth_model_wgs84`, `rf_earth_model_grs80`, `rf_earth_model_from_defining_constants` or
  * `rf_earth_model_custom`; functions validate it on every call (ranges, and the plausibility
@@ -315,6 +389,132 @@ typedef struct rf_frame_motion {
 } rf_frame_motion;
 
 /**
+ * A caller's edge: writes the motion of the child relative to the parent at `time` (s) to
+ * `out_motion` and returns `RF_STATUS_OK`, or any other status to abort the query.
+ */
+typedef rf_status (*rf_edge_motion_fn)(void *context, double time, struct rf_frame_motion *out_motion);
+
+/**
+ * One frame of a graph, in the caller's storage. The add functions fill it; treat it as
+ * opaque (the fields a kind does not use are zero).
+ */
+typedef struct rf_graph_node {
+  /**
+   * Index of the parent frame (0 for the root's own node).
+   */
+  uint32_t parent;
+  /**
+   * An `rf_edge_kind` value.
+   */
+  uint32_t kind;
+  /**
+   * The constant motion of a fixed or site edge.
+   */
+  struct rf_frame_motion motion;
+  /**
+   * Unit axis of a spin, in the parent.
+   */
+  struct rf_vec3 spin_axis;
+  /**
+   * Rate of a spin at t = 0 (rad/s).
+   */
+  double spin_rate;
+  /**
+   * Angle of a spin at t = 0 (rad).
+   */
+  double spin_angle_at_zero;
+  /**
+   * Constant angular acceleration of a spin (rad/s²).
+   */
+  double spin_angular_acceleration;
+  /**
+   * The Earth model of an Earth edge or of geodetic samples.
+   */
+  struct rf_earth_model model;
+  /**
+   * Rotation angle of an Earth edge at t = 0 (rad).
+   */
+  double earth_angle_at_epoch;
+  /**
+   * The caller's samples of a sampled edge (`rf_recorded_sample` or `rf_pose_sample`),
+   * kept by pointer: they must stay valid and unchanged while the graph is used.
+   */
+  const void *samples;
+  /**
+   * Number of samples.
+   */
+  size_t sample_count;
+  /**
+   * The function of a function edge.
+   */
+  rf_edge_motion_fn function;
+  /**
+   * The context handed to the function.
+   */
+  void *context;
+} rf_graph_node;
+
+/**
+ * A frame graph over caller storage: `nodes[0..count]` are its frames, frame 0 the root.
+ * Create with `rf_graph_init`; add frames with the `rf_graph_add_*` functions.
+ */
+typedef struct rf_graph {
+  /**
+   * The caller's node storage.
+   */
+  struct rf_graph_node *nodes;
+  /**
+   * Number of nodes the storage holds.
+   */
+  size_t capacity;
+  /**
+   * Number of frames in the graph (the root included).
+   */
+  size_t count;
+  /**
+   * 1 if the root is inertial (then `rf_graph_apparent` works), else 0.
+   */
+  uint32_t root_inertial;
+} rf_graph;
+
+/**
+ * One sample of a recorded log, for `rf_imu_increments_from_record`.
+ */
+typedef struct rf_recorded_sample {
+  /**
+   * Time (s); strictly increasing along the log.
+   */
+  double time;
+  /**
+   * Geodetic position of the body.
+   */
+  struct rf_geodetic position;
+  /**
+   * Body-to-NED attitude quaternion (unit norm).
+   */
+  struct rf_quat attitude;
+} rf_recorded_sample;
+
+/**
+ * A Cartesian sample of a child frame's pose in its parent: time (s), position of its origin
+ * in the parent (m) and child-to-parent attitude.
+ */
+typedef struct rf_pose_sample {
+  /**
+   * Time (s).
+   */
+  double time;
+  /**
+   * Origin of the child in the parent (m).
+   */
+  struct rf_vec3 position;
+  /**
+   * Child-to-parent rotation.
+   */
+  struct rf_quat attitude;
+} rf_pose_sample;
+
+/**
  * Position, velocity and acceleration of a point relative to and resolved in one frame.
  */
 typedef struct rf_point_kinematics {
@@ -397,24 +597,6 @@ typedef struct rf_imu_increment {
  * `RF_STATUS_OK`, or any other status to abort.
  */
 typedef rf_status (*rf_trajectory_fn)(void *context, double time, struct rf_frame_motion *out_motion);
-
-/**
- * One sample of a recorded log, for `rf_imu_increments_from_record`.
- */
-typedef struct rf_recorded_sample {
-  /**
-   * Time (s); strictly increasing along the log.
-   */
-  double time;
-  /**
-   * Geodetic position of the body.
-   */
-  struct rf_geodetic position;
-  /**
-   * Body-to-NED attitude quaternion (unit norm).
-   */
-  struct rf_quat attitude;
-} rf_recorded_sample;
 
 /**
  * Settings of a strapdown stepper. Zero-initialised (`= {0}`) it is a NED mechanization
@@ -727,6 +909,76 @@ rf_status rf_centripetal_acceleration_ecef(const struct rf_earth_model *model, c
  * Eötvös correction (m/s², to add to a moving gravimeter's reading).
  */
 rf_status rf_eotvos_correction(const struct rf_earth_model *model, double latitude, double height, const struct rf_vec3 *velocity_ned, double *out_correction);
+
+/**
+ * An empty graph (its root, frame 0, only) over the caller's `storage` of `capacity` nodes
+ * (at least 1), written to `out_graph`. The graph keeps the storage pointer.
+ */
+rf_status rf_graph_init(struct rf_graph_node *storage, size_t capacity, uint32_t root_inertial, struct rf_graph *out_graph);
+
+/**
+ * Adds a frame fixed in `parent`: `rotation` child to parent, `position` of its origin in the
+ * parent (m). Its index goes to `out_frame`.
+ */
+rf_status rf_graph_add_fixed(struct rf_graph *graph, uint32_t parent, const struct rf_quat *rotation, const struct rf_vec3 *position, uint32_t *out_frame);
+
+/**
+ * Adds a frame spinning in `parent` about `axis` (in the parent) at `rate` (rad/s), with
+ * `angle_at_zero` (rad) at t = 0 and a constant `angular_acceleration` (rad/s²).
+ */
+rf_status rf_graph_add_spin(struct rf_graph *graph, uint32_t parent, const struct rf_vec3 *axis, double rate, double angle_at_zero, double angular_acceleration, uint32_t *out_frame);
+
+/**
+ * Adds the Earth-fixed frame (ECEF) turning relative to `parent` (an inertial frame) at the
+ * rate of `model`, with rotation angle `angle_at_epoch` (rad) at t = 0 (for a UT1 epoch, pass
+ * its `rf_earth_rotation_angle`).
+ */
+rf_status rf_graph_add_earth(struct rf_graph *graph, uint32_t parent, const struct rf_earth_model *model, double angle_at_epoch, uint32_t *out_frame);
+
+/**
+ * Adds a local-level frame (`axes` an `rf_local_axes` value) at the fixed geodetic `position`
+ * of `parent` (an Earth-fixed frame).
+ */
+rf_status rf_graph_add_site(struct rf_graph *graph, uint32_t parent, const struct rf_earth_model *model, const struct rf_geodetic *position, uint32_t axes, uint32_t *out_frame);
+
+/**
+ * Adds a frame moving as the caller's geodetic samples say (`count` ≥ 3; body-to-NED
+ * attitudes), relative to `parent`, which must be an Earth-fixed frame (an Earth edge). The
+ * samples are checked here and kept by pointer: they must stay valid and unchanged.
+ */
+rf_status rf_graph_add_samples_geodetic(struct rf_graph *graph, uint32_t parent, const struct rf_earth_model *model, const struct rf_recorded_sample *samples, size_t count, uint32_t *out_frame);
+
+/**
+ * Adds a frame moving as the caller's Cartesian samples say (`count` ≥ 3; positions in the
+ * parent, child-to-parent attitudes). Checked here, kept by pointer.
+ */
+rf_status rf_graph_add_samples_cartesian(struct rf_graph *graph, uint32_t parent, const struct rf_pose_sample *samples, size_t count, uint32_t *out_frame);
+
+/**
+ * Adds a frame whose motion relative to `parent` the caller's `function` writes for any time
+ * (called with `context`).
+ */
+rf_status rf_graph_add_function(struct rf_graph *graph, uint32_t parent, rf_edge_motion_fn function, void *context, uint32_t *out_frame);
+
+/**
+ * The motion of frame `child` relative to frame `parent` at `time` (s).
+ */
+rf_status rf_graph_motion(const struct rf_graph *graph, uint32_t parent, uint32_t child, double time, struct rf_frame_motion *out_motion);
+
+/**
+ * The motions of `child` relative to `parent` at `count` times, written to `out_motions`
+ * (which must not overlap `times`). On error nothing is written: the motions are computed
+ * once to check and once to write (function edges are called twice per time).
+ */
+rf_status rf_graph_motion_batch(const struct rf_graph *graph, uint32_t parent, uint32_t child, const double *times, size_t count, struct rf_frame_motion *out_motions);
+
+/**
+ * The apparent accelerations, resolved in `frame`, on a point moving relative to it
+ * (`point`: position and velocity relative to and resolved in `frame`) at `time`, from the
+ * frame's motion relative to the root, which must be inertial (`RF_STATUS_INVALID_ARGUMENT`
+ * otherwise).
+ */
+rf_status rf_graph_apparent(const struct rf_graph *graph, uint32_t frame, double time, const struct rf_point_kinematics *point, struct rf_apparent_terms *out_terms);
 
 /**
  * Writes the identity motion (child coincides with parent, at rest).

@@ -15,6 +15,7 @@
 #![allow(clippy::missing_safety_doc)]
 
 pub mod earth;
+pub mod graph;
 pub mod motion;
 pub mod nav;
 pub mod rotation;

@@ -4,6 +4,8 @@ use rotaframe::apparent::{FrameDynamics, apparent_acceleration, apparent_terms};
 use rotaframe::frames::{AnyFrame, FreeVector};
 use rotaframe::motion::FrameMotion;
 
+use rotaframe::limits::{MAX_ACCELERATION, MAX_ANGULAR_ACCELERATION, MAX_ANGULAR_VELOCITY, MAX_POSITION, MAX_VELOCITY, within};
+
 use crate::status::{boundary, disjoint, out, read, region, rf_status, slice, slice_mut};
 use crate::types::{rf_apparent_terms, rf_frame_motion, rf_point_kinematics, rf_vec3};
 
@@ -85,13 +87,22 @@ pub unsafe extern "C" fn rf_motion_map_point(
             point.velocity.into(),
             point.acceleration.into(),
         );
-        let mapped = m.map_point(&p);
-        if !(finite(&mapped.position) & finite(&mapped.velocity) & finite(&mapped.acceleration)) {
-            // Every motion and point component reaches an output through a sum or a product,
-            // so a non-finite output means a bad input (or overflow): name it.
+        // Every part within its supported range (branch-free; as the core's checked
+        // constructors require), else name the bad part; inside the ranges nothing overflows.
+        let parts = m.parts();
+        let good = within(&parts.position, MAX_POSITION)
+            & within(&parts.velocity, MAX_VELOCITY)
+            & within(&parts.acceleration, MAX_ACCELERATION)
+            & within(&parts.angular_velocity, MAX_ANGULAR_VELOCITY)
+            & within(&parts.angular_acceleration, MAX_ANGULAR_ACCELERATION)
+            & within(&p.position, MAX_POSITION)
+            & within(&p.velocity, MAX_VELOCITY)
+            & within(&p.acceleration, MAX_ACCELERATION);
+        if !good {
             motion.to_core()?;
             point.to_core()?;
         }
+        let mapped = m.map_point(&p);
         *out_point = (&mapped).into();
         Ok(())
     })
@@ -190,13 +201,18 @@ pub unsafe extern "C" fn rf_apparent_terms_compute(
             unsafe { (*angular_velocity, *angular_acceleration, *origin_acceleration, *position, *velocity, &mut *out_terms) };
         let dynamics =
             FrameDynamics { angular_velocity: w.into(), angular_acceleration: al.into(), origin_acceleration: a0.into() };
-        let terms = apparent_terms(&dynamics, &r.into(), &v.into());
-        let t = &terms.total;
-        if t.x * 0.0 + t.y * 0.0 + t.z * 0.0 != 0.0 {
-            // Every input reaches the total, so a non-finite total means a bad input (or
-            // overflow): name which (reading the inputs again keeps them out of the fast path).
+        let (r, v) = (r.into(), v.into());
+        // Every input within its supported range (branch-free), else name the bad one (reading
+        // the inputs again keeps the naming out of the fast path).
+        let good = within(&dynamics.angular_velocity, MAX_ANGULAR_VELOCITY)
+            & within(&dynamics.angular_acceleration, MAX_ANGULAR_ACCELERATION)
+            & within(&dynamics.origin_acceleration, MAX_ACCELERATION)
+            & within(&r, MAX_POSITION)
+            & within(&v, MAX_VELOCITY);
+        if !good {
             unsafe { validate_apparent_inputs(angular_velocity, angular_acceleration, origin_acceleration, position, velocity) }?;
         }
+        let terms = apparent_terms(&dynamics, &r, &v);
         *out_terms = (&terms).into();
         Ok(())
     })
@@ -224,10 +240,6 @@ unsafe fn validate_apparent_inputs(
     let (r, v) = (unsafe { read(position) }?.into(), unsafe { read(velocity) }?.into());
     rotaframe::frames::PointKinematics::<AnyFrame>::try_new(r, v, rotaframe::nalgebra::Vector3::zeros())?;
     Ok(())
-}
-
-fn finite(v: &rotaframe::nalgebra::Vector3<f64>) -> bool {
-    v.x.is_finite() & v.y.is_finite() & v.z.is_finite()
 }
 
 /// The apparent accelerations for `count` points, with the frame's rates and origin

@@ -3,7 +3,6 @@
 use numpy::PyArrayDyn;
 use pyo3::prelude::*;
 use rotaframe::apparent::{FrameDynamics, apparent_terms};
-use rotaframe::dispatch::with_fast_kernels;
 use rotaframe::frames::{AnyFrame, PointKinematics};
 
 use rotaframe::limits::{MAX_ACCELERATION, MAX_ANGULAR_ACCELERATION, MAX_ANGULAR_VELOCITY, MAX_POSITION, MAX_VELOCITY, within};
@@ -63,7 +62,7 @@ pub fn apparent_acceleration<'py>(
     // range in without branching (inside the ranges the terms cannot overflow); only a batch
     // with a bad input is scanned again, to name the first one.
     let finite = py.detach(|| {
-        with_fast_kernels(|| {
+        {
             let mut bad = 0u64;
             let slots = s0.iter_mut().zip(s1.iter_mut()).zip(s2.iter_mut()).zip(s3.iter_mut()).zip(s4.iter_mut());
             type Vectors<'a> = (&'a [f64; 3], &'a [f64; 3], &'a [f64; 3], &'a [f64; 3], &'a [f64; 3]);
@@ -105,7 +104,7 @@ pub fn apparent_acceleration<'py>(
                 }
             }
             bad == 0
-        })
+        }
     });
     if !finite {
         let result = run(py, n, |i| {

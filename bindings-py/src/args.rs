@@ -140,9 +140,9 @@ fn optional_number(obj: &Bound<'_, PyAny>, name: &str) -> PyResult<Option<f64>> 
 }
 
 extractors!(number, f64: lat, lon, h, a, f, gm, omega, angle_at_epoch, rtol, atol, height_reference, elapsed, elapsed_correction,
-    req_gamma_equator = "gamma_equator", req_gamma_pole = "gamma_pole", req_j2 = "j2");
+    req_gamma_equator = "gamma_equator", req_gamma_pole = "gamma_pole", req_j2 = "j2", rate, angle_at_zero, angular_acceleration);
 extractors!(optional_number, Option<f64>: gamma_equator, gamma_pole, j2, height_time_constant, opt_height_reference = "height_reference");
-extractors!(flag, bool: degrees);
+extractors!(flag, bool: degrees, inertial);
 /// Keyword arguments with their allowed values.
 macro_rules! keywords {
     ($($name:ident: [$($value:literal),*]),* $(,)?) => {
@@ -155,4 +155,18 @@ macro_rules! keywords {
     };
 }
 
-keywords!(frame: ["ned", "ecef"], gravity: ["normal", "j2"], vertical: ["free", "hold", "aided"]);
+keywords!(
+    frame: ["ned", "ecef"],
+    gravity: ["normal", "j2"],
+    vertical: ["free", "hold", "aided"],
+    axes: ["ned", "enu"],
+    position_kind: ["geodetic", "cartesian"],
+);
+
+/// A text argument (a name): a Python str.
+pub fn text(obj: &Bound<'_, PyAny>, name: &str) -> PyResult<String> {
+    if obj.is_instance_of::<PyString>() {
+        return obj.extract();
+    }
+    Err(input_type_error(format!("`{name}` must be a string, got {}", describe(obj))))
+}

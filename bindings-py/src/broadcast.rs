@@ -13,7 +13,6 @@
 use numpy::{PyArrayDyn, PyArrayMethods, PyUntypedArrayMethods};
 use pyo3::prelude::*;
 use pyo3::types::{PyBool, PyFloat, PyInt, PyTuple};
-use rotaframe::dispatch::with_fast_kernels;
 
 use crate::errors::{ShapeError, input_type_error, to_py};
 
@@ -52,7 +51,7 @@ static ASARRAY: pyo3::sync::PyOnceLock<Py<PyAny>> = pyo3::sync::PyOnceLock::new(
 /// `obj` as a float64 numpy array, refusing anything that is not real numbers: numpy
 /// converts strings, booleans, dates and complex numbers (dropping the imaginary part) to
 /// float64 when asked, so the kind is checked first.
-fn real_array<'py>(obj: &Bound<'py, PyAny>, name: &str) -> PyResult<Bound<'py, PyArrayDyn<f64>>> {
+pub fn real_array<'py>(obj: &Bound<'py, PyAny>, name: &str) -> PyResult<Bound<'py, PyArrayDyn<f64>>> {
     let py = obj.py();
     if obj.is_none() {
         return Err(input_type_error(format!("`{name}` must be a number or an array of numbers, got None")));
@@ -228,14 +227,12 @@ where
         let bufs: &mut [&mut [f64]; M] = (&mut bufs[..]).try_into().expect("M outputs");
         let n = plan.n;
         let result = py.detach(|| {
-            with_fast_kernels(|| {
-                for i in 0..n {
-                    let inputs: [&[f64]; N] = core::array::from_fn(|j| accesses[j].slice(i));
-                    let mut slots = bufs.each_mut().map(|b| &mut b[i * k..(i + 1) * k]);
-                    kernel(&inputs, &mut slots).map_err(|error| Failure { index: i, error: rename(error, &inputs) })?;
-                }
-                Ok(())
-            })
+            for i in 0..n {
+                let inputs: [&[f64]; N] = core::array::from_fn(|j| accesses[j].slice(i));
+                let mut slots = bufs.each_mut().map(|b| &mut b[i * k..(i + 1) * k]);
+                kernel(&inputs, &mut slots).map_err(|error| Failure { index: i, error: rename(error, &inputs) })?;
+            }
+            Ok(())
         });
         if let Err(f) = result {
             let refs: Vec<&Operand<'py>> = ops.iter().collect();
@@ -447,12 +444,10 @@ where
     F: FnMut(usize) -> Result<(), rotaframe::Error> + Send,
 {
     py.detach(move || {
-        with_fast_kernels(move || {
-            for i in 0..n {
-                kernel(i).map_err(|error| Failure { index: i, error })?;
-            }
-            Ok(())
-        })
+        for i in 0..n {
+            kernel(i).map_err(|error| Failure { index: i, error })?;
+        }
+        Ok(())
     })
 }
 

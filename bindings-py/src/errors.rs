@@ -56,6 +56,12 @@ pyo3::create_exception!(
 pyo3::create_exception!(rotaframe, FrameMismatchError, RotaframeError, "Frame motions whose labels do not chain were composed.");
 pyo3::create_exception!(
     rotaframe,
+    FrameGraphError,
+    RotaframeError,
+    "A frame graph problem: an unknown or duplicate frame name, a parent loop, frames without a common ancestor, an unattached frame, a non-inertial root, a malformed graph file."
+);
+pyo3::create_exception!(
+    rotaframe,
     ConcurrentUseError,
     RotaframeError,
     "A stateful object (a Strapdown, an ImuErrors) was used by two threads at once; give each thread its own copy."
@@ -121,6 +127,7 @@ pub fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add("ShapeError", py.get_type::<ShapeError>())?;
     m.add("FrameMismatchError", py.get_type::<FrameMismatchError>())?;
     m.add("ConcurrentUseError", py.get_type::<ConcurrentUseError>())?;
+    m.add("FrameGraphError", py.get_type::<FrameGraphError>())?;
     m.add("InputTypeError", input_type_error_class(py)?.clone_ref(py))?;
     Ok(())
 }

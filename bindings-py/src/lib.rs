@@ -10,6 +10,7 @@ mod args;
 mod broadcast;
 mod errors;
 mod geodesy;
+mod graph;
 mod model;
 mod motion;
 mod nav;
@@ -35,6 +36,8 @@ fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(model::_earth_model_from_constants, m)?)?;
     m.add_class::<motion::PyFrameMotion>()?;
     m.add_class::<apparent::PyApparentAcceleration>()?;
+    m.add_class::<graph::PyFrameGraph>()?;
+    m.add_function(wrap_pyfunction!(graph::_frame_graph_from_parts, m)?)?;
     m.add_function(wrap_pyfunction!(motion::_frame_motion_from_parts, m)?)?;
     m.add_function(wrap_pyfunction!(motion::earth_motion, m)?)?;
     m.add_function(wrap_pyfunction!(motion::local_level_motion, m)?)?;

@@ -4,7 +4,6 @@
 use numpy::{PyArrayDyn, PyArrayMethods, PyUntypedArrayMethods};
 use pyo3::prelude::*;
 use pyo3::types::{PySlice, PyTuple};
-use rotaframe::dispatch::with_fast_kernels;
 use rotaframe::earth;
 use rotaframe::frames::{AnyFrame, PointKinematics};
 use rotaframe::motion::{FrameMotion, MotionParts};
@@ -34,7 +33,15 @@ impl MotionBatch {
         Self { rotation: Vec::with_capacity(n), vectors: core::array::from_fn(|_| Vec::with_capacity(n)) }
     }
 
-    fn push(&mut self, m: &Motion) {
+    /// Room for `n` more motions.
+    pub fn reserve(&mut self, n: usize) {
+        self.rotation.reserve(n);
+        for v in &mut self.vectors {
+            v.reserve(n);
+        }
+    }
+
+    pub fn push(&mut self, m: &Motion) {
         let p = m.parts();
         let q = p.rotation.into_inner();
         self.rotation.push([q.w, q.i, q.j, q.k]);
@@ -171,12 +178,8 @@ impl PyFrameMotion {
 }
 
 /// Extracts a `rotation` argument: quaternions `(..., 4)` or matrices `(..., 3, 3)`.
-fn rotation_operand<'py>(obj: &Bound<'py, PyAny>) -> PyResult<(Operand<'py>, bool)> {
-    let array = if obj.cast::<numpy::PyUntypedArray>().is_ok() {
-        obj.clone()
-    } else {
-        obj.py().import("numpy")?.getattr("asarray")?.call1((obj, "float64"))?
-    };
+pub fn rotation_operand<'py>(obj: &Bound<'py, PyAny>) -> PyResult<(Operand<'py>, bool)> {
+    let array = crate::broadcast::real_array(obj, "rotation")?.into_any();
     let shape = array.cast::<numpy::PyUntypedArray>().map(|a| a.shape().to_vec()).unwrap_or_default();
     if shape.len() >= 2 && shape[shape.len() - 2..] == [3, 3] {
         Ok((Operand::extract(&array, "rotation", &[3, 3])?, true))
@@ -327,15 +330,14 @@ impl PyFrameMotion {
         }
         let plan = Plan::new(&[("self", &self.shape), ("other", &other.shape)])?;
         let (a, b) = (self.indexer(&plan), other.indexer(&plan));
-        let motions: Vec<Motion> = py.detach(|| {
-            with_fast_kernels(|| (0..plan.n).map(|i| self.motions.get(a(i)).then(&other.motions.get(b(i)))).collect())
-        });
+        let motions: Vec<Motion> =
+            py.detach(|| (0..plan.n).map(|i| self.motions.get(a(i)).then(&other.motions.get(b(i)))).collect());
         Ok(PyFrameMotion::new_batch(motions, plan.shape.clone(), self.parent.clone(), other.child.clone()))
     }
 
     /// The motion of the parent relative to the child (labels swapped).
     fn inverse(&self, py: Python<'_>) -> PyFrameMotion {
-        let motions: Vec<Motion> = py.detach(|| with_fast_kernels(|| self.motions.iter().map(|m| m.inverse()).collect()));
+        let motions: Vec<Motion> = py.detach(|| self.motions.iter().map(|m| m.inverse()).collect());
         PyFrameMotion::new_batch(motions, self.shape.clone(), self.child.clone(), self.parent.clone())
     }
 
@@ -372,7 +374,7 @@ impl PyFrameMotion {
         // only for a motion composed beyond the ranges); only a flagged batch is scanned
         // again, to name the first bad element.
         let flags = py.detach(|| {
-            with_fast_kernels(|| {
+            {
                 let mut bad = 0u64;
                 let [mp, mv, ma, mw, mal] = &motions.vectors;
                 let slots = slots.iter_mut().zip(&motions.rotation).zip(mp).zip(mv).zip(ma).zip(mw).zip(mal);
@@ -408,7 +410,7 @@ impl PyFrameMotion {
                         .for_each(|(i, s)| element(s, &ra.vec3(i).into(), &va.vec3(i).into(), &aa.vec3(i).into())),
                 }
                 bad
-            })
+            }
         });
         if flags != 0 {
             let result = run(py, n, |i| PointKinematics::<AnyFrame>::try_new(ra.vec3(i), va.vec3(i), aa.vec3(i)).map(|_| ()));

@@ -15,6 +15,7 @@
 //! * [`rotation`]: quaternions, direction-cosine matrices, Euler angles, rotation vectors;
 //! * [`earth`]: ellipsoids, geodetic coordinates, local-level frames, Earth rotation, gravity;
 //! * [`dispatch`]: run-time choice of AVX2 + FMA code paths (one binary for every x86-64 CPU);
+//! * [`graph`]: frame graphs over time: any frame relative to any other, at any times;
 //! * [`limits`]: the supported input ranges (finite input inside them gives finite output);
 //! * [`nav`]: ideal IMU output and increments, strapdown mechanization (NED and ECEF), sensor
 //!   error models, lever arms.
@@ -59,6 +60,9 @@
 // after checking that the CPU has those instructions.
 #![deny(unsafe_code)]
 
+#[cfg(feature = "alloc")]
+extern crate alloc;
+
 mod dd;
 mod dd_tables;
 mod math;
@@ -68,6 +72,7 @@ pub mod dispatch;
 pub mod earth;
 pub mod error;
 pub mod frames;
+pub mod graph;
 pub mod limits;
 pub mod motion;
 pub mod nav;

@@ -269,6 +269,7 @@ impl<P: Frame, C: Frame> FrameMotion<P, C> {
     /// let m = FrameMotion::<Ecef, Ned>::about_axis(nalgebra::Vector3::new(0.0, 0.0, 3.0), 0.1, 0.2, 0.3).unwrap();
     /// assert_eq!(m.angular_velocity(), nalgebra::Vector3::new(0.0, 0.0, 0.2));
     /// ```
+    #[inline]
     pub fn about_axis(axis: Vector3<f64>, angle: f64, angular_rate: f64, angular_acceleration: f64) -> Result<Self> {
         ensure_finite3(&axis, "axis")?;
         ensure_finite1(angle, "angle")?;

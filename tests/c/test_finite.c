@@ -269,6 +269,27 @@ int main(void) {
             PROBE("rf_lever_arm_state", rf_lever_arm_state(&m, &state, &w, &a, &lever.p, &lever.v), &lever, sizeof lever);
         }
 
+        /* Frame graphs: edges from any numbers, then queries at any time. */
+        {
+            rf_graph_node nodes[6];
+            rf_graph graph;
+            uint32_t f[5] = {0, 0, 0, 0, 0};
+            rf_quat qq = quat();
+            rf_vec3 axis = vec();
+            rf_frame_motion gm;
+            rf_apparent_terms gt;
+            rf_point_kinematics gp;
+            fill(&gp.position.x, 9);
+            OK(rf_graph_init(nodes, 6, 1, &graph));
+            if (rf_graph_add_earth(&graph, 0, &m, x, &f[0]) != RF_STATUS_OK) f[0] = 0;
+            if (rf_graph_add_site(&graph, f[0], &m, &g, (uint32_t)(next_u64() % 2), &f[1]) != RF_STATUS_OK) f[1] = f[0];
+            if (rf_graph_add_spin(&graph, f[1], &axis, y, z, finite(), &f[2]) != RF_STATUS_OK) f[2] = f[1];
+            if (rf_graph_add_fixed(&graph, f[2], &qq, &v, &f[3]) != RF_STATUS_OK) f[3] = f[2];
+            if (rf_graph_add_function(&graph, f[3], held_motion, &mo, &f[4]) != RF_STATUS_OK) f[4] = f[3];
+            PROBE("rf_graph_motion", rf_graph_motion(&graph, f[next_u64() % 5], f[next_u64() % 5], finite(), &gm), &gm, sizeof gm);
+            PROBE("rf_graph_apparent", rf_graph_apparent(&graph, f[next_u64() % 5], finite(), &gp, &gt), &gt, sizeof gt);
+        }
+
         /* Rotations. */
         PROBE("rf_quat_from_euler", rf_quat_from_euler(&e, &out_q), &out_q, sizeof out_q);
         PROBE("rf_euler_from_quat", rf_euler_from_quat(&q, &out_e), &out_e, sizeof out_e);

@@ -167,6 +167,28 @@ static int evaluate(const rf_earth_model *wgs, const char *name, const double *x
         put_vec(y + 3, end.velocity_ned);
         y[6] = end.attitude.w, y[7] = end.attitude.x, y[8] = end.attitude.y, y[9] = end.attitude.z;
         n = 10;
+    } else if (strcmp(name, "graph_chain") == 0) {
+        rf_graph_node nodes[6];
+        rf_graph g;
+        uint32_t ecef = 0, pad = 0, table = 0, sensor = 0, camera = 0;
+        rf_geodetic site;
+        rf_vec3 axis = vec(x + 4), offset = vec(x + 14), camera_offset = vec(x + 21);
+        rf_quat mount, camera_mount;
+        rf_frame_motion a, b;
+        site.latitude = x[1], site.longitude = x[2], site.height = x[3];
+        mount.w = x[10], mount.x = x[11], mount.y = x[12], mount.z = x[13];
+        camera_mount.w = x[17], camera_mount.x = x[18], camera_mount.y = x[19], camera_mount.z = x[20];
+        memset(&a, 0, sizeof a);
+        memset(&b, 0, sizeof b);
+        s = rf_graph_init(nodes, 6, 1, &g);
+        if (s == RF_STATUS_OK) s = rf_graph_add_earth(&g, 0, wgs, x[0], &ecef);
+        if (s == RF_STATUS_OK) s = rf_graph_add_site(&g, ecef, wgs, &site, RF_AXES_NED, &pad);
+        if (s == RF_STATUS_OK) s = rf_graph_add_spin(&g, pad, &axis, x[7], x[8], x[9], &table);
+        if (s == RF_STATUS_OK) s = rf_graph_add_fixed(&g, table, &mount, &offset, &sensor);
+        if (s == RF_STATUS_OK) s = rf_graph_add_fixed(&g, pad, &camera_mount, &camera_offset, &camera);
+        if (s == RF_STATUS_OK) s = rf_graph_motion(&g, 0, sensor, x[24], &a);
+        if (s == RF_STATUS_OK) s = rf_graph_motion(&g, camera, sensor, x[24], &b);
+        n = put_motion(y, &a) + put_motion(y + 19, &b);
     }
     CHECK(s == RF_STATUS_OK, "%s: status %u", name, (unsigned)s);
     return n;

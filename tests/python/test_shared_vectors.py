@@ -73,6 +73,14 @@ def evaluate(name, x):
         steps = x[10:].reshape(-1, 7)
         ins.run(steps[:, 0:3], steps[:, 3:6], steps[:, 6])
         return np.concatenate([[ins.lat, ins.lon, ins.h], ins.v_ned, ins.attitude])
+    if name == "graph_chain":
+        g = rf.FrameGraph("inertial")
+        g.add_earth("ecef", "inertial", angle_at_epoch=x[0])
+        g.add_site("pad", "ecef", x[1], x[2], x[3])
+        g.add_spin("table", "pad", axis=x[4:7], rate=x[7], angle_at_zero=x[8], angular_acceleration=x[9])
+        g.add_fixed("sensor", "table", rotation=x[10:14], position=x[14:17])
+        g.add_fixed("camera", "pad", rotation=x[17:21], position=x[21:24])
+        return np.concatenate([numbers(g.motion("inertial", "sensor", x[24])), numbers(g.motion("camera", "sensor", x[24]))])
     raise AssertionError(f"unknown shared function {name}")
 
 
@@ -81,7 +89,7 @@ CASES = load()
 
 def test_file_covers_every_shared_function():
     assert len(CASES) >= 100
-    assert len({c[0] for c in CASES}) == 22
+    assert len({c[0] for c in CASES}) == 23
 
 
 @pytest.mark.parametrize("name,inputs,outputs", CASES, ids=[f"{c[0]}-{i}" for i, c in enumerate(CASES)])

@@ -30,3 +30,19 @@ def navigate(dtheta: NDArray[np.float64], dv: NDArray[np.float64]) -> float:
     noisy_theta, noisy_v = errors.apply(inc_theta, inc_v, inc_dt)
     _ = (rate, force, noisy_theta, noisy_v, history.lat, ins.v_ned, ins.attitude)
     return ins.h
+
+
+def graph_query(t: NDArray[np.float64]) -> float:
+    g = rf.FrameGraph("inertial", inertial=True)
+    g.add_earth("ecef", "inertial", angle_at_epoch=0.0)
+    g.add_site("site", "ecef", 47.0, 8.0, 400.0, degrees=True, axes="enu")
+    g.add_spin("table", "site", axis=[0.0, 0.0, 1.0], rate=2.0)
+    g.add_fixed("imu", "table", position=[0.1, 0.0, 0.0])
+    g.add_function("probe", "imu", lambda times: rf.FrameMotion(position=[0.0, 0.0, 0.05]))
+    m: rf.FrameMotion = g.motion("inertial", "imu", t)
+    p, v, a = g.map_point("imu", "site", t, [0.0, 0.0, 0.0])
+    terms: rf.ApparentAcceleration = g.apparent_acceleration("imu", t, [0.0, 0.0, 0.0], [0.0, 0.0, 0.0])
+    names: list[str] = g.frames + g.path("imu", "site")
+    again = rf.FrameGraph.from_toml(g.to_toml())
+    _ = (m, p, v, a, terms, names, again.parent_of("imu"), again.kind_of("probe"))
+    return float(np.sum(terms.total))

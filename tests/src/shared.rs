@@ -131,6 +131,7 @@ pub fn evaluate(function: &str, x: &[f64]) -> Vec<f64> {
             [s.angular_rate, s.specific_force].iter().flat_map(|v| v.iter().copied()).collect()
         }
         "strapdown_ned" | "strapdown_ecef" => strapdown_case(function == "strapdown_ecef", x),
+        "graph_chain" => graph_case(x),
         other => panic!("unknown shared function {other}"),
     }
 }
@@ -155,6 +156,27 @@ fn strapdown_case(ecef: bool, x: &[f64]) -> Vec<f64> {
     let mut out = vec![s.position.latitude, s.position.longitude, s.position.height];
     out.extend_from_slice(s.velocity_ned.as_slice());
     out.extend_from_slice(&quaternion_to_wxyz(&s.attitude));
+    out
+}
+
+/// A frame graph case: inertial → ecef (Earth, angle at epoch `x[0]`) → pad (NED site at
+/// `x[1..4]`) → table (spin: axis `x[4..7]`, rate `x[7]`, angle at zero `x[8]`, angular
+/// acceleration `x[9]`) → sensor (fixed: quaternion `x[10..14]`, offset `x[14..17]`), and a
+/// camera fixed on the pad (quaternion `x[17..21]`, offset `x[21..24]`); at time `x[24]` the
+/// outputs are the sensor relative to the inertial frame (19 numbers) then the sensor relative
+/// to the camera (19).
+fn graph_case(x: &[f64]) -> Vec<f64> {
+    use rotaframe::graph::{EarthRotation, Fixed, FrameGraph, LocalAxes, Site, Spin};
+    let v3 = |k: usize| Vector3::new(x[k], x[k + 1], x[k + 2]);
+    let q = |k: usize| rotaframe::rotation::quaternion_from_wxyz([x[k], x[k + 1], x[k + 2], x[k + 3]], "q").unwrap();
+    let mut g = FrameGraph::new("inertial", true);
+    g.add_earth("ecef", "inertial", EarthRotation::with_angle(WGS84, x[0]).unwrap()).unwrap();
+    g.add_site("pad", "ecef", Site::new(WGS84, Geodetic::new(x[1], x[2], x[3]), LocalAxes::Ned).unwrap()).unwrap();
+    g.add_spin("table", "pad", Spin::new(v3(4), x[7], x[8], x[9]).unwrap()).unwrap();
+    g.add_fixed("sensor", "table", Fixed::new(q(10), v3(14)).unwrap()).unwrap();
+    g.add_fixed("camera", "pad", Fixed::new(q(17), v3(21)).unwrap()).unwrap();
+    let mut out = motion_numbers(&g.motion("inertial", "sensor", x[24]).unwrap());
+    out.extend(motion_numbers(&g.motion("camera", "sensor", x[24]).unwrap()));
     out
 }
 
@@ -222,6 +244,24 @@ pub fn all_cases() -> Vec<Case> {
             }
             add(function, x);
         }
+    }
+    // Frame-graph cases from their own stream, so that adding them left the cases above as
+    // they were.
+    let mut rng = Seeded(2027);
+    let unit = |rng: &mut Seeded| {
+        let q = UnitQuaternion::from_quaternion(Quaternion::new(rng.next() + 1.5, rng.next(), rng.next(), rng.next()));
+        quaternion_to_wxyz(&q)
+    };
+    for _ in 0..8 {
+        let mut x = vec![rng.next() * 3.1, rng.next() * 1.5, rng.next() * 3.1, rng.next() * 1.0e3];
+        x.extend(rng.vector(1.0).iter());
+        x.extend([rng.next() * 5.0, rng.next() * 3.1, rng.next() * 0.5]);
+        x.extend(unit(&mut rng));
+        x.extend(rng.vector(2.0).iter());
+        x.extend(unit(&mut rng));
+        x.extend(rng.vector(20.0).iter());
+        x.push(rng.next() * 100.0);
+        add("graph_chain", x);
     }
     cases
 }

@@ -321,4 +321,37 @@ proptest! {
             }
         }
     }
+
+    #[test]
+    fn frame_graphs_are_finite_or_refused(c in model_constants(), g in prop::array::uniform3(finite()), axis in vec3(), spin in prop::array::uniform3(finite()), q in quat4(), p in vec3(), times in prop::array::uniform3(finite())) {
+        use rotaframe::graph::{EarthRotation, Fixed, FrameGraph, LocalAxes, Site, Spin};
+        let m = model(c);
+        let mut graph = FrameGraph::new("inertial", true);
+        let mut last = "inertial".to_string();
+        if let Some(e) = check(EarthRotation::with_angle(m, spin[0]), |e| vec![e.angle_at_epoch()], "EarthRotation") {
+            graph.add_earth("ecef", "inertial", e).unwrap();
+            last = "ecef".into();
+        }
+        if let Some(s) = check(Site::new(m, Geodetic::new(g[0], g[1], g[2]), LocalAxes::Enu), |s| motion_numbers(&s.motion()), "Site") {
+            graph.add_site("site", &last, s).unwrap();
+            last = "site".into();
+        }
+        if let Some(s) = check(Spin::new(axis, spin[0], spin[1], spin[2]), |s| s.axis().iter().copied().collect(), "Spin") {
+            graph.add_spin("table", &last, s).unwrap();
+            last = "table".into();
+        }
+        if let Some(f) = check(Fixed::new(rotation(q), p), |f| motion_numbers(&f.motion()), "Fixed") {
+            graph.add_fixed("sensor", &last, f).unwrap();
+            last = "sensor".into();
+        }
+        for t in times {
+            match graph.motion("inertial", &last, t) {
+                Ok(motion) => prop_assert!(motion_numbers(&motion).iter().all(|x| x.is_finite()), "graph motion at {t}"),
+                Err(e) => prop_assert!(!e.to_string().is_empty()),
+            }
+            if let Ok(terms) = graph.apparent_acceleration(&last, t, &p, &axis) {
+                prop_assert!(terms.total.iter().all(|x| x.is_finite()));
+            }
+        }
+    }
 }

@@ -1,6 +1,7 @@
 """rotaframe: kinematics in moving (non-inertial) reference frames on numpy arrays.
 
-Frame motions and the transport theorem, apparent (Coriolis, centrifugal, Euler,
+Frame motions and the transport theorem, frame graphs over time (any frame relative to any
+other), apparent (Coriolis, centrifugal, Euler,
 translational) accelerations, Earth models, geodetic conversions, local-level frames,
 Earth rotation and gravity; ideal IMU output and increments, strapdown inertial navigation
 in NED and ECEF form, IMU error simulation and lever arms. The math is rotaframe's Rust core; this package converts,
@@ -24,6 +25,8 @@ from ._native import (
     ApparentAcceleration,
     EarthModel,
     ConcurrentUseError,
+    FrameGraph,
+    FrameGraphError,
     FrameMismatchError,
     FrameMotion,
     ImuErrors,
@@ -84,6 +87,8 @@ __all__ = [
     "ApparentAcceleration",
     "EarthModel",
     "ConcurrentUseError",
+    "FrameGraph",
+    "FrameGraphError",
     "FrameMismatchError",
     "FrameMotion",
     "ImuErrors",

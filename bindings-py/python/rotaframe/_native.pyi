@@ -12,6 +12,8 @@ __all__ = [
     "ApparentAcceleration",
     "ConcurrentUseError",
     "EarthModel",
+    "FrameGraph",
+    "FrameGraphError",
     "FrameMismatchError",
     "FrameMotion",
     "GRS80",
@@ -31,6 +33,7 @@ __all__ = [
     "WGS84",
     "ZeroNormError",
     "_earth_model_from_constants",
+    "_frame_graph_from_parts",
     "_frame_motion_from_parts",
     "_strapdown_from_parts",
     "apparent_acceleration",
@@ -83,6 +86,7 @@ class NearEarthCentreError(OutOfRangeError): ...
 class ShapeError(RotaframeError): ...
 class FrameMismatchError(RotaframeError): ...
 class ConcurrentUseError(RotaframeError): ...
+class FrameGraphError(RotaframeError): ...
 class InputTypeError(RotaframeError, TypeError): ...
 
 @final
@@ -446,3 +450,77 @@ class ImuErrors:
     def seed(self) -> int: ...
     @property
     def markov_states(self) -> tuple[_Array, _Array]: ...
+
+@final
+class FrameGraph:
+    """A tree of named frames over time; see the README's frame-graph section."""
+
+    def __new__(cls, root: str, *, inertial: bool = True) -> FrameGraph: ...
+    def add_fixed(self, name: str, parent: str, *, rotation: Optional[ArrayLike] = None, position: Optional[ArrayLike] = None) -> None: ...
+    def add_spin(
+        self, name: str, parent: str, *, axis: ArrayLike, rate: float, angle_at_zero: float = 0.0, angular_acceleration: float = 0.0
+    ) -> None: ...
+    def add_earth(
+        self,
+        name: str,
+        parent: str,
+        *,
+        angle_at_epoch: float = 0.0,
+        model: Optional[EarthModel] = None,
+        epoch_jd_ut1: Optional[ArrayLike] = None,
+    ) -> None: ...
+    def add_site(
+        self,
+        name: str,
+        parent: str,
+        lat: float,
+        lon: float,
+        h: float,
+        *,
+        axes: Literal["ned", "enu"] = "ned",
+        model: Optional[EarthModel] = None,
+        degrees: bool = False,
+    ) -> None: ...
+    def add_samples(
+        self,
+        name: str,
+        parent: str,
+        t: ArrayLike,
+        position: ArrayLike,
+        attitude: ArrayLike,
+        *,
+        position_kind: Literal["geodetic", "cartesian"] = "geodetic",
+        degrees: bool = False,
+        model: Optional[EarthModel] = None,
+        velocity: Optional[ArrayLike] = None,
+        angular_rate: Optional[ArrayLike] = None,
+    ) -> None: ...
+    def add_function(self, name: str, parent: str, fn: Callable[[_Array], FrameMotion]) -> None: ...
+    def motion(self, parent: str, child: str, t: ArrayLike) -> FrameMotion: ...
+    def map_point(
+        self,
+        frame_from: str,
+        frame_to: str,
+        t: ArrayLike,
+        position: ArrayLike,
+        velocity: Optional[ArrayLike] = None,
+        acceleration: Optional[ArrayLike] = None,
+    ) -> tuple[_Array, _Array, _Array]: ...
+    def apparent_acceleration(self, frame: str, t: ArrayLike, position: ArrayLike, velocity: Optional[ArrayLike] = None) -> ApparentAcceleration: ...
+    @property
+    def frames(self) -> list[str]: ...
+    @property
+    def root(self) -> str: ...
+    @property
+    def inertial(self) -> bool: ...
+    def parent_of(self, name: str) -> Optional[str]: ...
+    def kind_of(self, name: str) -> str: ...
+    def path(self, a: str, b: str) -> list[str]: ...
+    def to_toml(self) -> str: ...
+    @staticmethod
+    def from_toml(text: str) -> FrameGraph: ...
+    def __contains__(self, key: str, /) -> bool: ...
+    def __len__(self) -> int: ...
+    def __reduce__(self) -> tuple[Any, ...]: ...
+
+def _frame_graph_from_parts(toml: str, samples: list[Any]) -> FrameGraph: ...

@@ -54,7 +54,6 @@ use nalgebra::Vector3;
 
 use super::model::EarthModel;
 use crate::dd::{Dd, SIN_COS_DD_LIMIT, atan2_dd, sin_cos_dd};
-use crate::dispatch::with_fast_kernels;
 use crate::error::{BatchError, Error, Result, ensure_finite};
 use crate::limits;
 use crate::math;
@@ -163,11 +162,14 @@ fn forward(model: &EarthModel, latitude: f64, longitude: f64, height: f64) -> [f
 /// The forward conversion for any finite longitude: arguments beyond the reduction range of
 /// [`sin_cos_dd`] are first brought into (−π, π] by an exact remainder (such longitudes carry
 /// less than 1e-10 rad of precision in an f64 anyway).
-#[inline]
+#[inline(always)]
 fn forward_any(model: &EarthModel, latitude: f64, longitude: f64, height: f64) -> [f64; 3] {
     let lon = if longitude.abs() <= SIN_COS_DD_LIMIT { longitude } else { wrap_longitude(longitude) };
     forward(model, latitude, lon, height)
 }
+
+crate::fast_twin!(fn forward_any_fast(model: &EarthModel, latitude: f64, longitude: f64, height: f64) -> [f64; 3] = forward_any);
+crate::fast_twin!(fn inverse_any_fast(model: &EarthModel, x: f64, y: f64, z: f64) -> [f64; 3] = inverse_any);
 
 /// `x` reduced modulo 2π (as an f64) into about (−π, π].
 fn wrap_longitude(x: f64) -> f64 {
@@ -239,7 +241,7 @@ fn inverse_any(model: &EarthModel, x: f64, y: f64, z: f64) -> [f64; 3] {
 
 /// The inverse conversion for a point already checked to be finite and outside
 /// [`EarthModel::centre_exclusion_radius`].
-#[inline]
+#[inline(always)]
 pub(crate) fn inverse_unchecked(model: &EarthModel, ecef: &Vector3<f64>) -> Geodetic {
     let [latitude, longitude, height] = inverse_any(model, ecef.x, ecef.y, ecef.z);
     Geodetic { latitude, longitude, height }
@@ -255,10 +257,20 @@ fn normalise(c: f64, s: f64) -> (f64, f64) {
 /// naming `quantity`.
 #[inline(always)]
 pub(crate) fn check_ecef(model: &EarthModel, ecef: &Vector3<f64>, quantity: &'static str) -> Result<()> {
-    limits::check_vector(ecef, limits::MAX_GEOCENTRIC_DISTANCE, "m", quantity)?;
+    check_geocentric(ecef, model.centre_exclusion_radius(), quantity)
+}
+
+/// Checks that a point is finite and between `inner` and
+/// [`MAX_GEOCENTRIC_DISTANCE`](limits::MAX_GEOCENTRIC_DISTANCE) from the Earth's centre, naming
+/// `quantity`. One norm on the accepting path (NaN and overflow fail its comparisons).
+#[inline(always)]
+pub(crate) fn check_geocentric(ecef: &Vector3<f64>, inner: f64, quantity: &'static str) -> Result<()> {
     let distance = ecef.norm();
-    let limit = model.centre_exclusion_radius();
-    if distance < limit { Err(Error::NearEarthCentre { quantity, distance, limit }) } else { Ok(()) }
+    if (distance >= inner) & (distance <= limits::MAX_GEOCENTRIC_DISTANCE) {
+        return Ok(());
+    }
+    limits::check_vector(ecef, limits::MAX_GEOCENTRIC_DISTANCE, "m", quantity)?;
+    Err(Error::NearEarthCentre { quantity, distance, limit: inner })
 }
 
 /// ECEF coordinates (m) of a geodetic position.
@@ -281,7 +293,11 @@ pub(crate) fn check_ecef(model: &EarthModel, ecef: &Vector3<f64>, quantity: &'st
 /// ```
 pub fn geodetic_to_ecef(model: &EarthModel, position: &Geodetic) -> Result<Vector3<f64>> {
     position.validate_for(model)?;
-    Ok(Vector3::from(with_fast_kernels(|| forward_any(model, position.latitude, position.longitude, position.height))))
+    Ok(Vector3::from(crate::fast_call!(
+        forward_any_fast,
+        forward_any,
+        (model, position.latitude, position.longitude, position.height)
+    )))
 }
 
 /// Geodetic position of an ECEF point (m).
@@ -302,7 +318,7 @@ pub fn geodetic_to_ecef(model: &EarthModel, position: &Geodetic) -> Result<Vecto
 #[inline]
 pub fn ecef_to_geodetic(model: &EarthModel, ecef: &Vector3<f64>) -> Result<Geodetic> {
     check_ecef(model, ecef, "ecef")?;
-    let [latitude, longitude, height] = with_fast_kernels(|| inverse_any(model, ecef.x, ecef.y, ecef.z));
+    let [latitude, longitude, height] = crate::fast_call!(inverse_any_fast, inverse_any, (model, ecef.x, ecef.y, ecef.z));
     Ok(Geodetic { latitude, longitude, height })
 }
 
@@ -392,9 +408,21 @@ pub fn geodetic_to_ecef_slices(
     check_len(longitude.len(), n, "longitude")?;
     check_len(height.len(), n, "height")?;
     check_len(ecef.len(), n, "ecef")?;
-    let inputs = latitude.iter().zip(longitude).zip(height).map(|((&lat, &lon), &h)| (lat, lon, h));
-    with_fast_kernels(|| forward_batch(model, inputs, ecef))
+    crate::fast_call!(forward_slices_fast, forward_slices, (model, latitude, longitude, height, ecef))
 }
+
+#[inline(always)]
+fn forward_slices(
+    model: &EarthModel,
+    latitude: &[f64],
+    longitude: &[f64],
+    height: &[f64],
+    ecef: &mut [[f64; 3]],
+) -> core::result::Result<(), BatchError> {
+    let inputs = latitude.iter().zip(longitude).zip(height).map(|((&lat, &lon), &h)| (lat, lon, h));
+    forward_batch(model, inputs, ecef)
+}
+crate::fast_twin!(fn forward_slices_fast(model: &EarthModel, latitude: &[f64], longitude: &[f64], height: &[f64], ecef: &mut [[f64; 3]]) -> core::result::Result<(), BatchError> = forward_slices);
 
 /// Converts a batch of geodetic positions into ECEF coordinates (m). Every input is validated
 /// before anything is written.
@@ -416,8 +444,14 @@ pub fn geodetic_to_ecef_many(
     ecef: &mut [[f64; 3]],
 ) -> core::result::Result<(), BatchError> {
     check_len(ecef.len(), positions.len(), "ecef")?;
-    with_fast_kernels(|| forward_batch(model, positions.iter().map(|g| (g.latitude, g.longitude, g.height)), ecef))
+    crate::fast_call!(forward_many_fast, forward_many, (model, positions, ecef))
 }
+
+#[inline(always)]
+fn forward_many(model: &EarthModel, positions: &[Geodetic], ecef: &mut [[f64; 3]]) -> core::result::Result<(), BatchError> {
+    forward_batch(model, positions.iter().map(|g| (g.latitude, g.longitude, g.height)), ecef)
+}
+crate::fast_twin!(fn forward_many_fast(model: &EarthModel, positions: &[Geodetic], ecef: &mut [[f64; 3]]) -> core::result::Result<(), BatchError> = forward_many);
 
 /// Converts a batch of ECEF points (m) into geodetic latitude, longitude (radians) and height
 /// (m), written to three slices. Every input is validated before anything is written.
@@ -438,9 +472,21 @@ pub fn ecef_to_geodetic_slices(
     check_len(latitude.len(), n, "latitude")?;
     check_len(longitude.len(), n, "longitude")?;
     check_len(height.len(), n, "height")?;
-    let outputs = latitude.iter_mut().zip(longitude.iter_mut()).zip(height.iter_mut()).map(|((a, b), c)| (a, b, c));
-    with_fast_kernels(|| inverse_batch(model, ecef, outputs))
+    crate::fast_call!(inverse_slices_fast, inverse_slices, (model, ecef, latitude, longitude, height))
 }
+
+#[inline(always)]
+fn inverse_slices(
+    model: &EarthModel,
+    ecef: &[[f64; 3]],
+    latitude: &mut [f64],
+    longitude: &mut [f64],
+    height: &mut [f64],
+) -> core::result::Result<(), BatchError> {
+    let outputs = latitude.iter_mut().zip(longitude.iter_mut()).zip(height.iter_mut()).map(|((a, b), c)| (a, b, c));
+    inverse_batch(model, ecef, outputs)
+}
+crate::fast_twin!(fn inverse_slices_fast(model: &EarthModel, ecef: &[[f64; 3]], latitude: &mut [f64], longitude: &mut [f64], height: &mut [f64]) -> core::result::Result<(), BatchError> = inverse_slices);
 
 /// Converts a batch of ECEF points (m) into geodetic positions. Every input is validated
 /// before anything is written.
@@ -455,6 +501,12 @@ pub fn ecef_to_geodetic_many(
     positions: &mut [Geodetic],
 ) -> core::result::Result<(), BatchError> {
     check_len(positions.len(), ecef.len(), "positions")?;
-    let outputs = positions.iter_mut().map(|g| (&mut g.latitude, &mut g.longitude, &mut g.height));
-    with_fast_kernels(|| inverse_batch(model, ecef, outputs))
+    crate::fast_call!(inverse_many_fast, inverse_many, (model, ecef, positions))
 }
+
+#[inline(always)]
+fn inverse_many(model: &EarthModel, ecef: &[[f64; 3]], positions: &mut [Geodetic]) -> core::result::Result<(), BatchError> {
+    let outputs = positions.iter_mut().map(|g| (&mut g.latitude, &mut g.longitude, &mut g.height));
+    inverse_batch(model, ecef, outputs)
+}
+crate::fast_twin!(fn inverse_many_fast(model: &EarthModel, ecef: &[[f64; 3]], positions: &mut [Geodetic]) -> core::result::Result<(), BatchError> = inverse_many);

@@ -48,7 +48,7 @@ use super::geodetic::{Geodetic, check_latitude, ecef_to_geodetic, geodetic_to_ec
 use super::local::ned_from_ecef;
 use super::model::EarthModel;
 use crate::apparent::{FrameDynamics, apparent_terms};
-use crate::error::{Error, Result};
+use crate::error::Result;
 use crate::limits;
 use crate::math;
 
@@ -56,7 +56,7 @@ use crate::math;
 /// formula (m/s²).
 ///
 /// # Errors
-/// [`Error::NonFinite`] or [`Error::OutOfRange`] for `latitude`.
+/// [`Error::NonFinite`](crate::Error::NonFinite) or [`Error::OutOfRange`](crate::Error::OutOfRange) for `latitude`.
 ///
 /// # Example
 /// ```
@@ -71,7 +71,7 @@ pub fn normal_gravity(model: &EarthModel, latitude: f64) -> Result<f64> {
     Ok(somigliana(model, s * s))
 }
 
-#[inline]
+#[inline(always)]
 fn somigliana(model: &EarthModel, sin2: f64) -> f64 {
     model.gamma_equator() * (1.0 + model.somigliana_k() * sin2) / math::sqrt(1.0 - model.eccentricity_squared() * sin2)
 }
@@ -80,7 +80,7 @@ fn somigliana(model: &EarthModel, sin2: f64) -> f64 {
 /// by the second-order height expansion of NIMA TR8350.2 (m/s²).
 ///
 /// # Errors
-/// [`Error::NonFinite`] or [`Error::OutOfRange`] naming the argument.
+/// [`Error::NonFinite`](crate::Error::NonFinite) or [`Error::OutOfRange`](crate::Error::OutOfRange) naming the argument.
 ///
 /// ```
 /// use approx::assert_relative_eq;
@@ -95,7 +95,7 @@ pub fn normal_gravity_at_height(model: &EarthModel, latitude: f64, height: f64) 
     Ok(normal_gravity_at_height_unchecked(model, s * s, height))
 }
 
-#[inline]
+#[inline(always)]
 pub(crate) fn normal_gravity_at_height_unchecked(model: &EarthModel, sin2: f64, height: f64) -> f64 {
     let a = model.semi_major_axis();
     let f = model.flattening();
@@ -116,10 +116,7 @@ pub fn gravity_ned(model: &EarthModel, latitude: f64, height: f64) -> Result<Vec
 /// mass only, and the formula is singular at the centre. Half the semi-minor axis keeps the
 /// whole of the physically meaningful region (and far below it) open.
 fn check_outside_core(model: &EarthModel, position_ecef: &Vector3<f64>) -> Result<()> {
-    limits::check_vector(position_ecef, limits::MAX_GEOCENTRIC_DISTANCE, "m", "position_ecef")?;
-    let distance = position_ecef.norm();
-    let limit = 0.5 * model.semi_minor_axis();
-    if distance < limit { Err(Error::NearEarthCentre { quantity: "position_ecef", distance, limit }) } else { Ok(()) }
+    super::geodetic::check_geocentric(position_ecef, 0.5 * model.semi_minor_axis(), "position_ecef")
 }
 
 /// The J₂ gravitation vector (no centrifugal part) at an ECEF position (m), resolved in ECEF
@@ -127,7 +124,7 @@ fn check_outside_core(model: &EarthModel, position_ecef: &Vector3<f64>) -> Resul
 /// resolved in [`Eci`](crate::frames::Eci) at an ECI position.
 ///
 /// # Errors
-/// [`Error::NonFinite`], or [`Error::NearEarthCentre`] within half the semi-minor axis of the
+/// [`Error::NonFinite`](crate::Error::NonFinite), or [`Error::NearEarthCentre`](crate::Error::NearEarthCentre) within half the semi-minor axis of the
 /// centre.
 ///
 /// ```
@@ -143,7 +140,7 @@ pub fn gravitation_ecef(model: &EarthModel, position_ecef: &Vector3<f64>) -> Res
     Ok(gravitation_unchecked(model, position_ecef))
 }
 
-#[inline]
+#[inline(always)]
 pub(crate) fn gravitation_unchecked(model: &EarthModel, r: &Vector3<f64>) -> Vector3<f64> {
     let r2 = r.norm_squared();
     let rn = math::sqrt(r2);
@@ -156,7 +153,7 @@ pub(crate) fn gravitation_unchecked(model: &EarthModel, r: &Vector3<f64>) -> Vec
 
 /// The centrifugal acceleration `−ω × (ω × r)` of a point fixed in ECEF, resolved in ECEF
 /// (m/s²), computed by [`apparent_terms`] with the Earth's rotation.
-#[inline]
+#[inline(always)]
 pub(crate) fn centrifugal_unchecked(model: &EarthModel, r: &Vector3<f64>) -> Vector3<f64> {
     let earth = FrameDynamics {
         angular_velocity: Vector3::new(0.0, 0.0, model.rotation_rate()),
@@ -243,7 +240,7 @@ impl GravityModel {
     /// For [`Normal`](Self::Normal) the position is first converted to geodetic coordinates.
     ///
     /// # Errors
-    /// [`Error::NonFinite`] or [`Error::NearEarthCentre`] naming `position_ecef`.
+    /// [`Error::NonFinite`](crate::Error::NonFinite) or [`Error::NearEarthCentre`](crate::Error::NearEarthCentre) naming `position_ecef`.
     ///
     /// ```
     /// use approx::assert_relative_eq;
@@ -289,7 +286,7 @@ impl GravityModel {
 /// `−γ(φ, h)` times the upward ellipsoidal normal `(cos φ x/p, cos φ y/p, sin φ)`, with
 /// `p = √(x² + y²)` (the normal's horizontal direction comes from the point itself, so no
 /// longitude is needed and the poles are regular).
-#[inline]
+#[inline(always)]
 pub(crate) fn normal_gravity_ecef_at(model: &EarthModel, position_ecef: &Vector3<f64>, geodetic: &Geodetic) -> Vector3<f64> {
     let (s, c) = math::sin_cos(geodetic.latitude);
     let gamma = normal_gravity_at_height_unchecked(model, s * s, geodetic.height);

@@ -160,7 +160,7 @@ pub fn radii_of_curvature(model: &EarthModel, latitude: f64) -> Result<RadiiOfCu
     Ok(radii_unchecked(model, math::sin(latitude)))
 }
 
-#[inline]
+#[inline(always)]
 pub(crate) fn radii_unchecked(model: &EarthModel, sin_lat: f64) -> RadiiOfCurvature {
     let w2 = 1.0 - model.eccentricity_squared() * sin_lat * sin_lat;
     let w = math::sqrt(w2);
@@ -186,7 +186,7 @@ pub fn earth_rate_ned(model: &EarthModel, latitude: f64) -> Result<Vector3<f64>>
     Ok(earth_rate_ned_unchecked(model, s, c))
 }
 
-#[inline]
+#[inline(always)]
 pub(crate) fn earth_rate_ned_unchecked(model: &EarthModel, sin_lat: f64, cos_lat: f64) -> Vector3<f64> {
     let w = model.rotation_rate();
     Vector3::new(w * cos_lat, 0.0, -w * sin_lat)
@@ -217,7 +217,7 @@ pub fn transport_rate_ned(model: &EarthModel, latitude: f64, height: f64, veloci
     Ok(transport_rate_unchecked(&radii_unchecked(model, s), s, c, height, velocity_ned))
 }
 
-#[inline]
+#[inline(always)]
 pub(crate) fn transport_rate_unchecked(
     radii: &RadiiOfCurvature,
     sin_lat: f64,

@@ -40,7 +40,10 @@ pub use imu::{
     increment_from_node_samples, quadrature_times,
 };
 pub use lever::{lever_arm_kinematics, lever_arm_state, sensor_mount};
-pub use recorded::{RecordedSample, RecordedSlices, RecordedTrajectory, SampleSource};
+pub use recorded::{
+    CartesianSamples, GeodeticPoses, PoseSource, RecordedSample, RecordedSlices, RecordedTrajectory, SampleSource, SampledMotion,
+    SegmentCache,
+};
 pub use sensor::{
     ImuErrorGenerator, ImuErrorModel, MAX_SENSOR_ERROR, SensorErrorModel, Xoshiro256PlusPlus,
     angle_random_walk_from_deg_per_sqrt_hour, velocity_random_walk_from_mps_per_sqrt_hour,

@@ -1,4 +1,11 @@
-//! IMU increments from recorded arrays of time, geodetic position and attitude.
+//! IMU increments from recorded arrays of time, geodetic position and attitude, and the
+//! interpolation of any sampled motion.
+//!
+//! The interpolator works on a [`PoseSource`]: times, the position of a frame's origin in its
+//! parent and the frame's attitude (and, optionally, their measured rates). Geodetic logs
+//! ([`RecordedTrajectory`]) are one source, relative to ECEF; Cartesian samples in any parent
+//! ([`CartesianSamples`]) are another, used by the frame graph's sampled edges
+//! ([`SampledMotion`]).
 //!
 //! Analysts hold logs, not closures. [`RecordedTrajectory`] turns samples `(t_k, φ_k, λ_k, h_k,
 //! q_k)` (`q_k` the body-to-NED attitude) into a motion of the body relative to ECEF that can
@@ -16,7 +23,10 @@
 //!    ends), with weights from Fornberg's algorithm for arbitrary spacing (B. Fornberg,
 //!    "Generation of finite difference formulas on arbitrarily spaced grids", *Math. Comp.* 51
 //!    (1988) 699–706). For smooth motion the estimates are accurate to `O(Δt⁶)` (first) and
-//!    `O(Δt⁵)` (second derivative).
+//!    `O(Δt⁵)` (second derivative). Where the source gives measured rates (velocity `v` and
+//!    angular velocity `ω`, both resolved in the parent) they are the first derivatives
+//!    (`ṗ = ½ ω ⊗ p` for the quaternion) and the second derivatives are the stencil's first
+//!    derivative of them.
 //! 3. Between samples each channel is the quintic Hermite polynomial matching value, first and
 //!    second derivative at both ends, so position, velocity and acceleration (and attitude,
 //!    angular velocity and angular acceleration) are continuous across samples.
@@ -47,7 +57,7 @@ use nalgebra::{Quaternion, UnitQuaternion, Vector3};
 
 use crate::earth::{EarthModel, Geodetic, earth_motion, ecef_from_ned_quaternion, geodetic_to_ecef};
 use crate::error::{BatchError, Error, Result};
-use crate::frames::{Ecef, Eci, Frame};
+use crate::frames::{AnyFrame, Ecef, Eci, Frame};
 use crate::motion::{FrameMotion, MotionParts};
 use crate::rotation::quaternion_from_wxyz;
 
@@ -78,6 +88,13 @@ pub trait SampleSource {
     /// Time of sample `index` (s).
     fn time(&self, index: usize) -> f64 {
         self.sample(index).time
+    }
+    /// Measured NED velocity relative to the Earth (m/s) and angular rate of the body
+    /// relative to the Earth, resolved in the body (rad/s), at sample `index`, if the log
+    /// has them (then they replace the derivatives estimated from positions and attitudes).
+    fn rates(&self, index: usize) -> Option<([f64; 3], [f64; 3])> {
+        let _ = index;
+        None
     }
 }
 
@@ -125,8 +142,280 @@ struct Segment {
     coefficients: [[f64; 6]; 7],
 }
 
-/// A twice-differentiable body trajectory through recorded samples; see the
-/// [module documentation](self).
+/// The poses of a sampled motion: at sample `k`, the time, the position of the child's origin
+/// relative to the parent (resolved in the parent, m) and the child-to-parent quaternion, and
+/// optionally measured rates. Implement it for whatever layout the samples are held in.
+pub trait PoseSource {
+    /// Number of samples.
+    fn len(&self) -> usize;
+    /// Whether there are no samples.
+    fn is_empty(&self) -> bool {
+        self.len() == 0
+    }
+    /// Time of sample `index` (s).
+    fn time(&self, index: usize) -> f64;
+    /// Position (m, in the parent) and child-to-parent quaternion (any sign, unit) of sample
+    /// `index`.
+    ///
+    /// # Errors
+    /// Any error of converting the sample (a bad position or attitude), naming the quantity.
+    fn pose(&self, index: usize) -> Result<(Vector3<f64>, Quaternion<f64>)>;
+    /// Measured velocity (m/s) and angular velocity (rad/s) of the child relative to the
+    /// parent, both resolved in the parent, at sample `index`, when the source has them.
+    ///
+    /// # Errors
+    /// Any error of converting the rates.
+    fn rates(&self, index: usize) -> Result<Option<(Vector3<f64>, Vector3<f64>)>> {
+        let _ = index;
+        Ok(None)
+    }
+}
+
+/// Cartesian samples in slices: times, positions in the parent, child-to-parent attitudes
+/// `[w, x, y, z]`, and optionally velocities (in the parent's axes) and angular rates (of the
+/// child relative to the parent, resolved in the **child**, as a gyro fixed in it would read
+/// them if the parent were inertial).
+///
+/// ```
+/// use rotaframe::nav::{CartesianSamples, SampledMotion};
+/// let t = [0.0, 1.0, 2.0, 3.0];
+/// let r = [[0.0, 0.0, 0.0], [1.0, 0.0, 0.0], [2.0, 0.0, 0.0], [3.0, 0.0, 0.0]];
+/// let q = [[1.0, 0.0, 0.0, 0.0]; 4];
+/// let mut path = SampledMotion::new(CartesianSamples { times: &t, positions: &r, attitudes: &q, velocities: None, angular_rates: None }).unwrap();
+/// let m = path.motion_at(1.5).unwrap();
+/// assert!((m.velocity().x - 1.0).abs() < 1e-12 && (m.position().x - 1.5).abs() < 1e-12);
+/// ```
+#[derive(Debug, Clone, Copy)]
+pub struct CartesianSamples<'a> {
+    /// Times (s), strictly increasing.
+    pub times: &'a [f64],
+    /// Positions of the child's origin relative to the parent, resolved in the parent (m).
+    pub positions: &'a [[f64; 3]],
+    /// Child-to-parent attitudes, Hamilton `[w, x, y, z]`.
+    pub attitudes: &'a [[f64; 4]],
+    /// Velocities relative to the parent, resolved in the parent (m/s), if measured.
+    pub velocities: Option<&'a [[f64; 3]]>,
+    /// Angular rates of the child relative to the parent, resolved in the child (rad/s), if
+    /// measured.
+    pub angular_rates: Option<&'a [[f64; 3]]>,
+}
+
+impl PoseSource for CartesianSamples<'_> {
+    fn len(&self) -> usize {
+        let mut n = self.times.len().min(self.positions.len()).min(self.attitudes.len());
+        if let Some(v) = self.velocities {
+            n = n.min(v.len());
+        }
+        if let Some(w) = self.angular_rates {
+            n = n.min(w.len());
+        }
+        n
+    }
+    fn time(&self, index: usize) -> f64 {
+        self.times[index]
+    }
+    fn pose(&self, index: usize) -> Result<(Vector3<f64>, Quaternion<f64>)> {
+        let r = Vector3::from(self.positions[index]);
+        crate::limits::check_vector(&r, crate::limits::MAX_POSITION, "m", "position")?;
+        Ok((r, quaternion_from_wxyz(self.attitudes[index], "attitude")?.into_inner()))
+    }
+    fn rates(&self, index: usize) -> Result<Option<(Vector3<f64>, Vector3<f64>)>> {
+        measured_rates(self.velocities.map(|v| v[index]), self.angular_rates.map(|w| w[index]), || {
+            quaternion_from_wxyz(self.attitudes[index], "attitude")
+        })
+    }
+}
+
+/// Measured rates in the parent's axes from a velocity (parent axes) and an angular rate (child
+/// axes, rotated by the child-to-parent `attitude`); both or neither must be given.
+fn measured_rates(
+    velocity: Option<[f64; 3]>,
+    angular_rate: Option<[f64; 3]>,
+    attitude: impl Fn() -> Result<UnitQuaternion<f64>>,
+) -> Result<Option<(Vector3<f64>, Vector3<f64>)>> {
+    match (velocity, angular_rate) {
+        (None, None) => Ok(None),
+        (Some(v), Some(w)) => {
+            let (v, w) = (Vector3::from(v), Vector3::from(w));
+            crate::limits::check_vector(&v, crate::limits::MAX_VELOCITY, "m/s", "velocity")?;
+            crate::limits::check_vector(&w, crate::limits::MAX_ANGULAR_VELOCITY, "rad/s", "angular_rate")?;
+            Ok(Some((v, attitude()? * w)))
+        }
+        (Some(_), None) => Err(Error::Invalid { quantity: "angular_rate", reason: "give velocities and angular rates together" }),
+        (None, Some(_)) => Err(Error::Invalid { quantity: "velocity", reason: "give velocities and angular rates together" }),
+    }
+}
+
+/// Geodetic samples (a [`SampleSource`]) as poses relative to ECEF: the ECEF position and the
+/// body-to-ECEF quaternion `q_en ⊗ q_nb` (and, where the source has them, the NED velocity
+/// and body rates rotated into ECEF).
+#[derive(Debug, Clone)]
+pub struct GeodeticPoses<S: SampleSource> {
+    /// The ellipsoid of the geodetic positions.
+    pub model: EarthModel,
+    /// The samples.
+    pub source: S,
+}
+
+impl<S: SampleSource> GeodeticPoses<S> {
+    fn body_to_ecef(&self, sample: &RecordedSample) -> Result<UnitQuaternion<f64>> {
+        let q_en = ecef_from_ned_quaternion(sample.position.latitude, sample.position.longitude)?;
+        Ok(q_en * quaternion_from_wxyz(sample.attitude, "attitude")?)
+    }
+}
+
+impl<S: SampleSource> PoseSource for GeodeticPoses<S> {
+    fn len(&self) -> usize {
+        self.source.len()
+    }
+    fn time(&self, index: usize) -> f64 {
+        self.source.time(index)
+    }
+    fn pose(&self, index: usize) -> Result<(Vector3<f64>, Quaternion<f64>)> {
+        let sample = self.source.sample(index);
+        let r = geodetic_to_ecef(&self.model, &sample.position)?;
+        Ok((r, self.body_to_ecef(&sample)?.into_inner()))
+    }
+    fn rates(&self, index: usize) -> Result<Option<(Vector3<f64>, Vector3<f64>)>> {
+        let Some((velocity_ned, body_rate)) = self.source.rates(index) else { return Ok(None) };
+        let sample = self.source.sample(index);
+        let q_en = ecef_from_ned_quaternion(sample.position.latitude, sample.position.longitude)?;
+        let v_ecef = q_en * Vector3::from(velocity_ned);
+        measured_rates(Some(v_ecef.into()), Some(body_rate), || self.body_to_ecef(&sample))
+    }
+}
+
+/// A twice-differentiable motion through sampled poses; see the [module documentation](self).
+/// It remembers the last interval it interpolated (`motion_at`), so that reading it at times
+/// in order costs one interpolant per interval.
+#[derive(Debug, Clone)]
+pub struct SampledMotion<P: PoseSource> {
+    poses: P,
+    cache: SegmentCache,
+}
+
+/// The interpolant of the interval last read, kept by the caller of
+/// [`SampledMotion::motion_cached`] (one per reader, so that a shared motion can be read in
+/// order by several).
+#[derive(Debug, Clone, Copy, Default)]
+pub struct SegmentCache(Option<Segment>);
+
+impl<P: PoseSource> SampledMotion<P> {
+    /// Checks the poses and wraps them: at least 3 samples, times finite, within
+    /// [`MAX_TIME`](crate::limits::MAX_TIME) and strictly increasing, every pose (and rate)
+    /// convertible.
+    ///
+    /// # Errors
+    /// [`BatchError`] with the index of the first bad sample; [`Error::LengthMismatch`]
+    /// naming `samples` (index 0) if there are fewer than 3.
+    pub fn new(poses: P) -> core::result::Result<Self, BatchError> {
+        let n = poses.len();
+        if n < 3 {
+            return Err(BatchError { index: 0, error: Error::LengthMismatch { quantity: "samples", found: n, expected: 3 } });
+        }
+        let mut previous = f64::NEG_INFINITY;
+        for index in 0..n {
+            let time = poses.time(index);
+            let check = || -> Result<()> {
+                crate::limits::check_scalar(time, crate::limits::MAX_TIME, "s", "time")?;
+                if time <= previous {
+                    return Err(Error::Invalid { quantity: "time", reason: "times must be strictly increasing" });
+                }
+                poses.pose(index)?;
+                poses.rates(index).map(|_| ())
+            };
+            check().map_err(|error| BatchError { index, error })?;
+            previous = time;
+        }
+        Ok(Self { poses, cache: SegmentCache::default() })
+    }
+
+    /// Wraps poses already checked by [`new`](Self::new) (for callers that keep the samples
+    /// and rebuild the wrapper per use, as the C interface does). Unchecked poses give errors
+    /// or unspecified motions, never undefined behaviour.
+    #[must_use]
+    pub fn new_unchecked(poses: P) -> Self {
+        Self { poses, cache: SegmentCache::default() }
+    }
+
+    /// The wrapped poses.
+    pub fn poses(&self) -> &P {
+        &self.poses
+    }
+
+    /// Time of the first sample (s).
+    pub fn start_time(&self) -> f64 {
+        self.poses.time(0)
+    }
+
+    /// Time of the last sample (s).
+    pub fn end_time(&self) -> f64 {
+        self.poses.time(self.poses.len() - 1)
+    }
+
+    /// The interval holding `time`, after checking that it lies within the record.
+    fn interval(&self, time: f64) -> Result<usize> {
+        let (t0, t1) = (self.start_time(), self.end_time());
+        crate::error::ensure_finite1(time, "time")?;
+        if !(t0..=t1).contains(&time) {
+            return Err(Error::OutOfRange { quantity: "time", value: time, min: t0, max: t1 });
+        }
+        let n = self.poses.len();
+        // Interval k holds [t_k, t_{k+1}]: the last k with t_k <= time, capped at n − 2.
+        let mut lo = 0;
+        let mut hi = n - 1;
+        while hi - lo > 1 {
+            let mid = (lo + hi) / 2;
+            if self.poses.time(mid) <= time { lo = mid } else { hi = mid }
+        }
+        Ok(lo.min(n - 2))
+    }
+
+    /// The interpolated motion of the child relative to the parent at `time` (s), within the
+    /// record (no extrapolation). Remembers the interval for the next call.
+    ///
+    /// # Errors
+    /// [`Error::OutOfRange`] naming `time` outside `[start_time, end_time]`;
+    /// [`Error::BeyondLimit`] naming the part of the motion (`velocity`, `angular_velocity`,
+    /// ...) when samples too close in time for their motion give rates beyond the
+    /// [`limits`](crate::limits).
+    pub fn motion_at(&mut self, time: f64) -> Result<FrameMotion<AnyFrame, AnyFrame>> {
+        let mut cache = self.cache;
+        let result = self.motion_cached(time, &mut cache);
+        self.cache = cache;
+        result
+    }
+
+    /// As [`motion_at`](Self::motion_at), with the memory of the last interval kept by the
+    /// caller.
+    ///
+    /// # Errors
+    /// As [`motion_at`](Self::motion_at).
+    pub fn motion_cached(&self, time: f64, cache: &mut SegmentCache) -> Result<FrameMotion<AnyFrame, AnyFrame>> {
+        let index = self.interval(time)?;
+        let segment = match cache.0 {
+            Some(s) if s.index == index => s,
+            _ => {
+                let s = segment(&self.poses, index)?;
+                cache.0 = Some(s);
+                s
+            }
+        };
+        segment.evaluate(time)
+    }
+
+    /// As [`motion_at`](Self::motion_at), without the memory of the last interval (for
+    /// shared, read-only use).
+    ///
+    /// # Errors
+    /// As [`motion_at`](Self::motion_at).
+    pub fn motion_at_once(&self, time: f64) -> Result<FrameMotion<AnyFrame, AnyFrame>> {
+        segment(&self.poses, self.interval(time)?)?.evaluate(time)
+    }
+}
+
+/// A twice-differentiable body trajectory through recorded geodetic samples, relative to
+/// ECEF; see the [module documentation](self).
 ///
 /// # Example
 /// A boat holding course and speed, logged at 10 Hz, read back between samples:
@@ -145,9 +434,7 @@ struct Segment {
 /// ```
 #[derive(Debug, Clone)]
 pub struct RecordedTrajectory<S: SampleSource> {
-    model: EarthModel,
-    source: S,
-    cache: Option<Segment>,
+    path: SampledMotion<GeodeticPoses<S>>,
 }
 
 impl<S: SampleSource> RecordedTrajectory<S> {
@@ -160,73 +447,30 @@ impl<S: SampleSource> RecordedTrajectory<S> {
     /// [`BatchError`] with the index of the first bad sample; [`Error::LengthMismatch`]
     /// naming `samples` (index 0) if there are fewer than 3.
     pub fn new(model: EarthModel, source: S) -> core::result::Result<Self, BatchError> {
-        let n = source.len();
-        if n < 3 {
-            return Err(BatchError { index: 0, error: Error::LengthMismatch { quantity: "samples", found: n, expected: 3 } });
-        }
-        let mut previous = f64::NEG_INFINITY;
-        for index in 0..n {
-            let s = source.sample(index);
-            let check = || -> Result<()> {
-                crate::limits::check_scalar(s.time, crate::limits::MAX_TIME, "s", "time")?;
-                if s.time <= previous {
-                    return Err(Error::Invalid { quantity: "time", reason: "times must be strictly increasing" });
-                }
-                s.position.validate_for(&model)?;
-                quaternion_from_wxyz(s.attitude, "attitude").map(|_| ())
-            };
-            check().map_err(|error| BatchError { index, error })?;
-            previous = s.time;
-        }
-        Ok(Self { model, source, cache: None })
+        Ok(Self { path: SampledMotion::new(GeodeticPoses { model, source })? })
     }
 
     /// The wrapped samples.
     pub fn source(&self) -> &S {
-        &self.source
+        &self.path.poses().source
     }
 
     /// Time of the first sample (s).
     pub fn start_time(&self) -> f64 {
-        self.source.time(0)
+        self.path.start_time()
     }
 
     /// Time of the last sample (s).
     pub fn end_time(&self) -> f64 {
-        self.source.time(self.source.len() - 1)
+        self.path.end_time()
     }
 
     /// The interpolated motion of the body relative to ECEF at `time` (s), within the record.
     ///
     /// # Errors
-    /// [`Error::OutOfRange`] naming `time` outside `[start_time, end_time]`;
-    /// [`Error::BeyondLimit`] naming the part of the motion (`velocity`, `angular_velocity`,
-    /// ...) when samples too close in time for their motion give rates beyond the
-    /// [`limits`](crate::limits).
+    /// As [`SampledMotion::motion_at`].
     pub fn motion_at<B: Frame>(&mut self, time: f64) -> Result<FrameMotion<Ecef, B>> {
-        let (t0, t1) = (self.start_time(), self.end_time());
-        crate::error::ensure_finite1(time, "time")?;
-        if !(t0..=t1).contains(&time) {
-            return Err(Error::OutOfRange { quantity: "time", value: time, min: t0, max: t1 });
-        }
-        let n = self.source.len();
-        // Interval k holds [t_k, t_{k+1}]: the last k with t_k <= time, capped at n − 2.
-        let mut lo = 0;
-        let mut hi = n - 1;
-        while hi - lo > 1 {
-            let mid = (lo + hi) / 2;
-            if self.source.time(mid) <= time { lo = mid } else { hi = mid }
-        }
-        let index = lo.min(n - 2);
-        let segment = match self.cache {
-            Some(s) if s.index == index => s,
-            _ => {
-                let s = self.segment(index)?;
-                self.cache = Some(s);
-                s
-            }
-        };
-        segment.evaluate(time)
+        Ok(self.path.motion_at(time)?.assume_frames())
     }
 
     /// The interpolated motion of the body relative to the inertial frame at `time`: ECEF's
@@ -238,68 +482,78 @@ impl<S: SampleSource> RecordedTrajectory<S> {
     /// As [`motion_at`](Self::motion_at).
     pub fn inertial_motion_at<B: Frame>(&mut self, time: f64) -> Result<FrameMotion<Eci, B>> {
         let body = self.motion_at::<B>(time)?;
-        Ok(earth_motion(&self.model, time - self.start_time(), 0.0)?.then(&body))
+        Ok(earth_motion(&self.path.poses().model, time - self.start_time(), 0.0)?.then(&body))
     }
+}
 
-    /// Value, first and second derivative of the seven channels at sample `k`, position
-    /// offsets taken from `origin`, quaternion sign aligned with `reference`.
-    fn knot(&self, k: usize, origin: &Vector3<f64>, reference: &Quaternion<f64>) -> Result<[[f64; 3]; 7]> {
-        let n = self.source.len();
-        let m = STENCIL.min(n);
-        let first = k.saturating_sub(STENCIL / 2).min(n - m);
-        let tk = self.source.time(k);
-        let mut offsets = [0.0; STENCIL];
-        let mut values = [[0.0; 7]; STENCIL];
-        for j in 0..m {
-            let sample = self.source.sample(first + j);
-            offsets[j] = sample.time - tk;
-            let (r, p) = self.channels(&sample)?;
-            let r = r - origin;
-            let p = if p.dot(reference) < 0.0 { -p } else { p };
-            values[j] = [r.x, r.y, r.z, p.w, p.i, p.j, p.k];
+/// Value, first and second derivative of the seven channels at sample `k`, position offsets
+/// taken from `origin`, quaternion sign aligned with `reference`.
+fn knot<P: PoseSource>(poses: &P, k: usize, origin: &Vector3<f64>, reference: &Quaternion<f64>) -> Result<[[f64; 3]; 7]> {
+    let n = poses.len();
+    let m = STENCIL.min(n);
+    let first = k.saturating_sub(STENCIL / 2).min(n - m);
+    let tk = poses.time(k);
+    let mut offsets = [0.0; STENCIL];
+    let mut values = [[0.0; 7]; STENCIL];
+    let mut rates = [[0.0; 7]; STENCIL];
+    let mut measured = true;
+    for j in 0..m {
+        offsets[j] = poses.time(first + j) - tk;
+        let (r, p) = poses.pose(first + j)?;
+        let r = r - origin;
+        let p = if p.dot(reference) < 0.0 { -p } else { p };
+        values[j] = [r.x, r.y, r.z, p.w, p.i, p.j, p.k];
+        match poses.rates(first + j)? {
+            Some((v, w)) if measured => {
+                // ṗ = ½ ω ⊗ p for ω resolved in the parent (p maps child to parent).
+                let p_dot = Quaternion::from_imag(w) * p * 0.5;
+                rates[j] = [v.x, v.y, v.z, p_dot.w, p_dot.i, p_dot.j, p_dot.k];
+            }
+            _ => measured = false,
         }
-        let weights = fornberg_weights(&offsets[..m]);
-        let centre = k - first;
-        let mut out = [[0.0; 3]; 7];
-        for (c, channel) in out.iter_mut().enumerate() {
-            channel[0] = values[centre][c];
+    }
+    let weights = fornberg_weights(&offsets[..m]);
+    let centre = k - first;
+    let mut out = [[0.0; 3]; 7];
+    for (c, channel) in out.iter_mut().enumerate() {
+        channel[0] = values[centre][c];
+        if measured {
+            channel[1] = rates[centre][c];
+            for j in 0..m {
+                channel[2] += weights[1][j] * (rates[j][c] - rates[centre][c]);
+            }
+        } else {
             for j in 0..m {
                 channel[1] += weights[1][j] * (values[j][c] - values[centre][c]);
                 channel[2] += weights[2][j] * (values[j][c] - values[centre][c]);
             }
         }
-        Ok(out)
     }
+    Ok(out)
+}
 
-    /// ECEF position and body-to-ECEF quaternion of a sample.
-    fn channels(&self, sample: &RecordedSample) -> Result<(Vector3<f64>, Quaternion<f64>)> {
-        let r = geodetic_to_ecef(&self.model, &sample.position)?;
-        let q_en = ecef_from_ned_quaternion(sample.position.latitude, sample.position.longitude)?;
-        let q_nb = quaternion_from_wxyz(sample.attitude, "attitude")?;
-        Ok((r, (q_en * q_nb).into_inner()))
+/// The quintic Hermite interpolant of interval `index` (between samples `index` and
+/// `index + 1`).
+fn segment<P: PoseSource>(poses: &P, index: usize) -> Result<Segment> {
+    let (origin, p0) = poses.pose(index)?;
+    let (_, p1) = poses.pose(index + 1)?;
+    let p1 = if p1.dot(&p0) < 0.0 { -p1 } else { p1 };
+    let a = knot(poses, index, &origin, &p0)?;
+    let b = knot(poses, index + 1, &origin, &p1)?;
+    let start = poses.time(index);
+    let length = poses.time(index + 1) - start;
+    let mut coefficients = [[0.0; 6]; 7];
+    for c in 0..7 {
+        coefficients[c] = quintic_hermite(
+            [a[c][0], a[c][1] * length, a[c][2] * length * length],
+            [b[c][0], b[c][1] * length, b[c][2] * length * length],
+        );
     }
-
-    fn segment(&self, index: usize) -> Result<Segment> {
-        let (origin, p0) = self.channels(&self.source.sample(index))?;
-        let (_, p1) = self.channels(&self.source.sample(index + 1))?;
-        let p1 = if p1.dot(&p0) < 0.0 { -p1 } else { p1 };
-        let a = self.knot(index, &origin, &p0)?;
-        let b = self.knot(index + 1, &origin, &p1)?;
-        let start = self.source.time(index);
-        let length = self.source.time(index + 1) - start;
-        let mut coefficients = [[0.0; 6]; 7];
-        for c in 0..7 {
-            coefficients[c] = quintic_hermite(
-                [a[c][0], a[c][1] * length, a[c][2] * length * length],
-                [b[c][0], b[c][1] * length, b[c][2] * length * length],
-            );
-        }
-        Ok(Segment { index, start, length, origin, coefficients })
-    }
+    Ok(Segment { index, start, length, origin, coefficients })
 }
 
 impl Segment {
-    fn evaluate<B: Frame>(&self, time: f64) -> Result<FrameMotion<Ecef, B>> {
+    fn evaluate(&self, time: f64) -> Result<FrameMotion<AnyFrame, AnyFrame>> {
         let u = (time - self.start) / self.length;
         let (inv, inv2) = (1.0 / self.length, 1.0 / (self.length * self.length));
         let mut value = [0.0; 7];

@@ -88,8 +88,7 @@
 use nalgebra::{UnitQuaternion, Vector3};
 
 use super::imu::ImuIncrement;
-use crate::dispatch::with_fast_kernels;
-use crate::earth::geodetic::{check_ecef, inverse_unchecked};
+use crate::earth::geodetic::{check_geocentric, inverse_unchecked};
 use crate::earth::gravity::{normal_gravity_at_height_unchecked, normal_gravity_ecef_at};
 use crate::earth::local::{check_away_from_pole, earth_rate_ned_unchecked, radii_unchecked, transport_rate_unchecked};
 use crate::earth::{EarthModel, Geodetic, GravityModel, ecef_from_ned_quaternion, geodetic_to_ecef};
@@ -452,7 +451,7 @@ impl Strapdown {
     /// ends within [`POLE_EXCLUSION`](crate::earth::POLE_EXCLUSION) of a pole; [`Error::NearEarthCentre`] (ECEF form) if the
     /// position leaves the region where gravity is defined.
     pub fn step(&mut self, increment: &ImuIncrement) -> Result<()> {
-        with_fast_kernels(|| self.step_on_this_cpu(increment))
+        crate::fast_call!(step_fast, step_body, (self, increment))
     }
 
     /// The body of [`step`](Self::step), inlined into both CPU code paths.
@@ -658,6 +657,13 @@ impl Strapdown {
     }
 }
 
+/// The body of [`Strapdown::step`], inlined into both CPU code paths.
+#[inline(always)]
+fn step_body(stepper: &mut Strapdown, increment: &ImuIncrement) -> Result<()> {
+    stepper.step_on_this_cpu(increment)
+}
+crate::fast_twin!(fn step_fast(stepper: &mut Strapdown, increment: &ImuIncrement) -> Result<()> = step_body);
+
 /// One interval's body motion after the coning, rotation and sculling corrections.
 struct BodyStep {
     /// Rotation vector of `b(k)` relative to `b(k−1)` (rad).
@@ -669,6 +675,7 @@ struct BodyStep {
 }
 
 /// The two-sample coning and sculling corrections; see the [module documentation](self).
+#[inline(always)]
 fn corrected_increments(increment: &ImuIncrement, previous: Option<&ImuIncrement>) -> BodyStep {
     let (dtheta, dv) = (&increment.delta_angle, &increment.delta_velocity);
     let mut phi = *dtheta;
@@ -688,6 +695,7 @@ fn corrected_increments(increment: &ImuIncrement, previous: Option<&ImuIncrement
 /// `∫ C(t) f dt` for a constant rate and specific force over the interval is
 /// `Δv + (1 − cos θ)/θ² Δθ × Δv + (θ − sin θ)/θ³ Δθ × (Δθ × Δv)`. Taylor series below
 /// θ = 0.05 rad, where they are exact to rounding (next terms θ⁶/40320 and θ⁶/362880).
+#[inline(always)]
 fn rotation_compensation_factors(theta2: f64) -> (f64, f64) {
     if theta2 < 0.0025 {
         (0.5 - theta2 / 24.0 + theta2 * theta2 / 720.0, 1.0 / 6.0 - theta2 / 120.0 + theta2 * theta2 / 5040.0)
@@ -701,18 +709,21 @@ fn rotation_compensation_factors(theta2: f64) -> (f64, f64) {
 /// An ECEF navigation position: within [`MAX_GEOCENTRIC_DISTANCE`](limits::MAX_GEOCENTRIC_DISTANCE)
 /// of the centre and at least half the semi-minor axis from it (the inner limit of
 /// [`limits`], which also bounds the heights of the NED form).
+#[inline(always)]
 fn check_position_ecef(model: &EarthModel, position: &Vector3<f64>) -> Result<()> {
-    check_ecef(model, position, "position_ecef")?;
-    let (distance, limit) = (position.norm(), 0.5 * model.semi_minor_axis());
-    if distance < limit { Err(Error::NearEarthCentre { quantity: "position_ecef", distance, limit }) } else { Ok(()) }
+    // Half the semi-minor axis is far outside the centre region of geodetic non-uniqueness, so
+    // one check covers both.
+    check_geocentric(position, (0.5 * model.semi_minor_axis()).max(model.centre_exclusion_radius()), "position_ecef")
 }
 
 /// `C_n^e` for a validated geodetic position.
+#[inline(always)]
 fn ned_quaternion(position: &Geodetic) -> UnitQuaternion<f64> {
     ecef_from_ned_quaternion(position.latitude, position.longitude).unwrap_or_else(|_| UnitQuaternion::identity())
 }
 
 /// The upward ellipsoidal normal, resolved in ECEF.
+#[inline(always)]
 fn up_direction(position: &Geodetic) -> Vector3<f64> {
     let (s, c) = math::sin_cos(position.latitude);
     let (so, co) = math::sin_cos(position.longitude);
@@ -720,11 +731,13 @@ fn up_direction(position: &Geodetic) -> Vector3<f64> {
 }
 
 /// Renormalises a quaternion product (each product adds about an ulp of norm error).
+#[inline(always)]
 fn renormalise(q: UnitQuaternion<f64>) -> UnitQuaternion<f64> {
     UnitQuaternion::new_normalize(q.into_inner())
 }
 
 /// Brings a longitude that has just crossed ±π back into (−π, π].
+#[inline(always)]
 fn wrap_longitude(longitude: f64) -> f64 {
     use core::f64::consts::{PI, TAU};
     if longitude > PI {

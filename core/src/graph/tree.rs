@@ -1,0 +1,825 @@
+//! The named, owned frame graph (feature `alloc`).
+
+use alloc::boxed::Box;
+use alloc::string::{String, ToString};
+use alloc::vec::Vec;
+use core::fmt;
+
+use nalgebra::Vector3;
+
+use super::{EarthRotation, Fixed, FrameId, FrameTree, GraphFault, Motion, Path, Site, Spin, StaticEdge};
+use crate::apparent::{ApparentAcceleration, FrameDynamics, apparent_terms};
+use crate::earth::{EarthModel, Geodetic, ecef_from_ned_quaternion, geodetic_to_ecef};
+use crate::error::{BatchError, Error, Result};
+use crate::frames::{AnyFrame, PointKinematics};
+use crate::nav::{CartesianSamples, PoseSource, SampledMotion, SegmentCache};
+use crate::rotation::quaternion_from_wxyz;
+
+/// A user's edge: the motion of the child relative to the parent at a time (s).
+pub type EdgeFunction = Box<dyn Fn(f64) -> Result<Motion> + Send + Sync>;
+
+/// One geodetic sample in ECEF: position, body-to-ECEF quaternion, ECEF velocity if given.
+type ConvertedSample = ([f64; 3], [f64; 4], Option<[f64; 3]>);
+
+/// How a sampled edge's positions were given.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum SamplesKind {
+    /// Geodetic positions and body-to-NED attitudes, relative to the Earth-fixed frame
+    /// (converted to ECEF positions and body-to-ECEF attitudes when attached).
+    Geodetic,
+    /// Cartesian positions and child-to-parent attitudes, in the parent.
+    Cartesian,
+}
+
+/// Sampled poses held by a graph, in the parent's coordinates (see [`CartesianSamples`] for
+/// the meaning of each array).
+#[derive(Debug, Clone, PartialEq)]
+struct OwnedPoses {
+    times: Vec<f64>,
+    positions: Vec<[f64; 3]>,
+    attitudes: Vec<[f64; 4]>,
+    velocities: Option<Vec<[f64; 3]>>,
+    angular_rates: Option<Vec<[f64; 3]>>,
+}
+
+impl OwnedPoses {
+    fn view(&self) -> CartesianSamples<'_> {
+        CartesianSamples {
+            times: &self.times,
+            positions: &self.positions,
+            attitudes: &self.attitudes,
+            velocities: self.velocities.as_deref(),
+            angular_rates: self.angular_rates.as_deref(),
+        }
+    }
+}
+
+impl PoseSource for OwnedPoses {
+    fn len(&self) -> usize {
+        self.view().len()
+    }
+    fn time(&self, index: usize) -> f64 {
+        self.times[index]
+    }
+    fn pose(&self, index: usize) -> Result<(Vector3<f64>, nalgebra::Quaternion<f64>)> {
+        self.view().pose(index)
+    }
+    fn rates(&self, index: usize) -> Result<Option<(Vector3<f64>, Vector3<f64>)>> {
+        self.view().rates(index)
+    }
+}
+
+/// A logged motion attached to a graph: samples interpolated by
+/// [`SampledMotion`](crate::nav::SampledMotion) (no extrapolation outside their span).
+#[derive(Debug, Clone, PartialEq)]
+pub struct SampledEdge {
+    kind: SamplesKind,
+    motion: SampledMotion<OwnedPoses>,
+}
+
+impl PartialEq for SampledMotion<OwnedPoses> {
+    fn eq(&self, other: &Self) -> bool {
+        self.poses() == other.poses()
+    }
+}
+
+impl SampledEdge {
+    /// Cartesian samples in the parent: times (s, strictly increasing), positions (m),
+    /// child-to-parent attitudes `[w, x, y, z]`, and optionally velocities (m/s, parent axes)
+    /// and angular rates (rad/s, of the child relative to the parent, in child axes), both or
+    /// neither.
+    ///
+    /// # Errors
+    /// [`BatchError`] with the index of the first bad sample (as
+    /// [`SampledMotion::new`](crate::nav::SampledMotion::new)); [`Error::LengthMismatch`] if
+    /// the arrays differ in length.
+    pub fn cartesian(
+        times: Vec<f64>,
+        positions: Vec<[f64; 3]>,
+        attitudes: Vec<[f64; 4]>,
+        velocities: Option<Vec<[f64; 3]>>,
+        angular_rates: Option<Vec<[f64; 3]>>,
+    ) -> core::result::Result<Self, BatchError> {
+        let n = times.len();
+        let lengths = [
+            ("positions", positions.len()),
+            ("attitudes", attitudes.len()),
+            ("velocities", velocities.as_ref().map_or(n, Vec::len)),
+            ("angular_rates", angular_rates.as_ref().map_or(n, Vec::len)),
+        ];
+        for (quantity, found) in lengths {
+            if found != n {
+                return Err(BatchError { index: 0, error: Error::LengthMismatch { quantity, found, expected: n } });
+            }
+        }
+        let poses = OwnedPoses { times, positions, attitudes, velocities, angular_rates };
+        Ok(Self { kind: SamplesKind::Cartesian, motion: SampledMotion::new(poses)? })
+    }
+
+    /// Geodetic samples relative to the Earth-fixed frame of `model`: times (s), positions,
+    /// body-to-NED attitudes `[w, x, y, z]`, and optionally NED velocities relative to the
+    /// Earth (m/s) and body rates relative to the Earth in body axes (rad/s). They are
+    /// converted to ECEF positions and body-to-ECEF attitudes here, as
+    /// [`RecordedTrajectory`](crate::nav::RecordedTrajectory) does.
+    ///
+    /// # Errors
+    /// As [`cartesian`](Self::cartesian), the index that of the bad sample.
+    pub fn geodetic(
+        model: &EarthModel,
+        times: Vec<f64>,
+        positions: &[Geodetic],
+        attitudes: &[[f64; 4]],
+        velocities_ned: Option<&[[f64; 3]]>,
+        angular_rates: Option<&[[f64; 3]]>,
+    ) -> core::result::Result<Self, BatchError> {
+        let n = times.len();
+        let lengths = [
+            ("positions", positions.len()),
+            ("attitudes", attitudes.len()),
+            ("velocities", velocities_ned.map_or(n, <[_]>::len)),
+            ("angular_rates", angular_rates.map_or(n, <[_]>::len)),
+        ];
+        for (quantity, found) in lengths {
+            if found != n {
+                return Err(BatchError { index: 0, error: Error::LengthMismatch { quantity, found, expected: n } });
+            }
+        }
+        let mut ecef = Vec::with_capacity(n);
+        let mut body_to_ecef = Vec::with_capacity(n);
+        let mut velocities = velocities_ned.map(|_| Vec::with_capacity(n));
+        for (index, (position, attitude)) in positions.iter().zip(attitudes).enumerate() {
+            let convert = || -> Result<ConvertedSample> {
+                let r = geodetic_to_ecef(model, position)?;
+                let q_en = ecef_from_ned_quaternion(position.latitude, position.longitude)?;
+                let q = (q_en * quaternion_from_wxyz(*attitude, "attitude")?).into_inner();
+                let v = velocities_ned.map(|v| (q_en * Vector3::from(v[index])).into());
+                Ok((r.into(), [q.w, q.i, q.j, q.k], v))
+            };
+            let (r, q, v) = convert().map_err(|error| BatchError { index, error })?;
+            ecef.push(r);
+            body_to_ecef.push(q);
+            if let (Some(vs), Some(v)) = (velocities.as_mut(), v) {
+                vs.push(v);
+            }
+        }
+        let mut edge = Self::cartesian(times, ecef, body_to_ecef, velocities, angular_rates.map(<[_]>::to_vec))?;
+        edge.kind = SamplesKind::Geodetic;
+        Ok(edge)
+    }
+
+    /// How the samples were given.
+    #[must_use]
+    pub fn kind(&self) -> SamplesKind {
+        self.kind
+    }
+
+    /// The samples as held (in the parent's coordinates: ECEF for geodetic samples).
+    #[must_use]
+    pub fn samples(&self) -> CartesianSamples<'_> {
+        self.motion.poses().view()
+    }
+
+    /// Time of the first and last sample (s).
+    #[must_use]
+    pub fn span(&self) -> (f64, f64) {
+        (self.motion.start_time(), self.motion.end_time())
+    }
+
+    /// The interpolated motion at `time` (within the span), reusing `cache`.
+    ///
+    /// # Errors
+    /// As [`SampledMotion::motion_at`](crate::nav::SampledMotion::motion_at).
+    pub fn motion_at(&self, time: f64, cache: &mut SegmentCache) -> Result<Motion> {
+        self.motion.motion_cached(time, cache)
+    }
+}
+
+/// A frame whose motion a configuration file names but does not hold; it is supplied in code
+/// ([`FrameGraph::add_samples`], [`FrameGraph::add_function`] on the same name and parent).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Declared {
+    /// To be attached with samples.
+    Samples,
+    /// To be attached with a function.
+    Function,
+}
+
+/// The edge of a frame of a [`FrameGraph`], as the graph holds it.
+// A graph holds a handful of frames and reads a static edge on every query: keeping it inline
+// saves a pointer chase per edge per time, at the cost of a few hundred bytes per frame.
+#[allow(clippy::large_enum_variant)]
+pub enum Edge {
+    /// The root has no edge.
+    Root,
+    /// A fixed, spin, Earth or site edge.
+    Static(StaticEdge),
+    /// A logged motion.
+    Sampled(SampledEdge),
+    /// A user's function.
+    Function(EdgeFunction),
+    /// A user's function evaluated by the caller (a binding whose functions live in another
+    /// language); [`FrameGraph::motions_each`] asks for its motion.
+    External,
+    /// Declared in a configuration, not attached yet.
+    Declared(Declared),
+}
+
+impl fmt::Debug for Edge {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            Edge::Root => f.write_str("Root"),
+            Edge::Static(s) => f.debug_tuple("Static").field(s).finish(),
+            Edge::Sampled(s) => f.debug_tuple("Sampled").field(&s.kind).field(&s.span()).finish(),
+            Edge::Function(_) => f.write_str("Function"),
+            Edge::External => f.write_str("External"),
+            Edge::Declared(d) => f.debug_tuple("Declared").field(d).finish(),
+        }
+    }
+}
+
+impl Edge {
+    /// The kind's name, as messages and configuration files spell it.
+    #[must_use]
+    pub fn kind_name(&self) -> &'static str {
+        match self {
+            Edge::Root => "root",
+            Edge::Static(s) => s.kind_name(),
+            Edge::Sampled(_) | Edge::Declared(Declared::Samples) => "samples",
+            Edge::Function(_) | Edge::External | Edge::Declared(Declared::Function) => "function",
+        }
+    }
+}
+
+#[derive(Debug)]
+struct Entry {
+    name: String,
+    parent: Option<FrameId>,
+    edge: Edge,
+}
+
+/// A tree of named frames over time; see the [module documentation](super).
+///
+/// Frames are added under existing parents, so the tree never has a cycle; the root is frame
+/// 0. Declare the root inertial when it neither rotates nor accelerates (an Earth-centred
+/// inertial frame, a laboratory over a short test): then
+/// [`apparent_acceleration`](Self::apparent_acceleration) is available in every frame.
+#[derive(Debug)]
+pub struct FrameGraph {
+    inertial: bool,
+    frames: Vec<Entry>,
+}
+
+/// Why a graph operation failed, naming frames.
+#[derive(Debug, Clone, PartialEq)]
+#[non_exhaustive]
+pub enum GraphError {
+    /// A frame name not in the graph.
+    UnknownFrame {
+        /// The name given.
+        name: String,
+        /// The graph's names closest to it (by edit distance), for "did you mean".
+        nearest: Vec<String>,
+    },
+    /// A frame name already in the graph.
+    DuplicateName {
+        /// The name.
+        name: String,
+    },
+    /// A frame name that is empty or holds control characters.
+    BadName {
+        /// The name.
+        name: String,
+    },
+    /// Parent links that loop (in a configuration file).
+    Cycle {
+        /// The frames on the loop.
+        frames: Vec<String>,
+    },
+    /// Two frames with no common ancestor.
+    DifferentTrees {
+        /// The query's parent frame.
+        parent: String,
+        /// The query's child frame.
+        child: String,
+    },
+    /// A frame too deep below the root.
+    TooDeep {
+        /// The frame.
+        name: String,
+    },
+    /// Apparent accelerations asked of a graph whose root is not inertial.
+    NotInertial {
+        /// The root's name.
+        root: String,
+    },
+    /// A frame declared in a configuration file whose motion is not attached yet.
+    Unattached {
+        /// The frame.
+        name: String,
+        /// What it waits for: `"samples"` or `"function"`.
+        kind: &'static str,
+    },
+    /// Geodetic samples under a parent that is not an Earth-fixed frame.
+    NotEarthFixed {
+        /// The frame being added.
+        name: String,
+        /// Its parent.
+        parent: String,
+    },
+    /// An edge's motion could not be evaluated (a time outside a sampled edge's span, a bad
+    /// value from a function edge), or an edge's parameters were refused.
+    Edge {
+        /// The frame.
+        name: String,
+        /// The position in a batch of times, if the query was batched.
+        index: Option<usize>,
+        /// Why.
+        error: Error,
+    },
+    /// A configuration file that cannot be read.
+    Config {
+        /// The line (1-based) the problem is on, when known.
+        line: Option<usize>,
+        /// What is wrong.
+        message: String,
+    },
+}
+
+impl fmt::Display for GraphError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            GraphError::UnknownFrame { name, nearest } => {
+                write!(f, "no frame named {name:?}")?;
+                match nearest.as_slice() {
+                    [] => Ok(()),
+                    [one] => write!(f, " (did you mean {one:?}?)"),
+                    many => {
+                        let quoted: Vec<String> = many.iter().map(|n| alloc::format!("{n:?}")).collect();
+                        write!(f, " (did you mean one of {}?)", quoted.join(", "))
+                    }
+                }
+            }
+            GraphError::DuplicateName { name } => write!(f, "a frame named {name:?} is already in the graph"),
+            GraphError::BadName { name } => write!(f, "frame name {name:?} must be non-empty and hold no control characters"),
+            GraphError::Cycle { frames } => write!(f, "the parents of frames {} form a loop", frames.join(" → ")),
+            GraphError::DifferentTrees { parent, child } => {
+                write!(f, "frames {parent:?} and {child:?} have no common ancestor")
+            }
+            GraphError::TooDeep { name } => write!(f, "frame {name:?} is more than {} edges below the root", super::MAX_DEPTH),
+            GraphError::NotInertial { root } => write!(
+                f,
+                "the graph's root {root:?} is not declared inertial, so its frames have no apparent accelerations (build the graph with an inertial root)"
+            ),
+            GraphError::Unattached { name, kind } => write!(
+                f,
+                "frame {name:?} has no motion yet: attach its {kind} in code (add_{kind} with the same name and parent)"
+            ),
+            GraphError::NotEarthFixed { name, parent } => write!(
+                f,
+                "frame {name:?}: geodetic samples are relative to an Earth-fixed frame, but its parent {parent:?} is not one (add it under the frame added with add_earth, or give Cartesian positions)"
+            ),
+            GraphError::Edge { name, index: Some(i), error } => write!(f, "frame {name:?}, at time index {i}: {error}"),
+            GraphError::Edge { name, index: None, error } => write!(f, "frame {name:?}: {error}"),
+            GraphError::Config { line: Some(line), message } => write!(f, "frame graph file, line {line}: {message}"),
+            GraphError::Config { line: None, message } => write!(f, "frame graph file: {message}"),
+        }
+    }
+}
+
+impl core::error::Error for GraphError {}
+
+/// A short result alias.
+type GraphResult<T> = core::result::Result<T, GraphError>;
+
+impl FrameTree for FrameGraph {
+    fn frame_count(&self) -> usize {
+        self.frames.len()
+    }
+    fn parent_of(&self, frame: FrameId) -> Option<FrameId> {
+        self.frames[frame].parent
+    }
+}
+
+/// Edit distance between two names (Levenshtein, by characters).
+fn edit_distance(a: &str, b: &str) -> usize {
+    let b: Vec<char> = b.chars().collect();
+    let mut row: Vec<usize> = (0..=b.len()).collect();
+    for (i, ca) in a.chars().enumerate() {
+        let mut diagonal = row[0];
+        row[0] = i + 1;
+        for (j, &cb) in b.iter().enumerate() {
+            let above = row[j + 1];
+            row[j + 1] = (diagonal + usize::from(ca != cb)).min(row[j] + 1).min(above + 1);
+            diagonal = above;
+        }
+    }
+    row[b.len()]
+}
+
+impl FrameGraph {
+    /// A graph holding only its root frame, `root`, declared inertial or not.
+    ///
+    /// ```
+    /// let g = rotaframe::graph::FrameGraph::new("lab", true);
+    /// assert_eq!(g.frames().collect::<Vec<_>>(), ["lab"]);
+    /// ```
+    #[must_use]
+    pub fn new(root: &str, inertial: bool) -> Self {
+        Self { inertial, frames: alloc::vec![Entry { name: root.to_string(), parent: None, edge: Edge::Root }] }
+    }
+
+    /// Whether the root is declared inertial.
+    #[must_use]
+    pub fn is_inertial(&self) -> bool {
+        self.inertial
+    }
+
+    /// The root's name.
+    #[must_use]
+    pub fn root(&self) -> &str {
+        &self.frames[0].name
+    }
+
+    /// The frames' names, root first, in the order they were added.
+    pub fn frames(&self) -> impl Iterator<Item = &str> {
+        self.frames.iter().map(|e| e.name.as_str())
+    }
+
+    /// The index of the frame `name`.
+    ///
+    /// # Errors
+    /// [`GraphError::UnknownFrame`], with the nearest names.
+    pub fn id(&self, name: &str) -> GraphResult<FrameId> {
+        if let Some(i) = self.frames.iter().position(|e| e.name == name) {
+            return Ok(i);
+        }
+        let mut scored: Vec<(usize, &str)> =
+            self.frames.iter().map(|e| (edit_distance(name, &e.name), e.name.as_str())).collect();
+        scored.sort_by_key(|&(d, n)| (d, n.len()));
+        // Close by edit distance, or holding the name given (`imu` for `imu_front`).
+        let threshold = (name.chars().count() / 3).max(2);
+        let lower = name.to_lowercase();
+        let nearest = scored
+            .iter()
+            .filter(|(d, n)| *d <= threshold || (!lower.is_empty() && n.to_lowercase().contains(&lower)))
+            .take(3)
+            .map(|(_, n)| (*n).to_string())
+            .collect();
+        Err(GraphError::UnknownFrame { name: name.to_string(), nearest })
+    }
+
+    /// The name of frame `id` (panics for an index not from this graph).
+    #[must_use]
+    pub fn name(&self, id: FrameId) -> &str {
+        &self.frames[id].name
+    }
+
+    /// The parent of frame `name` (`None` for the root).
+    ///
+    /// # Errors
+    /// [`GraphError::UnknownFrame`].
+    pub fn parent_of(&self, name: &str) -> GraphResult<Option<&str>> {
+        Ok(self.frames[self.id(name)?].parent.map(|p| self.frames[p].name.as_str()))
+    }
+
+    /// The edge that attaches frame `name` to its parent.
+    ///
+    /// # Errors
+    /// [`GraphError::UnknownFrame`].
+    pub fn edge(&self, name: &str) -> GraphResult<&Edge> {
+        Ok(&self.frames[self.id(name)?].edge)
+    }
+
+    /// The frames from `from` to `to` through their lowest common ancestor, both ends
+    /// included.
+    ///
+    /// # Errors
+    /// [`GraphError::UnknownFrame`]; [`GraphError::TooDeep`].
+    pub fn path(&self, from: &str, to: &str) -> GraphResult<Vec<&str>> {
+        let path = self.find_path(self.id(from)?, self.id(to)?)?;
+        let mut names: Vec<&str> = path.up().iter().map(|&f| self.name(f)).collect();
+        names.push(self.name(path.ancestor()));
+        names.extend(path.down().iter().map(|&f| self.name(f)));
+        Ok(names)
+    }
+
+    /// The path between two frames by index.
+    ///
+    /// # Errors
+    /// As [`Path::between`], with names.
+    pub fn find_path(&self, parent: FrameId, child: FrameId) -> GraphResult<Path> {
+        Path::between(self, parent, child).map_err(|fault| self.named(fault, None))
+    }
+
+    /// A [`GraphFault`] with names (and the batch index, if any).
+    fn named(&self, fault: GraphFault, index: Option<usize>) -> GraphError {
+        let name = |f: FrameId| self.frames.get(f).map_or_else(|| alloc::format!("#{f}"), |e| e.name.clone());
+        match fault {
+            GraphFault::UnknownFrame { frame } => GraphError::UnknownFrame { name: name(frame), nearest: Vec::new() },
+            GraphFault::DifferentTrees { parent, child } => {
+                GraphError::DifferentTrees { parent: name(parent), child: name(child) }
+            }
+            GraphFault::TooDeep { frame } => GraphError::TooDeep { name: name(frame) },
+            GraphFault::NotInertial => GraphError::NotInertial { root: name(0) },
+            GraphFault::Unattached { frame } => GraphError::Unattached {
+                name: name(frame),
+                kind: self.frames.get(frame).map_or("samples", |e| e.edge.kind_name()),
+            },
+            GraphFault::Edge { frame, error } => GraphError::Edge { name: name(frame), index, error },
+        }
+    }
+
+    fn check_new_name(&self, name: &str) -> GraphResult<()> {
+        if name.is_empty() || name.chars().any(char::is_control) {
+            return Err(GraphError::BadName { name: name.to_string() });
+        }
+        if self.frames.iter().any(|e| e.name == name) {
+            return Err(GraphError::DuplicateName { name: name.to_string() });
+        }
+        Ok(())
+    }
+
+    /// Adds (or, for a frame declared by a configuration file with the same parent,
+    /// attaches) frame `name` under `parent` with `edge`.
+    fn insert(&mut self, name: &str, parent: &str, edge: Edge) -> GraphResult<FrameId> {
+        let parent_id = self.id(parent)?;
+        if let Some(i) = self.frames.iter().position(|e| e.name == name) {
+            let entry = &self.frames[i];
+            let attachable = matches!(
+                (&entry.edge, &edge),
+                (Edge::Declared(Declared::Samples), Edge::Sampled(_))
+                    | (Edge::Declared(Declared::Function), Edge::Function(_) | Edge::External)
+            );
+            if attachable && entry.parent == Some(parent_id) {
+                self.frames[i].edge = edge;
+                return Ok(i);
+            }
+            return Err(GraphError::DuplicateName { name: name.to_string() });
+        }
+        self.check_new_name(name)?;
+        if self.frames.len() >= u32::MAX as usize {
+            return Err(GraphError::TooDeep { name: name.to_string() });
+        }
+        self.frames.push(Entry { name: name.to_string(), parent: Some(parent_id), edge });
+        let id = self.frames.len() - 1;
+        // A frame deeper than the paths can hold is refused when added, not when asked about.
+        if let Err(fault) = Path::between(self, 0, id) {
+            self.frames.pop();
+            return Err(self.named(fault, None));
+        }
+        Ok(id)
+    }
+
+    /// Adds a frame fixed in `parent` (a sensor mount, a lever arm).
+    ///
+    /// # Errors
+    /// [`GraphError::UnknownFrame`] (the parent), [`GraphError::DuplicateName`],
+    /// [`GraphError::BadName`] or [`GraphError::TooDeep`].
+    pub fn add_fixed(&mut self, name: &str, parent: &str, edge: Fixed) -> GraphResult<FrameId> {
+        self.insert(name, parent, Edge::Static(StaticEdge::Fixed(edge)))
+    }
+
+    /// Adds a frame spinning in `parent` (a rate table, a rotor, a scanner).
+    ///
+    /// # Errors
+    /// As [`add_fixed`](Self::add_fixed).
+    pub fn add_spin(&mut self, name: &str, parent: &str, edge: Spin) -> GraphResult<FrameId> {
+        self.insert(name, parent, Edge::Static(StaticEdge::Spin(edge)))
+    }
+
+    /// Adds an Earth-fixed frame (ECEF) turning relative to `parent` (an inertial frame).
+    ///
+    /// # Errors
+    /// As [`add_fixed`](Self::add_fixed).
+    pub fn add_earth(&mut self, name: &str, parent: &str, edge: EarthRotation) -> GraphResult<FrameId> {
+        self.insert(name, parent, Edge::Static(StaticEdge::Earth(edge)))
+    }
+
+    /// Adds a local-level frame at a fixed geodetic point of `parent` (an Earth-fixed frame).
+    ///
+    /// # Errors
+    /// As [`add_fixed`](Self::add_fixed).
+    pub fn add_site(&mut self, name: &str, parent: &str, edge: Site) -> GraphResult<FrameId> {
+        self.insert(name, parent, Edge::Static(StaticEdge::Site(edge)))
+    }
+
+    /// Adds any static edge.
+    ///
+    /// # Errors
+    /// As [`add_fixed`](Self::add_fixed).
+    pub fn add_static(&mut self, name: &str, parent: &str, edge: StaticEdge) -> GraphResult<FrameId> {
+        self.insert(name, parent, Edge::Static(edge))
+    }
+
+    /// Adds a frame moving as logged samples say. Geodetic samples need an Earth-fixed
+    /// parent (a frame added with [`add_earth`](Self::add_earth)).
+    ///
+    /// # Errors
+    /// As [`add_fixed`](Self::add_fixed); [`GraphError::NotEarthFixed`].
+    pub fn add_samples(&mut self, name: &str, parent: &str, edge: SampledEdge) -> GraphResult<FrameId> {
+        if edge.kind() == SamplesKind::Geodetic {
+            let p = self.id(parent)?;
+            if !matches!(self.frames[p].edge, Edge::Static(StaticEdge::Earth(_))) {
+                return Err(GraphError::NotEarthFixed { name: name.to_string(), parent: parent.to_string() });
+            }
+        }
+        self.insert(name, parent, Edge::Sampled(edge))
+    }
+
+    /// Adds a frame whose motion relative to `parent` the function `motion` gives at any
+    /// time.
+    ///
+    /// # Errors
+    /// As [`add_fixed`](Self::add_fixed).
+    pub fn add_function(&mut self, name: &str, parent: &str, motion: EdgeFunction) -> GraphResult<FrameId> {
+        self.insert(name, parent, Edge::Function(motion))
+    }
+
+    /// Adds a frame whose motion the caller of [`motions_each`](Self::motions_each) supplies
+    /// (for bindings whose functions live in another language).
+    ///
+    /// # Errors
+    /// As [`add_fixed`](Self::add_fixed).
+    pub fn add_external(&mut self, name: &str, parent: &str) -> GraphResult<FrameId> {
+        self.insert(name, parent, Edge::External)
+    }
+
+    /// Declares a frame whose motion will be attached in code (as a configuration file
+    /// does for sampled and function edges).
+    ///
+    /// # Errors
+    /// As [`add_fixed`](Self::add_fixed).
+    pub fn declare(&mut self, name: &str, parent: &str, kind: Declared) -> GraphResult<FrameId> {
+        self.insert(name, parent, Edge::Declared(kind))
+    }
+
+    /// Whether any frame has a function edge (such graphs cannot be saved whole).
+    #[must_use]
+    pub fn has_functions(&self) -> bool {
+        self.frames.iter().any(|e| matches!(e.edge, Edge::Function(_) | Edge::External))
+    }
+
+    /// The motion of frame `frame` relative to its parent at `time`, with `cache` for a sampled
+    /// edge and `external` for an external one.
+    #[inline(always)]
+    fn edge_motion(
+        &self,
+        frame: FrameId,
+        time: f64,
+        cache: &mut SegmentCache,
+        external: &mut dyn FnMut(FrameId) -> Result<Motion>,
+    ) -> core::result::Result<Motion, GraphFault> {
+        let wrap = |error| GraphFault::Edge { frame, error };
+        match &self.frames[frame].edge {
+            Edge::Root => Ok(Motion::identity()),
+            Edge::Static(s) => s.motion_at(time).map_err(wrap),
+            Edge::Sampled(s) => s.motion_at(time, cache).map_err(wrap),
+            Edge::Function(f) => f(time).and_then(check_motion).map_err(wrap),
+            Edge::External => external(frame).and_then(check_motion).map_err(wrap),
+            Edge::Declared(_) => Err(GraphFault::Unattached { frame }),
+        }
+    }
+
+    /// The motion of `child` relative to `parent` at `time` (s).
+    ///
+    /// # Errors
+    /// [`GraphError::UnknownFrame`] for either name; [`GraphError::Edge`] if an edge on the
+    /// path cannot give its motion at `time` (a time outside a sampled edge's span names the
+    /// frame, the time and the span); [`GraphError::Unattached`].
+    pub fn motion(&self, parent: &str, child: &str, time: f64) -> GraphResult<Motion> {
+        let mut out = [Motion::identity()];
+        self.motions(self.id(parent)?, self.id(child)?, &[time], &mut out)?;
+        Ok(out[0])
+    }
+
+    /// The motions of `child` relative to `parent` (by index) at each of `times`, written to
+    /// `out` (of the same length). The path is found once; sampled edges remember their last
+    /// interval, so ordered times cost one interpolant per interval.
+    ///
+    /// # Errors
+    /// As [`motion`](Self::motion), the index of the failing time in
+    /// [`GraphError::Edge`]; [`GraphError::Edge`] naming `out` for a length mismatch.
+    pub fn motions(&self, parent: FrameId, child: FrameId, times: &[f64], out: &mut [Motion]) -> GraphResult<()> {
+        if out.len() != times.len() {
+            return Err(GraphError::Edge {
+                name: self.frames.get(child).map_or_else(String::new, |e| e.name.clone()),
+                index: None,
+                error: Error::LengthMismatch { quantity: "out", found: out.len(), expected: times.len() },
+            });
+        }
+        self.motions_each(
+            parent,
+            child,
+            times,
+            |_, _, _| {
+                Err(Error::Invalid { quantity: "edge", reason: "this function edge is evaluated by the binding that added it" })
+            },
+            |i, m| out[i] = m,
+        )
+    }
+
+    /// The motions of `child` relative to `parent` (by index) at each of `times`, handed to
+    /// `sink(index, motion)` in order; `external(frame, index, time)` gives the motion of
+    /// every external edge on the path. Nothing is handed out past a failing time.
+    ///
+    /// # Errors
+    /// As [`motions`](Self::motions).
+    pub fn motions_each(
+        &self,
+        parent: FrameId,
+        child: FrameId,
+        times: &[f64],
+        mut external: impl FnMut(FrameId, usize, f64) -> Result<Motion>,
+        mut sink: impl FnMut(usize, Motion),
+    ) -> GraphResult<()> {
+        let path = self.find_path(parent, child)?;
+        crate::fast_call!(motions_along_fast, motions_along, (self, &path, times, &mut external, &mut sink))
+    }
+
+    /// The apparent accelerations, resolved in `frame`, on a point at `position` moving at
+    /// `velocity` relative to `frame` (both resolved in it), at `time`. Needs an inertial root.
+    ///
+    /// # Errors
+    /// [`GraphError::NotInertial`]; as [`motion`](Self::motion); [`GraphError::Edge`]
+    /// naming `position` or `velocity` beyond the [`limits`](crate::limits).
+    pub fn apparent_acceleration(
+        &self,
+        frame: &str,
+        time: f64,
+        position: &Vector3<f64>,
+        velocity: &Vector3<f64>,
+    ) -> GraphResult<ApparentAcceleration<AnyFrame>> {
+        if !self.inertial {
+            return Err(self.named(GraphFault::NotInertial, None));
+        }
+        let id = self.id(frame)?;
+        PointKinematics::<AnyFrame>::try_new(*position, *velocity, Vector3::zeros()).map_err(|error| GraphError::Edge {
+            name: frame.to_string(),
+            index: None,
+            error,
+        })?;
+        let mut out = [Motion::identity()];
+        self.motions(0, id, &[time], &mut out)?;
+        Ok(apparent_terms(&FrameDynamics::of_motion(&out[0].assume_frames::<crate::frames::Eci, AnyFrame>()), position, velocity))
+    }
+}
+
+/// The motions along `path` at every time (the body of [`FrameGraph::motions_each`], compiled
+/// for both CPU code paths).
+#[inline(always)]
+fn motions_along(
+    graph: &FrameGraph,
+    path: &Path,
+    times: &[f64],
+    external: &mut dyn FnMut(FrameId, usize, f64) -> Result<Motion>,
+    sink: &mut dyn FnMut(usize, Motion),
+) -> GraphResult<()> {
+    // One interval memory per frame (the path uses each frame's edge once).
+    let mut caches: Vec<SegmentCache> = alloc::vec![SegmentCache::default(); graph.frames.len()];
+    for (index, &time) in times.iter().enumerate() {
+        let m = path
+            .compose(|frame| graph.edge_motion(frame, time, &mut caches[frame], &mut |f| external(f, index, time)))
+            .map_err(|fault| graph.named(fault, (times.len() > 1).then_some(index)))?;
+        sink(index, m);
+    }
+    Ok(())
+}
+crate::fast_twin!(fn motions_along_fast(
+    graph: &FrameGraph,
+    path: &Path,
+    times: &[f64],
+    external: &mut dyn FnMut(FrameId, usize, f64) -> Result<Motion>,
+    sink: &mut dyn FnMut(usize, Motion),
+) -> GraphResult<()> = motions_along);
+
+/// A motion from a function edge, checked like any constructed motion (finite, within the
+/// limits, unit rotation).
+fn check_motion(m: Motion) -> Result<Motion> {
+    FrameMotion::from_parts(m.parts())
+}
+
+use crate::motion::FrameMotion;
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn edit_distance_counts_insertions_deletions_and_substitutions() {
+        // Levenshtein's classic example: kitten → sitting is 3 (common practice).
+        assert_eq!(edit_distance("kitten", "sitting"), 3);
+        assert_eq!(edit_distance("", "abc"), 3);
+        assert_eq!(edit_distance("imu", "imu"), 0);
+    }
+
+    #[test]
+    fn unknown_frames_list_the_nearest_names() {
+        let mut g = FrameGraph::new("inertial", true);
+        let mount = Fixed::new(nalgebra::UnitQuaternion::identity(), Vector3::zeros()).unwrap();
+        g.add_fixed("imu_front", "inertial", mount).unwrap();
+        g.add_fixed("imu_rear", "inertial", mount).unwrap();
+        let e = g.id("imu_frnt").unwrap_err();
+        assert_eq!(e.to_string(), "no frame named \"imu_frnt\" (did you mean \"imu_front\"?)");
+        assert!(g.id("imu").unwrap_err().to_string().contains("did you mean"));
+    }
+}
