@@ -298,12 +298,19 @@ fn motions(
         .into(),
         other => fault(other),
     })?;
+    // Constant edges composed once, as the Rust graph does (the same results to the bit).
+    // A node whose stored motion does not convert is left to fail at its first time.
+    let folded = path.fold(|frame| {
+        let node = &frames[frame];
+        let constant = node.kind == rf_edge_kind::RF_EDGE_FIXED as u32 || node.kind == rf_edge_kind::RF_EDGE_SITE as u32;
+        if constant { node.motion.to_core().ok() } else { None }
+    });
     let mut caches = [SegmentCache::default(); rotaframe::graph::MAX_DEPTH * 2];
     for (index, &time) in times.iter().enumerate() {
-        // The path visits its edges in the same order at every time, each once: the k-th visit
-        // keeps the k-th interval memory.
+        // The path visits its variable edges in the same order at every time, each once: the
+        // k-th visit keeps the k-th interval memory.
         let mut k = 0;
-        let m = path.compose(|frame| {
+        let m = folded.compose(|frame| {
             let cache = &mut caches[k.min(caches.len() - 1)];
             k += 1;
             edge_motion(&frames[frame], time, cache)

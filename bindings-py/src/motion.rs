@@ -11,7 +11,7 @@ use rotaframe::nalgebra::Vector3;
 
 use rotaframe::limits::{MAX_ACCELERATION, MAX_POSITION, MAX_VELOCITY, within};
 
-use crate::broadcast::{Operand, Plan, RawOutput, failure_to_py, non_finite_flag, out_slice, run};
+use crate::broadcast::{Access, Operand, Plan, RawOutput, failure_to_py, non_finite_flag, out_slice, run};
 use crate::errors::{FrameMismatchError, OutOfRangeError, ShapeError};
 use crate::geodesy::python_error;
 use crate::model::{PyEarthModel, model_or_default};
@@ -373,45 +373,7 @@ impl PyFrameMotion {
         // against its supported range (bit 0) and of the outputs for overflow (bit 1, possible
         // only for a motion composed beyond the ranges); only a flagged batch is scanned
         // again, to name the first bad element.
-        let flags = py.detach(|| {
-            {
-                let mut bad = 0u64;
-                let [mp, mv, ma, mw, mal] = &motions.vectors;
-                let slots = slots.iter_mut().zip(&motions.rotation).zip(mp).zip(mv).zip(ma).zip(mw).zip(mal);
-                // Inputs arrive as references, read straight into registers (copying them through
-                // a stack array first caused store-forwarding stalls).
-                type Parts<'a> = (
-                    (
-                        ((((&'a mut core::mem::MaybeUninit<[f64; 9]>, &'a [f64; 4]), &'a [f64; 3]), &'a [f64; 3]), &'a [f64; 3]),
-                        &'a [f64; 3],
-                    ),
-                    &'a [f64; 3],
-                );
-                let mut element =
-                    |((((((slot, q), p), v), a), w), al): Parts<'_>, r: &[f64; 3], vel: &[f64; 3], acc: &[f64; 3]| {
-                        let vector = |x: &[f64; 3]| rotaframe::nalgebra::Vector3::new(x[0], x[1], x[2]);
-                        let m = MotionBatch::assemble(q, [p, v, a, w, al]);
-                        let point = PointKinematics::new(vector(r), vector(vel), vector(acc));
-                        let k = m.map_point(&point);
-                        bad |= u64::from(
-                            !(within(&point.position, MAX_POSITION)
-                                & within(&point.velocity, MAX_VELOCITY)
-                                & within(&point.acceleration, MAX_ACCELERATION)),
-                        ) | (non_finite_flag(&[k.position, k.velocity, k.acceleration]) << 1);
-                        let (p, v, a) = (k.position, k.velocity, k.acceleration);
-                        slot.write([p.x, p.y, p.z, v.x, v.y, v.z, a.x, a.y, a.z]);
-                    };
-                match (ra.full_vec3(n), va.full_vec3(n), aa.full_vec3(n)) {
-                    (Some(r), Some(v), Some(a)) => {
-                        slots.zip(r.iter().zip(v).zip(a)).for_each(|(s, ((r, v), a))| element(s, r, v, a))
-                    }
-                    _ => slots
-                        .enumerate()
-                        .for_each(|(i, s)| element(s, &ra.vec3(i).into(), &va.vec3(i).into(), &aa.vec3(i).into())),
-                }
-                bad
-            }
-        });
+        let flags = py.detach(|| rotaframe::fast_call!(map_points_fast, map_points, (motions, slots, ra, va, aa, n)));
         if flags != 0 {
             let result = run(py, n, |i| PointKinematics::<AnyFrame>::try_new(ra.vec3(i), va.vec3(i), aa.vec3(i)).map(|_| ()));
             result.map_err(|f| failure_to_py(&f, &plan, &[&r, &v, &a]))?;
@@ -656,3 +618,45 @@ pub fn local_level_motion<'py>(
     }
     Ok(PyFrameMotion::new_batch(motions, plan.shape, Some("ecef".into()), Some("ned".into())))
 }
+
+/// The branch-free loop of `FrameMotion.map_point`: maps every point, writes its slot and
+/// returns the flags (bit 0: a point beyond its supported range; bit 1: an output that
+/// overflowed). Compiled for both CPU code paths.
+#[inline(always)]
+fn map_points(
+    motions: &MotionBatch,
+    slots: &mut [core::mem::MaybeUninit<[f64; 9]>],
+    ra: Access<'_>,
+    va: Access<'_>,
+    aa: Access<'_>,
+    n: usize,
+) -> u64 {
+    let mut bad = 0u64;
+    let [mp, mv, ma, mw, mal] = &motions.vectors;
+    let slots = slots.iter_mut().zip(&motions.rotation).zip(mp).zip(mv).zip(ma).zip(mw).zip(mal);
+    // Inputs arrive as references, read straight into registers (copying them through a stack
+    // array first caused store-forwarding stalls).
+    type Parts<'a> = (
+        (((((&'a mut core::mem::MaybeUninit<[f64; 9]>, &'a [f64; 4]), &'a [f64; 3]), &'a [f64; 3]), &'a [f64; 3]), &'a [f64; 3]),
+        &'a [f64; 3],
+    );
+    let mut element = |((((((slot, q), p), v), a), w), al): Parts<'_>, r: &[f64; 3], vel: &[f64; 3], acc: &[f64; 3]| {
+        let vector = |x: &[f64; 3]| rotaframe::nalgebra::Vector3::new(x[0], x[1], x[2]);
+        let m = MotionBatch::assemble(q, [p, v, a, w, al]);
+        let point = PointKinematics::new(vector(r), vector(vel), vector(acc));
+        let k = m.map_point(&point);
+        bad |= u64::from(
+            !(within(&point.position, MAX_POSITION)
+                & within(&point.velocity, MAX_VELOCITY)
+                & within(&point.acceleration, MAX_ACCELERATION)),
+        ) | (non_finite_flag(&[k.position, k.velocity, k.acceleration]) << 1);
+        let (p, v, a) = (k.position, k.velocity, k.acceleration);
+        slot.write([p.x, p.y, p.z, v.x, v.y, v.z, a.x, a.y, a.z]);
+    };
+    match (ra.full_vec3(n), va.full_vec3(n), aa.full_vec3(n)) {
+        (Some(r), Some(v), Some(a)) => slots.zip(r.iter().zip(v).zip(a)).for_each(|(s, ((r, v), a))| element(s, r, v, a)),
+        _ => slots.enumerate().for_each(|(i, s)| element(s, &ra.vec3(i).into(), &va.vec3(i).into(), &aa.vec3(i).into())),
+    }
+    bad
+}
+rotaframe::fast_twin!(fn map_points_fast(motions: &MotionBatch, slots: &mut [core::mem::MaybeUninit<[f64; 9]>], ra: Access<'_>, va: Access<'_>, aa: Access<'_>, n: usize) -> u64 = map_points);

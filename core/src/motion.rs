@@ -269,7 +269,7 @@ impl<P: Frame, C: Frame> FrameMotion<P, C> {
     /// let m = FrameMotion::<Ecef, Ned>::about_axis(nalgebra::Vector3::new(0.0, 0.0, 3.0), 0.1, 0.2, 0.3).unwrap();
     /// assert_eq!(m.angular_velocity(), nalgebra::Vector3::new(0.0, 0.0, 0.2));
     /// ```
-    #[inline]
+    #[inline(always)]
     pub fn about_axis(axis: Vector3<f64>, angle: f64, angular_rate: f64, angular_acceleration: f64) -> Result<Self> {
         ensure_finite3(&axis, "axis")?;
         ensure_finite1(angle, "angle")?;
@@ -466,7 +466,7 @@ impl<P: Frame, C: Frame> FrameMotion<P, C> {
     /// let _ = earth.then(&body); // NED is not ECEF
     /// ```
     #[must_use]
-    #[inline]
+    #[inline(always)]
     pub fn then<D: Frame>(&self, next: &FrameMotion<C, D>) -> FrameMotion<P, D> {
         let r1 = self.rotation.to_rotation_matrix();
         let (position, velocity, acceleration) = self.transport(r1 * next.position, r1 * next.velocity, r1 * next.acceleration);

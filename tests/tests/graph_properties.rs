@@ -146,6 +146,55 @@ fn a_chain_query_equals_the_hand_written_then_chain_bit_for_bit() {
 }
 
 #[test]
+fn a_chain_ending_in_two_mounts_equals_the_hand_written_chain_to_a_few_ulps() {
+    // The graph composes a trailing run of constant edges once (Path::fold): exact in real
+    // arithmetic (composition is associative), so only the rounding differs. Bound: 4 ulps of
+    // the unit quaternion and of each vector's scale below (one `then` rounds each component
+    // to about an ulp of its largest term, and the regrouping moves two such roundings).
+    let (mut g, earth, site, spin, mount) = site_chain();
+    let tip = Fixed::new(UnitQuaternion::from_euler_angles(-0.3, 0.2, 0.1), Vector3::new(0.02, 0.4, -0.7)).unwrap();
+    g.add_fixed("tip", "sensor", tip).unwrap();
+    let mut worst = 0.0_f64;
+    for t in [0.0, 0.37, 1234.5, -60.0, 86_400.0] {
+        let by_hand = earth_motion(&WGS84, t, earth.angle_at_epoch())
+            .unwrap()
+            .erase_frames()
+            .then(&site.motion())
+            .then(&spin.motion_at(t).unwrap())
+            .then(&mount.motion())
+            .then(&tip.motion());
+        let graph = g.motion("inertial", "tip", t).unwrap();
+        let (a, b) = (graph.parts(), by_hand.parts());
+        let q = (a.rotation.coords - b.rotation.coords).norm() / f64::EPSILON;
+        worst = worst.max(q);
+        assert!(q <= 4.0, "t = {t}: rotation differs by {q} ulps");
+        // Each part rounds to ulps of the largest term of its composition formula, not of its
+        // own norm (the transport terms ω×r, ω×(ω×r), ... nearly cancel in places).
+        let (r, v, w) = (b.position.norm(), b.velocity.norm(), b.angular_velocity.norm());
+        let scales = [
+            r,
+            v + w * r,
+            b.acceleration.norm() + b.angular_acceleration.norm() * r + w * w * r + w * v,
+            w,
+            b.angular_acceleration.norm() + w * w,
+        ];
+        let pairs = [
+            (a.position, b.position),
+            (a.velocity, b.velocity),
+            (a.acceleration, b.acceleration),
+            (a.angular_velocity, b.angular_velocity),
+            (a.angular_acceleration, b.angular_acceleration),
+        ];
+        for (k, ((x, y), scale)) in pairs.into_iter().zip(scales).enumerate() {
+            let ulps = (x - y).norm() / (f64::EPSILON * scale.max(f64::MIN_POSITIVE));
+            worst = worst.max(ulps);
+            assert!(ulps <= 4.0, "t = {t}: part {k} differs by {ulps} ulps of its scale");
+        }
+    }
+    println!("worst difference: {worst:.2} ulps");
+}
+
+#[test]
 fn apparent_accelerations_in_a_frame_come_from_its_motion_relative_to_the_inertial_root() {
     let (g, ..) = site_chain();
     let (r, v) = (Vector3::new(0.2, 0.0, 0.0), Vector3::new(0.0, 0.5, 0.0));

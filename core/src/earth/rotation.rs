@@ -107,7 +107,7 @@ pub fn earth_rotation_angle(jd_ut1: f64, jd_ut1_fraction: f64) -> Result<f64> {
 /// let m = earth_motion(&WGS84, 3600.0, 0.0).unwrap();
 /// assert_relative_eq!(m.rotation().angle(), 7.292115e-5 * 3600.0, max_relative = 1e-14);
 /// ```
-#[inline]
+#[inline(always)]
 pub fn earth_motion(model: &EarthModel, time: f64, angle_at_epoch: f64) -> Result<FrameMotion<Eci, Ecef>> {
     ensure_finite1(time, "time")?;
     ensure_finite1(angle_at_epoch, "angle_at_epoch")?;

@@ -25,8 +25,10 @@
 //! ```
 //!
 //! with the inverse and composition of [`motion`](crate::motion) (no new formula). When `p`
-//! is an ancestor of `c` the result is exactly the hand-written chain
-//! `e₁.then(e₂)…then(eₖ)`, composed in the same order, so the two agree bit for bit.
+//! is an ancestor of `c` the result is the hand-written chain `e₁.then(e₂)…then(eₖ)`,
+//! composed in the same order, except that a trailing run of constant edges (a sensor's
+//! mounts) is composed once per query ([`Path::fold`]): the two agree to a few ulps (bit for
+//! bit when the chain does not end in two or more constant edges).
 //!
 //! Apparent accelerations in a frame need its motion relative to an inertial frame: the
 //! graph's root, when the graph is declared inertial ([`FrameGraph`]).
@@ -177,7 +179,7 @@ impl Spin {
     /// [`Error::BeyondLimit`] naming `time` beyond [`MAX_TIME`](limits::MAX_TIME), or naming
     /// `angular_rate` when the accelerating spin has passed
     /// [`MAX_ANGULAR_VELOCITY`](limits::MAX_ANGULAR_VELOCITY).
-    #[inline]
+    #[inline(always)]
     pub fn motion_at(&self, time: f64) -> Result<Motion> {
         limits::check_scalar(time, limits::MAX_TIME, "s", "time")?;
         let angle = self.angle_at_zero + time * (self.rate + 0.5 * self.angular_acceleration * time);
@@ -237,7 +239,7 @@ impl EarthRotation {
     ///
     /// # Errors
     /// [`Error::BeyondLimit`] naming `time` beyond [`MAX_TIME`](limits::MAX_TIME).
-    #[inline]
+    #[inline(always)]
     pub fn motion_at(&self, time: f64) -> Result<Motion> {
         limits::check_scalar(time, limits::MAX_TIME, "s", "time")?;
         Ok(earth::earth_motion(&self.model, time, self.angle_at_epoch)?.erase_frames())
@@ -339,6 +341,17 @@ impl StaticEdge {
             StaticEdge::Spin(_) => "spin",
             StaticEdge::Earth(_) => "earth",
             StaticEdge::Site(_) => "site",
+        }
+    }
+
+    /// The motion of a constant edge (fixed, site), `None` for one that changes with time.
+    #[must_use]
+    #[inline]
+    pub fn constant_motion(&self) -> Option<Motion> {
+        match self {
+            StaticEdge::Fixed(f) => Some(f.motion),
+            StaticEdge::Site(s) => Some(s.motion),
+            StaticEdge::Spin(_) | StaticEdge::Earth(_) => None,
         }
     }
 }
@@ -480,31 +493,171 @@ impl Path {
     /// # Errors
     /// The first error of `edge`.
     #[inline]
-    pub fn compose<E>(
-        &self,
-        mut edge: impl FnMut(FrameId) -> core::result::Result<Motion, E>,
-    ) -> core::result::Result<Motion, E> {
-        let chain = |frames: &mut dyn Iterator<Item = FrameId>,
-                     edge: &mut dyn FnMut(FrameId) -> core::result::Result<Motion, E>| {
-            let mut total: Option<Motion> = None;
-            for frame in frames {
-                let m = edge(frame)?;
-                total = Some(match total {
-                    None => m,
-                    Some(t) => t.then(&m),
-                });
+    pub fn compose<E>(&self, edge: impl FnMut(FrameId) -> core::result::Result<Motion, E>) -> core::result::Result<Motion, E> {
+        self.compose_from(&mut Closure(edge))
+    }
+
+    /// As [`compose`](Self::compose), asking `edges` for each frame's motion (an
+    /// `#[inline(always)]` trait method is inlined into the composition, where a closure may
+    /// not be: the difference is a store-forwarding stall per edge).
+    ///
+    /// # Errors
+    /// The first error of `edges`.
+    #[inline(always)]
+    pub fn compose_from<S: EdgeMotions>(&self, edges: &mut S) -> core::result::Result<Motion, S::Error> {
+        self.fold(|_| None).compose_from(edges)
+    }
+
+    /// The path with the motions of its constant edges composed once, for evaluating it at
+    /// many times: `constant(frame)` gives the motion of a frame whose edge does not change
+    /// with time (fixed, site), `None` for any other.
+    ///
+    /// Of each of the two chains (ancestor down to the child, ancestor down to the parent
+    /// frame), a leading run of constant edges is composed as the unfolded chain would compose
+    /// it (the same rounding) and a trailing run of two or more (the mounts of a sensor at a
+    /// leaf) into one motion, which changes the rounding of the result by a few ulps (the
+    /// composition is associative in exact arithmetic; see the graph property tests for the
+    /// bound). A chain of constants only is inverted once.
+    #[must_use]
+    pub fn fold(&self, mut constant: impl FnMut(FrameId) -> Option<Motion>) -> FoldedPath {
+        let mut up_order = [0; MAX_DEPTH];
+        for (slot, &frame) in up_order.iter_mut().zip(self.up().iter().rev()) {
+            *slot = frame;
+        }
+        let down = Folds::of(self.down(), &mut constant);
+        let up = Folds::of(&up_order[..self.up_len], &mut constant);
+        let parent_inverse = (self.up_len > 0 && up.head == self.up_len).then(|| up.head_motion.inverse());
+        FoldedPath { path: *self, up_order, down, up, parent_inverse }
+    }
+}
+
+/// Edge motions from a closure.
+struct Closure<F>(F);
+
+impl<E, F: FnMut(FrameId) -> core::result::Result<Motion, E>> EdgeMotions for Closure<F> {
+    type Error = E;
+    #[inline(always)]
+    fn edge_motion(&mut self, frame: FrameId) -> core::result::Result<Motion, E> {
+        (self.0)(frame)
+    }
+}
+
+/// A [`Path`] with its constant edges composed once ([`Path::fold`]).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FoldedPath {
+    path: Path,
+    /// The up list in composition order (from below the ancestor down to the parent frame).
+    up_order: [FrameId; MAX_DEPTH],
+    down: Folds,
+    up: Folds,
+    /// The inverse of the parent chain when all its edges are constant.
+    parent_inverse: Option<Motion>,
+}
+
+/// The constant runs at the two ends of one chain of a path, in composition order.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct Folds {
+    /// How many leading edges `head_motion` composes (0: none).
+    head: usize,
+    head_motion: Motion,
+    /// How many trailing edges `tail_motion` composes (0, or at least 2).
+    tail: usize,
+    tail_motion: Motion,
+}
+
+impl Folds {
+    fn of(chain: &[FrameId], constant: &mut impl FnMut(FrameId) -> Option<Motion>) -> Self {
+        let mut folds = Folds { head: 0, head_motion: Motion::identity(), tail: 0, tail_motion: Motion::identity() };
+        for &frame in chain {
+            let Some(m) = constant(frame) else { break };
+            folds.head_motion = if folds.head == 0 { m } else { folds.head_motion.then(&m) };
+            folds.head += 1;
+        }
+        let rest = &chain[folds.head..];
+        let tail = rest.iter().rev().take_while(|&&frame| constant(frame).is_some()).count();
+        if tail >= 2 {
+            let run = &rest[rest.len() - tail..];
+            let mut m = constant(run[0]).unwrap_or_else(Motion::identity);
+            for &frame in &run[1..] {
+                m = m.then(&constant(frame).unwrap_or_else(Motion::identity));
             }
-            Ok(total)
+            folds.tail = tail;
+            folds.tail_motion = m;
+        }
+        folds
+    }
+
+    /// The chain's motion from `edges` for its variable edges (`None` for an empty chain).
+    #[inline(always)]
+    fn compose<S: EdgeMotions>(&self, chain: &[FrameId], edges: &mut S) -> core::result::Result<Option<Motion>, S::Error> {
+        let middle = &chain[self.head..chain.len() - self.tail];
+        // Each chain starts from its first motion (not from an identity, which would change
+        // the rounding; not through an `Option` per step, which costs a copy per edge).
+        let (mut motion, rest) = if self.head > 0 {
+            (self.head_motion, middle)
+        } else if let Some((&first, rest)) = middle.split_first() {
+            (edges.edge_motion(first)?, rest)
+        } else {
+            return Ok(None);
         };
-        let down_child = chain(&mut self.down().iter().copied(), &mut edge)?;
-        let down_parent = chain(&mut self.up().iter().rev().copied(), &mut edge)?;
-        Ok(match (down_parent, down_child) {
+        for &frame in rest {
+            motion = motion.then(&edges.edge_motion(frame)?);
+        }
+        if self.tail > 0 {
+            motion = motion.then(&self.tail_motion);
+        }
+        Ok(Some(motion))
+    }
+}
+
+impl FoldedPath {
+    /// The path that was folded.
+    #[must_use]
+    pub fn path(&self) -> &Path {
+        &self.path
+    }
+
+    /// As [`compose_from`](Self::compose_from), with `edge(frame)` giving each variable
+    /// edge's motion.
+    ///
+    /// # Errors
+    /// The first error of `edge`.
+    #[inline]
+    pub fn compose<E>(&self, edge: impl FnMut(FrameId) -> core::result::Result<Motion, E>) -> core::result::Result<Motion, E> {
+        self.compose_from(&mut Closure(edge))
+    }
+
+    /// The motion of the query's child frame relative to its parent frame, asking `edges` for
+    /// the motion of each variable edge (in the same order at every call).
+    ///
+    /// # Errors
+    /// The first error of `edges`.
+    #[inline(always)]
+    pub fn compose_from<S: EdgeMotions>(&self, edges: &mut S) -> core::result::Result<Motion, S::Error> {
+        let child = self.down.compose(self.path.down(), edges)?;
+        let parent_inverse = match self.parent_inverse {
+            Some(p) => Some(p),
+            None => self.up.compose(&self.up_order[..self.path.up_len], edges)?.map(|p| p.inverse()),
+        };
+        Ok(match (parent_inverse, child) {
             (None, None) => Motion::identity(),
             (None, Some(c)) => c,
-            (Some(p), None) => p.inverse(),
-            (Some(p), Some(c)) => p.inverse().then(&c),
+            (Some(p), None) => p,
+            (Some(p), Some(c)) => p.then(&c),
         })
     }
+}
+
+/// The motion of each frame of a path relative to its parent, at the time being evaluated
+/// (for [`Path::compose_from`]).
+pub trait EdgeMotions {
+    /// Why an edge's motion is not available.
+    type Error;
+    /// The motion of `frame` relative to its parent.
+    ///
+    /// # Errors
+    /// Whatever the edge cannot do.
+    fn edge_motion(&mut self, frame: FrameId) -> core::result::Result<Motion, Self::Error>;
 }
 
 /// `frame` and its ancestors up to its root, nearest first, and how many there are.

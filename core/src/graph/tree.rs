@@ -434,6 +434,12 @@ impl FrameGraph {
         self.inertial
     }
 
+    /// The first Earth-fixed frame (one attached by an Earth edge), if any.
+    #[must_use]
+    pub fn earth_frame(&self) -> Option<FrameId> {
+        self.frames.iter().position(|e| matches!(e.edge, Edge::Static(StaticEdge::Earth(_))))
+    }
+
     /// The root's name.
     #[must_use]
     pub fn root(&self) -> &str {
@@ -730,10 +736,10 @@ impl FrameGraph {
         child: FrameId,
         times: &[f64],
         mut external: impl FnMut(FrameId, usize, f64) -> Result<Motion>,
-        mut sink: impl FnMut(usize, Motion),
+        sink: impl FnMut(usize, Motion),
     ) -> GraphResult<()> {
         let path = self.find_path(parent, child)?;
-        crate::fast_call!(motions_along_fast, motions_along, (self, &path, times, &mut external, &mut sink))
+        motions_along(self, &path, times, &mut external, sink)
     }
 
     /// The apparent accelerations, resolved in `frame`, on a point at `position` moving at
@@ -764,33 +770,58 @@ impl FrameGraph {
     }
 }
 
-/// The motions along `path` at every time (the body of [`FrameGraph::motions_each`], compiled
-/// for both CPU code paths).
+/// The motions along `path` at every time (the body of [`FrameGraph::motions_each`]). (An
+/// AVX2 twin was measured slower here: the loop calls the platform's `sincos`.)
 #[inline(always)]
 fn motions_along(
     graph: &FrameGraph,
     path: &Path,
     times: &[f64],
     external: &mut dyn FnMut(FrameId, usize, f64) -> Result<Motion>,
-    sink: &mut dyn FnMut(usize, Motion),
+    mut sink: impl FnMut(usize, Motion),
 ) -> GraphResult<()> {
-    // One interval memory per frame (the path uses each frame's edge once).
-    let mut caches: Vec<SegmentCache> = alloc::vec![SegmentCache::default(); graph.frames.len()];
+    // One interval memory per edge of the path: the path visits its edges in the same order at
+    // every time, each once, so the k-th visit keeps the k-th memory.
+    struct AtTime<'a, 'b> {
+        graph: &'a FrameGraph,
+        time: f64,
+        index: usize,
+        visit: usize,
+        caches: &'a mut [SegmentCache; 2 * super::MAX_DEPTH],
+        external: &'a mut dyn FnMut(FrameId, usize, f64) -> Result<Motion>,
+        marker: core::marker::PhantomData<&'b ()>,
+    }
+    impl super::EdgeMotions for AtTime<'_, '_> {
+        type Error = GraphFault;
+        #[inline(always)]
+        fn edge_motion(&mut self, frame: FrameId) -> core::result::Result<Motion, GraphFault> {
+            let cache = &mut self.caches[self.visit];
+            self.visit += 1;
+            let (index, time) = (self.index, self.time);
+            let external = &mut *self.external;
+            self.graph.edge_motion(frame, time, cache, &mut |f| external(f, index, time))
+        }
+    }
+    let folded = path.fold(|frame| match &graph.frames[frame].edge {
+        Edge::Static(s) => s.constant_motion(),
+        _ => None,
+    });
+    let mut caches = [SegmentCache::default(); 2 * super::MAX_DEPTH];
     for (index, &time) in times.iter().enumerate() {
-        let m = path
-            .compose(|frame| graph.edge_motion(frame, time, &mut caches[frame], &mut |f| external(f, index, time)))
-            .map_err(|fault| graph.named(fault, (times.len() > 1).then_some(index)))?;
+        let mut at = AtTime {
+            graph,
+            time,
+            index,
+            visit: 0,
+            caches: &mut caches,
+            external: &mut *external,
+            marker: core::marker::PhantomData,
+        };
+        let m = folded.compose_from(&mut at).map_err(|fault| graph.named(fault, (times.len() > 1).then_some(index)))?;
         sink(index, m);
     }
     Ok(())
 }
-crate::fast_twin!(fn motions_along_fast(
-    graph: &FrameGraph,
-    path: &Path,
-    times: &[f64],
-    external: &mut dyn FnMut(FrameId, usize, f64) -> Result<Motion>,
-    sink: &mut dyn FnMut(usize, Motion),
-) -> GraphResult<()> = motions_along);
 
 /// A motion from a function edge, checked like any constructed motion (finite, within the
 /// limits, unit rotation).
