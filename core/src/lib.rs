@@ -17,6 +17,8 @@
 //! * [`dispatch`]: run-time choice of AVX2 + FMA code paths (one binary for every x86-64 CPU);
 //! * [`graph`]: frame graphs over time: any frame relative to any other, at any times;
 //! * [`limits`]: the supported input ranges (finite input inside them gives finite output);
+//! * [`propagate`]: free-body trajectories in moving frames, with the deflection budget of
+//!   the apparent terms;
 //! * [`nav`]: ideal IMU output and increments, strapdown mechanization (NED and ECEF), sensor
 //!   error models, lever arms.
 //!
@@ -76,6 +78,7 @@ pub mod graph;
 pub mod limits;
 pub mod motion;
 pub mod nav;
+pub mod propagate;
 pub mod rotation;
 
 pub use error::{BatchError, Error, Result};
@@ -84,7 +87,8 @@ pub use error::{BatchError, Error, Result};
 /// bindings name the same version.
 pub use nalgebra;
 
-/// The README's Rust examples, compiled and run as doctests so that they stay correct.
-#[cfg(doctest)]
+/// The README's Rust examples, compiled and run as doctests so that they stay correct (with
+/// `std`: they use the graph and the standard library).
+#[cfg(all(doctest, feature = "std"))]
 #[doc = include_str!("../../README.md")]
 pub struct ReadmeDoctests;

@@ -354,4 +354,32 @@ proptest! {
             }
         }
     }
+
+    #[test]
+    fn propagations_are_finite_or_refused(r0 in vec3(), v0 in vec3(), w in prop::array::uniform3(finite()), span in prop::array::uniform2(finite()), drag in prop::array::uniform3(finite()), which in 0u8..6) {
+        use rotaframe::propagate::{self, AirDensity, Drag, Gravitation, Settings, Tolerances};
+        // A frame spinning (with angular acceleration) at a finite offset from the Earth's
+        // centre, any gravitation, drag of any finite parameters, with and without the budget.
+        // A short step budget keeps the case fast; running out of it is a named error too.
+        let gravitation = [Gravitation::None, Gravitation::PointMass, Gravitation::J2][usize::from(which % 3)];
+        let settings = Settings { gravitation, tolerances: Tolerances { max_steps: 300, ..Tolerances::default() }, ..Settings::default() };
+        let offset = Vector3::new(7.0e6, 0.0, 0.0);
+        let frame = |t: f64| -> rotaframe::Result<propagate::Motion> {
+            let m: propagate::Motion = FrameMotion::about_axis(Vector3::new(0.3, -0.2, 1.0), w[0] * t + 0.5 * w[1] * t * t, w[0] + w[1] * t, w[1])?;
+            Ok(propagate::Motion::from_parts(MotionParts { position: offset, ..MotionParts::default() })?.then(&m))
+        };
+        let drag = check(Drag::new(drag[0], AirDensity::Exponential { at_origin: drag[1].abs(), scale_height: drag[2], up: Vector3::z() }, Vector3::zeros()), |_| vec![], "Drag");
+        let force = |_: f64, r: &Vector3<f64>, v: &Vector3<f64>| Ok(drag.map_or_else(Vector3::zeros, |d| d.acceleration(r, v)));
+        type NoEvent = fn(f64, &Vector3<f64>, &Vector3<f64>) -> rotaframe::Result<f64>;
+        let out = propagate::propagate(&settings, frame, force, None::<NoEvent>, span[0], span[0] + span[1].abs().min(1e3), r0, v0, which >= 3, |_| Ok(()));
+        check(out, |o| {
+            let mut n = vec![o.time];
+            n.extend(v3(&o.position));
+            n.extend(v3(&o.velocity));
+            if let Some(b) = o.budget {
+                n.extend(v3(&b.total_displacement()));
+            }
+            n
+        }, "propagate");
+    }
 }

@@ -119,6 +119,26 @@ fn check_outside_core(model: &EarthModel, position_ecef: &Vector3<f64>) -> Resul
     super::geodetic::check_geocentric(position_ecef, 0.5 * model.semi_minor_axis(), "position_ecef")
 }
 
+/// The Earth's point-mass gravitation `−GM x/|x|³` at a position `x` relative to its centre
+/// (m; in ECEF or ECI axes, resolved in the same axes; m/s²). Newton's law of gravitation;
+/// [`gravitation_ecef`] adds the J₂ term.
+///
+/// # Errors
+/// As [`gravitation_ecef`] (within half the semi-minor axis of the centre, beyond
+/// [`MAX_GEOCENTRIC_DISTANCE`](crate::limits::MAX_GEOCENTRIC_DISTANCE)), naming `position`.
+///
+/// ```
+/// use approx::assert_relative_eq;
+/// use rotaframe::earth::{point_mass_gravitation, WGS84};
+/// let g = point_mass_gravitation(&WGS84, &nalgebra::Vector3::new(7.0e6, 0.0, 0.0)).unwrap();
+/// assert_relative_eq!(g.x, -3.986004418e14 / 4.9e13, max_relative = 1e-15);
+/// ```
+pub fn point_mass_gravitation(model: &EarthModel, position: &Vector3<f64>) -> Result<Vector3<f64>> {
+    check_outside_core(model, position).map_err(|e| e.with_quantity("position"))?;
+    let r2 = position.norm_squared();
+    Ok(position * (-model.gm() / (r2 * math::sqrt(r2))))
+}
+
 /// The J₂ gravitation vector (no centrifugal part) at an ECEF position (m), resolved in ECEF
 /// (m/s²). Because the field is symmetric about the z axis, the same formula gives the field
 /// resolved in [`Eci`](crate::frames::Eci) at an ECI position.

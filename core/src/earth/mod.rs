@@ -36,7 +36,9 @@ pub use geodetic::{
     Geodetic, ecef_to_geodetic, ecef_to_geodetic_many, ecef_to_geodetic_slices, geodetic_to_ecef, geodetic_to_ecef_many,
     geodetic_to_ecef_slices,
 };
-pub use gravity::{GravityModel, gravitation_ecef, gravity_ecef, gravity_ned, normal_gravity, normal_gravity_at_height};
+pub use gravity::{
+    GravityModel, gravitation_ecef, gravity_ecef, gravity_ned, normal_gravity, normal_gravity_at_height, point_mass_gravitation,
+};
 pub use local::{
     ENU_FROM_NED, POLE_EXCLUSION, RadiiOfCurvature, coriolis_ned, earth_rate_ned, ecef_from_ned_quaternion, enu_from_ecef,
     enu_in_ned, local_level_motion, ned_from_ecef, radii_of_curvature, transport_rate_ned,

@@ -39,6 +39,8 @@
 //! file ([`FrameGraph::to_toml`]).
 //!
 //! ```
+//! # #[cfg(feature = "alloc")]
+//! # fn main() -> Result<(), Box<dyn std::error::Error>> {
 //! use approx::assert_relative_eq;
 //! use nalgebra::{UnitQuaternion, Vector3};
 //! use rotaframe::earth::{Geodetic, WGS84};
@@ -51,7 +53,10 @@
 //! // The accelerometer relative to the pad: 0.5 m from the axis, moving at 1 m/s.
 //! let m = g.motion("pad", "accel", 10.0)?;
 //! assert_relative_eq!(m.velocity().norm(), 1.0, max_relative = 1e-14);
-//! # Ok::<(), Box<dyn std::error::Error>>(())
+//! # Ok(())
+//! # }
+//! # #[cfg(not(feature = "alloc"))]
+//! # fn main() {}
 //! ```
 
 #[cfg(feature = "std")]
@@ -60,7 +65,7 @@ pub mod config;
 mod tree;
 
 #[cfg(feature = "alloc")]
-pub use tree::{Declared, Edge, EdgeFunction, FrameGraph, GraphError, SampledEdge, SamplesKind};
+pub use tree::{Declared, Edge, EdgeFunction, FrameGraph, GraphError, MotionSource, SampledEdge, SamplesKind};
 
 use core::fmt;
 

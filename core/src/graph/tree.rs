@@ -742,6 +742,47 @@ impl FrameGraph {
         motions_along(self, &path, times, &mut external, sink)
     }
 
+    /// A source of the motion of `child` relative to `parent` (by index) at one time after
+    /// another, with the path found and folded once and each sampled edge's interval
+    /// remembered: for an integrator, which asks at many times one at a time. Function edges
+    /// are called as in [`motions`](Self::motions); a path through an external edge is an
+    /// error when evaluated (its binding evaluates it).
+    ///
+    /// # Errors
+    /// As [`find_path`](Self::find_path).
+    ///
+    /// ```
+    /// use rotaframe::earth::WGS84;
+    /// use rotaframe::graph::{EarthRotation, FrameGraph};
+    /// let mut g = FrameGraph::new("inertial", true);
+    /// let ecef = g.add_earth("ecef", "inertial", EarthRotation::with_angle(WGS84, 0.0)?)?;
+    /// let mut source = g.motion_source(0, ecef)?;
+    /// let m = source.at(60.0)?;
+    /// assert!((m.rotation().angle() - 7.292115e-5 * 60.0).abs() < 1e-15);
+    /// # Ok::<(), Box<dyn std::error::Error>>(())
+    /// ```
+    pub fn motion_source(&self, parent: FrameId, child: FrameId) -> GraphResult<MotionSource<'_>> {
+        let path = self.find_path(parent, child)?;
+        Ok(MotionSource { graph: self, folded: self.fold(&path), caches: [SegmentCache::default(); 2 * super::MAX_DEPTH] })
+    }
+
+    /// The path with its constant edges composed once.
+    fn fold(&self, path: &Path) -> super::FoldedPath {
+        path.fold(|frame| match &self.frames[frame].edge {
+            Edge::Static(s) => s.constant_motion(),
+            _ => None,
+        })
+    }
+
+    /// The axes of a local-level frame (one attached by a site edge), `None` for any other.
+    #[must_use]
+    pub fn local_axes_of(&self, frame: FrameId) -> Option<super::LocalAxes> {
+        match self.frames.get(frame).map(|e| &e.edge) {
+            Some(Edge::Static(StaticEdge::Site(s))) => Some(s.axes()),
+            _ => None,
+        }
+    }
+
     /// The apparent accelerations, resolved in `frame`, on a point at `position` moving at
     /// `velocity` relative to `frame` (both resolved in it), at `time`. Needs an inertial root.
     ///
@@ -780,47 +821,61 @@ fn motions_along(
     external: &mut dyn FnMut(FrameId, usize, f64) -> Result<Motion>,
     mut sink: impl FnMut(usize, Motion),
 ) -> GraphResult<()> {
-    // One interval memory per edge of the path: the path visits its edges in the same order at
-    // every time, each once, so the k-th visit keeps the k-th memory.
-    struct AtTime<'a, 'b> {
-        graph: &'a FrameGraph,
-        time: f64,
-        index: usize,
-        visit: usize,
-        caches: &'a mut [SegmentCache; 2 * super::MAX_DEPTH],
-        external: &'a mut dyn FnMut(FrameId, usize, f64) -> Result<Motion>,
-        marker: core::marker::PhantomData<&'b ()>,
-    }
-    impl super::EdgeMotions for AtTime<'_, '_> {
-        type Error = GraphFault;
-        #[inline(always)]
-        fn edge_motion(&mut self, frame: FrameId) -> core::result::Result<Motion, GraphFault> {
-            let cache = &mut self.caches[self.visit];
-            self.visit += 1;
-            let (index, time) = (self.index, self.time);
-            let external = &mut *self.external;
-            self.graph.edge_motion(frame, time, cache, &mut |f| external(f, index, time))
-        }
-    }
-    let folded = path.fold(|frame| match &graph.frames[frame].edge {
-        Edge::Static(s) => s.constant_motion(),
-        _ => None,
-    });
+    let folded = graph.fold(path);
     let mut caches = [SegmentCache::default(); 2 * super::MAX_DEPTH];
     for (index, &time) in times.iter().enumerate() {
-        let mut at = AtTime {
-            graph,
-            time,
-            index,
-            visit: 0,
-            caches: &mut caches,
-            external: &mut *external,
-            marker: core::marker::PhantomData,
-        };
+        let mut at = AtTime { graph, time, index, visit: 0, caches: &mut caches, external: &mut *external };
         let m = folded.compose_from(&mut at).map_err(|fault| graph.named(fault, (times.len() > 1).then_some(index)))?;
         sink(index, m);
     }
     Ok(())
+}
+
+/// The motion of each edge of a path at one time: one interval memory per edge of the path
+/// (the path visits its edges in the same order at every time, each once, so the k-th visit
+/// keeps the k-th memory).
+struct AtTime<'a> {
+    graph: &'a FrameGraph,
+    time: f64,
+    index: usize,
+    visit: usize,
+    caches: &'a mut [SegmentCache; 2 * super::MAX_DEPTH],
+    external: &'a mut dyn FnMut(FrameId, usize, f64) -> Result<Motion>,
+}
+
+impl super::EdgeMotions for AtTime<'_> {
+    type Error = GraphFault;
+    #[inline(always)]
+    fn edge_motion(&mut self, frame: FrameId) -> core::result::Result<Motion, GraphFault> {
+        let cache = &mut self.caches[self.visit];
+        self.visit += 1;
+        let (index, time) = (self.index, self.time);
+        let external = &mut *self.external;
+        self.graph.edge_motion(frame, time, cache, &mut |f| external(f, index, time))
+    }
+}
+
+/// The motion of one frame relative to another at one time after another
+/// ([`FrameGraph::motion_source`]).
+#[derive(Debug)]
+pub struct MotionSource<'a> {
+    graph: &'a FrameGraph,
+    folded: super::FoldedPath,
+    caches: [SegmentCache; 2 * super::MAX_DEPTH],
+}
+
+impl MotionSource<'_> {
+    /// The motion at `time` (s).
+    ///
+    /// # Errors
+    /// [`GraphError::Edge`] naming the frame whose edge cannot give its motion at `time`.
+    pub fn at(&mut self, time: f64) -> GraphResult<Motion> {
+        let mut external = |_: FrameId, _: usize, _: f64| -> Result<Motion> {
+            Err(Error::Invalid { quantity: "edge", reason: "this external edge is evaluated by the binding that added it" })
+        };
+        let mut at = AtTime { graph: self.graph, time, index: 0, visit: 0, caches: &mut self.caches, external: &mut external };
+        self.folded.compose_from(&mut at).map_err(|fault| self.graph.named(fault, None))
+    }
 }
 
 /// A motion from a function edge, checked like any constructed motion (finite, within the
