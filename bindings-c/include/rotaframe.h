@@ -36,6 +36,27 @@
 #include <stdint.h>
 
 /**
+ * Bits of `rf_propagate_config.omit_terms`: apparent terms left out of the equations of
+ * motion (for with/without studies). Zero keeps them all.
+ */
+#define RF_OMIT_TRANSLATIONAL 1
+
+/**
+ * Leave out the Coriolis term.
+ */
+#define RF_OMIT_CORIOLIS 2
+
+/**
+ * Leave out the centrifugal term.
+ */
+#define RF_OMIT_CENTRIFUGAL 4
+
+/**
+ * Leave out the Euler term.
+ */
+#define RF_OMIT_EULER 8
+
+/**
  * The result of every rotaframe C function. Values are fixed and never reused.
  */
 enum rf_status
@@ -255,6 +276,36 @@ enum rf_local_axes
 typedef enum rf_local_axes rf_local_axes;
 #else
 typedef uint32_t rf_local_axes;
+#endif // __STDC_VERSION__ >= 202311L
+#endif // __cplusplus
+
+/**
+ * The gravitation of a propagation. Zero (the default of a zero-initialised config) is the
+ * Earth's point mass.
+ */
+enum rf_gravitation
+#if defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+  : uint32_t
+#endif // defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+ {
+  /**
+   * `−GM x/|x|³`.
+   */
+  RF_GRAVITATION_POINT_MASS = 0,
+  /**
+   * Point mass and the J₂ term.
+   */
+  RF_GRAVITATION_J2 = 1,
+  /**
+   * None (a laboratory frame, free space).
+   */
+  RF_GRAVITATION_NONE = 2,
+};
+#ifndef __cplusplus
+#if __STDC_VERSION__ >= 202311L
+typedef enum rf_gravitation rf_gravitation;
+#else
+typedef uint32_t rf_gravitation;
 #endif // __STDC_VERSION__ >= 202311L
 #endif // __cplusplus
 
@@ -761,6 +812,143 @@ typedef struct rf_imu_errors {
 } rf_imu_errors;
 
 /**
+ * Settings of `rf_propagate`. Zero-initialised (`= {0}`): WGS 84, point-mass gravitation,
+ * every apparent term, rtol 1e-10, atol 1e-9, no step bound, at most a million steps, no
+ * budget.
+ */
+typedef struct rf_propagate_config {
+  /**
+   * Earth model (all zero: WGS 84).
+   */
+  struct rf_earth_model model;
+  /**
+   * An `rf_gravitation` value.
+   */
+  uint32_t gravitation;
+  /**
+   * `RF_OMIT_*` bits: apparent terms to leave out.
+   */
+  uint32_t omit_terms;
+  /**
+   * Relative tolerance (0: 1e-10).
+   */
+  double rtol;
+  /**
+   * Absolute tolerance in m and m/s (0: 1e-9).
+   */
+  double atol;
+  /**
+   * Largest step (s; 0: none).
+   */
+  double max_step;
+  /**
+   * Most integration steps before `RF_STATUS_INVALID_ARGUMENT` (0: 1 000 000).
+   */
+  uint64_t max_steps;
+  /**
+   * Nonzero: also integrate the deflection budget of the four apparent terms.
+   */
+  uint32_t budget;
+} rf_propagate_config;
+
+/**
+ * The user's force per unit mass on the body at `time`, `position[3]`, `velocity[3]`
+ * (relative to and resolved in the propagation frame), written to `out_force[3]` (m/s²).
+ * Return `RF_STATUS_OK`, or any other status to abort the run with it.
+ */
+typedef rf_status (*rf_force_fn)(void *context, double time, const double *position, const double *velocity, double *out_force);
+
+/**
+ * A stopping function of the state: the run ends where the value written to `out_value`
+ * crosses zero (located to 1e-9 s on the dense output).
+ */
+typedef rf_status (*rf_event_fn)(void *context, double time, const double *position, const double *velocity, double *out_value);
+
+/**
+ * A state of the body at a time: position (m) and velocity (m/s) relative to and resolved in
+ * the propagation frame.
+ */
+typedef struct rf_propagated_state {
+  /**
+   * Time (s).
+   */
+  double time;
+  /**
+   * Position (m).
+   */
+  struct rf_vec3 position;
+  /**
+   * Velocity (m/s).
+   */
+  struct rf_vec3 velocity;
+} rf_propagated_state;
+
+/**
+ * The first-order displacement (m) and velocity change (m/s) each apparent term caused by
+ * the end of a run, resolved in the propagation frame.
+ */
+typedef struct rf_deflection_budget {
+  /**
+   * Displacement caused by the translational term.
+   */
+  struct rf_vec3 translational;
+  /**
+   * Displacement caused by the Coriolis term.
+   */
+  struct rf_vec3 coriolis;
+  /**
+   * Displacement caused by the centrifugal term.
+   */
+  struct rf_vec3 centrifugal;
+  /**
+   * Displacement caused by the Euler term.
+   */
+  struct rf_vec3 euler;
+  /**
+   * Velocity change caused by the translational term.
+   */
+  struct rf_vec3 translational_velocity;
+  /**
+   * Velocity change caused by the Coriolis term.
+   */
+  struct rf_vec3 coriolis_velocity;
+  /**
+   * Velocity change caused by the centrifugal term.
+   */
+  struct rf_vec3 centrifugal_velocity;
+  /**
+   * Velocity change caused by the Euler term.
+   */
+  struct rf_vec3 euler_velocity;
+} rf_deflection_budget;
+
+/**
+ * How a propagation ended.
+ */
+typedef struct rf_propagation_result {
+  /**
+   * The end state: at the end of the span, or at the event.
+   */
+  struct rf_propagated_state end;
+  /**
+   * Nonzero when the event stopped the run (at `end.time`).
+   */
+  uint32_t event_found;
+  /**
+   * Accepted integration steps; the trajectory has `steps + 1` states.
+   */
+  uint64_t steps;
+  /**
+   * Right-hand-side evaluations.
+   */
+  uint64_t evaluations;
+  /**
+   * The deflection budget (zero unless the config asked for it).
+   */
+  struct rf_deflection_budget budget;
+} rf_propagation_result;
+
+/**
  * z-y-x Euler angles (rad): body to local level `Rz(yaw) Ry(pitch) Rx(roll)`.
  */
 typedef struct rf_euler {
@@ -777,6 +965,35 @@ typedef struct rf_euler {
    */
   double roll;
 } rf_euler;
+
+/**
+ * Quadratic aerodynamic drag for `rf_drag_force`: ballistic coefficient `m / (C_D A)`
+ * (kg/m²), air `density` (kg/m³; at the frame's origin when `scale_height` > 0, for the
+ * exponential atmosphere `density · exp(−(up · r) / scale_height)`, `up` the upward
+ * direction in the propagation frame), `wind` the air's velocity relative to the frame (m/s).
+ */
+typedef struct rf_drag {
+  /**
+   * Ballistic coefficient (kg/m²).
+   */
+  double ballistic_coefficient;
+  /**
+   * Air density (kg/m³).
+   */
+  double density;
+  /**
+   * Scale height (m); 0 for a constant density.
+   */
+  double scale_height;
+  /**
+   * Upward direction (used with a scale height).
+   */
+  struct rf_vec3 up;
+  /**
+   * Wind (m/s).
+   */
+  struct rf_vec3 wind;
+} rf_drag;
 
 #ifdef __cplusplus
 extern "C" {
@@ -1152,6 +1369,40 @@ rf_status rf_imu_errors_apply(struct rf_imu_errors *errors, const struct rf_imu_
  * in navigation state `state` whose gyros read `angular_rate` (rad/s).
  */
 rf_status rf_lever_arm_state(const struct rf_earth_model *model, const struct rf_nav_state *state, const struct rf_vec3 *angular_rate, const struct rf_vec3 *lever_arm, struct rf_geodetic *out_position, struct rf_vec3 *out_velocity_ned);
+
+/**
+ * The drag acceleration of the `rf_drag` at `context` on a body at `position[3]` moving at
+ * `velocity[3]`, written to `out_force[3]` (m/s²). Its signature is `rf_force_fn`'s: pass it
+ * to `rf_propagate` with a pointer to an `rf_drag` as the force context.
+ */
+rf_status rf_drag_force(void *context, double _time, const double *position, const double *velocity, double *out_force);
+
+/**
+ * Propagates a body from `position`, `velocity` (relative to and resolved in the propagation
+ * frame B) at `t0` to `t1` (> `t0`, s).
+ *
+ * * `frame_motion(frame_context, t, out)`: B's motion relative to an inertial frame whose
+ *   origin is the Earth's centre (the callback type of a graph function edge; a graph query
+ *   such as `rf_graph_motion` inside it gives a graph frame);
+ * * `force` (may be NULL: no force): the user's force per unit mass; `rf_drag_force` with an
+ *   `rf_drag` context is built in;
+ * * `event` (may be NULL: no event): stops the run where its value crosses zero.
+ *
+ * The trajectory (the start, then the end of each accepted step, the event state last) goes
+ * to `out_states` when it is not NULL: `capacity` states at most, the count to `out_count`
+ * (may be NULL). Without `out_states` only `out_result` is written; its `steps + 1` is the
+ * count a second call needs. When states are written the run is made twice (once to check,
+ * once to write), so the callbacks must give the same answers at the same arguments (should
+ * one fail only on the second run, the states written before it stay written).
+ *
+ * Errors: `RF_STATUS_INVALID_ARGUMENT` for the step limit, a bad config or a `capacity` too
+ * small; `RF_STATUS_NOT_POSITIVE` for `t1 ≤ t0`; `RF_STATUS_NON_FINITE` /
+ * `RF_STATUS_OUT_OF_RANGE` for a non-finite or out-of-range state or force; a callback's own
+ * status when it returns one. Nothing is written on error.
+ *
+ * Not certified for safety-of-life, range-safety or weapons use.
+ */
+rf_status rf_propagate(const struct rf_propagate_config *config, rf_edge_motion_fn frame_motion, void *frame_context, rf_force_fn force, void *force_context, rf_event_fn event, void *event_context, double t0, double t1, const struct rf_vec3 *position, const struct rf_vec3 *velocity, struct rf_propagated_state *out_states, size_t capacity, size_t *out_count, struct rf_propagation_result *out_result);
 
 /**
  * Body-to-local-level quaternion from z-y-x Euler angles (rad).

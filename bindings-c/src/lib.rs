@@ -18,6 +18,7 @@ pub mod earth;
 pub mod graph;
 pub mod motion;
 pub mod nav;
+pub mod propagate;
 pub mod rotation;
 pub mod status;
 pub mod types;

@@ -105,15 +105,15 @@ pub fn earth_model<'py>(obj: &Bound<'py, PyAny>) -> PyResult<Option<Bound<'py, P
     })
 }
 
-/// A random seed: an integer in [0, 2⁶⁴).
-pub fn seed(obj: &Bound<'_, PyAny>) -> PyResult<u64> {
+/// A count: a non-negative integer (Python or numpy), up to 2⁶⁴ − 1.
+pub fn count(obj: &Bound<'_, PyAny>, name: &str) -> PyResult<u64> {
     let integer = obj.is_instance_of::<PyInt>() && !obj.is_instance_of::<PyBool>();
     if !integer && !matches!(numpy_kind(obj), Some('i' | 'u')) {
-        return Err(input_type_error(format!("`seed` must be an integer, got {}", describe(obj))));
+        return Err(input_type_error(format!("`{name}` must be an integer, got {}", describe(obj))));
     }
     obj.extract::<u64>().map_err(|_| {
         OutOfRangeError::new_err(format!(
-            "`seed` = {} is outside [0, 18446744073709551615]",
+            "`{name}` = {} is outside [0, 18446744073709551615]",
             obj.str().map_or_else(|_| "?".into(), |s| s.to_string())
         ))
     })
@@ -141,8 +141,11 @@ fn optional_number(obj: &Bound<'_, PyAny>, name: &str) -> PyResult<Option<f64>> 
 
 extractors!(number, f64: lat, lon, h, a, f, gm, omega, angle_at_epoch, rtol, atol, height_reference, elapsed, elapsed_correction,
     req_gamma_equator = "gamma_equator", req_gamma_pole = "gamma_pole", req_j2 = "j2", rate, angle_at_zero, angular_acceleration);
-extractors!(optional_number, Option<f64>: gamma_equator, gamma_pole, j2, height_time_constant, opt_height_reference = "height_reference");
-extractors!(flag, bool: degrees, inertial);
+extractors!(optional_number, Option<f64>: gamma_equator, gamma_pole, j2, height_time_constant, opt_height_reference = "height_reference",
+    opt_max_step = "max_step", opt_stop_height = "stop_height", opt_scale_height = "scale_height");
+extractors!(flag, bool: degrees, inertial, budget);
+extractors!(count, u64: max_steps, seed);
+extractors!(number, f64: ballistic_coefficient, density);
 /// Keyword arguments with their allowed values.
 macro_rules! keywords {
     ($($name:ident: [$($value:literal),*]),* $(,)?) => {

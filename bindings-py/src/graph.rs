@@ -19,7 +19,7 @@ use crate::rotations::{matrix, quaternion};
 /// A Python exception for a graph error: structural problems are `FrameGraphError`s; an
 /// edge's own error keeps its class (`OutOfRangeError` for a time outside a sampled edge's
 /// span, ...) with the frame and time index in front.
-fn graph_error(error: GraphError) -> PyErr {
+pub fn graph_error(error: GraphError) -> PyErr {
     match error {
         GraphError::Edge { name, index, error } => {
             let context = match index {
@@ -34,9 +34,9 @@ fn graph_error(error: GraphError) -> PyErr {
 
 /// The graph and the Python callables of its function edges, behind one lock.
 #[derive(Debug)]
-struct State {
-    graph: FrameGraph,
-    functions: Vec<(FrameId, Py<PyAny>)>,
+pub struct State {
+    pub graph: FrameGraph,
+    pub functions: Vec<(FrameId, Py<PyAny>)>,
 }
 
 /// A tree of named frames over time: add frames under parents with an edge each (fixed,
@@ -51,7 +51,7 @@ pub struct PyFrameGraph {
 }
 
 impl PyFrameGraph {
-    fn read(&self) -> PyResult<std::sync::RwLockReadGuard<'_, State>> {
+    pub fn read(&self) -> PyResult<std::sync::RwLockReadGuard<'_, State>> {
         match self.state.try_read() {
             Ok(g) => Ok(g),
             Err(std::sync::TryLockError::Poisoned(p)) => Ok(p.into_inner()),

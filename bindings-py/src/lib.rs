@@ -14,6 +14,7 @@ mod graph;
 mod model;
 mod motion;
 mod nav;
+mod propagate;
 mod rotations;
 
 use pyo3::prelude::*;
@@ -51,6 +52,10 @@ fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(nav::imu_increments_from_samples, m)?)?;
     m.add_function(wrap_pyfunction!(nav::motion_from_samples, m)?)?;
     m.add_function(wrap_pyfunction!(nav::lever_arm_state, m)?)?;
+    m.add_class::<propagate::PyPropagation>()?;
+    m.add_class::<propagate::PyDeflectionBudget>()?;
+    m.add_class::<propagate::PyDrag>()?;
+    m.add_function(wrap_pyfunction!(propagate::propagate, m)?)?;
     for f in [
         wrap_pyfunction!(geodesy::geodetic_to_ecef, m)?,
         wrap_pyfunction!(geodesy::ecef_to_geodetic, m)?,

@@ -37,7 +37,7 @@ def finite_or_named(call, *args, **kwargs):
         return None
     values = result if isinstance(result, tuple) else (result,)
     for v in values:
-        if isinstance(v, (rf.ImuErrors, rf.Strapdown, rf.StrapdownHistory)):
+        if v is None or isinstance(v, (rf.ImuErrors, rf.Strapdown, rf.StrapdownHistory, rf.Propagation, rf.Drag)):
             continue
         if isinstance(v, rf.ApparentAcceleration):
             v = np.stack([v.translational, v.coriolis, v.centrifugal, v.euler, v.total])
@@ -271,3 +271,20 @@ def test_strapdown_run_needs_little_more_memory_than_its_result():
     result = sum(getattr(history, f).nbytes for f in ("lat", "lon", "h", "v_ned", "attitude", "t"))
     assert result == 88 * n
     assert peak <= 1.2 * result + 8e6, f"peak {peak / 1e6:.1f} MB for a {result / 1e6:.1f} MB result"
+
+
+@settings(max_examples=150, deadline=None)
+@given(r=VEC, v=VEC, lat=FINITE, t1=FINITE, beta=FINITE, rho=FINITE, budget=st.booleans(), gravity=st.sampled_from(["point", "j2", None]))
+def test_propagations_are_finite_or_refused(r, v, lat, t1, beta, rho, budget, gravity):
+    # A graph site frame (no Python called inside the run), built-in drag of any finite
+    # parameters, a short step budget (running out of it is a named error too).
+    g = rf.FrameGraph("inertial")
+    g.add_earth("ecef", "inertial")
+    if finite_or_named(g.add_site, "pad", "ecef", lat, 0.3, 0.0) is None and "pad" not in g.frames:
+        return
+    drag = finite_or_named(rf.Drag, beta, density=rho)
+    out = finite_or_named(rf.propagate, (g, "pad"), (0.0, min(abs(t1), 1e3) or 1.0), r, v, force=drag, gravity=gravity, budget=budget, max_steps=200)
+    if out is not None:
+        assert np.all(np.isfinite(out.position)) and np.all(np.isfinite(out.velocity)) and np.all(np.isfinite(out.t))
+        if budget:
+            assert np.all(np.isfinite(out.budget.total))

@@ -46,3 +46,20 @@ def graph_query(t: NDArray[np.float64]) -> float:
     again = rf.FrameGraph.from_toml(g.to_toml())
     _ = (m, p, v, a, terms, names, again.parent_of("imu"), again.kind_of("probe"))
     return float(np.sum(terms.total))
+
+
+def fall_budget() -> float:
+    g = rf.FrameGraph("inertial")
+    g.add_earth("ecef", "inertial")
+    g.add_site("pad", "ecef", 45.0, 0.0, 0.0, degrees=True)
+    drag = rf.Drag(5.0, density=1.2, scale_height=8000.0, up=[0.0, 0.0, -1.0])
+    out: rf.Propagation = rf.propagate((g, "pad"), (0.0, 60.0), [0.0, 0.0, -500.0], [0.0, 0.0, 0.0],
+                                       gravity="j2", force=drag, stop_height=0.0, budget=True)
+    by_callable = rf.propagate(lambda t: rf.earth_motion(t), (0.0, 1.0), [7e6, 0.0, 0.0], [0.0, 0.0, 0.0],
+                               force=lambda t, r, v: [0.0, 0.0, 0.0], stop_fn=lambda t, r, v: 1.0)
+    budget = out.budget
+    assert budget is not None
+    ned: NDArray[np.float64] = budget.north_east_down
+    p, v = out.sample([1.0, 2.0])
+    _ = (by_callable.event_time, p, v, out.steps)
+    return float(ned[1][1])

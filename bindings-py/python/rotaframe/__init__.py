@@ -4,7 +4,8 @@ Frame motions and the transport theorem, frame graphs over time (any frame relat
 other), apparent (Coriolis, centrifugal, Euler,
 translational) accelerations, Earth models, geodetic conversions, local-level frames,
 Earth rotation and gravity; ideal IMU output and increments, strapdown inertial navigation
-in NED and ECEF form, IMU error simulation and lever arms. The math is rotaframe's Rust core; this package converts,
+in NED and ECEF form, IMU error simulation and lever arms; free-body trajectories in moving
+frames with the deflection budget of each apparent term. The math is rotaframe's Rust core; this package converts,
 validates and batches.
 
 Conventions (the same in Rust, C and Python):
@@ -25,6 +26,8 @@ from ._native import (
     ApparentAcceleration,
     EarthModel,
     ConcurrentUseError,
+    DeflectionBudget,
+    Drag,
     FrameGraph,
     FrameGraphError,
     FrameMismatchError,
@@ -38,6 +41,7 @@ from ._native import (
     NotRotationMatrixError,
     NotUnitQuaternionError,
     OutOfRangeError,
+    Propagation,
     RotaframeError,
     ShapeError,
     Strapdown,
@@ -68,6 +72,7 @@ from ._native import (
     motion_from_samples,
     ned_from_ecef,
     normal_gravity,
+    propagate,
     quat_from_euler,
     quat_from_rotvec,
     quat_inverse,
@@ -87,6 +92,8 @@ __all__ = [
     "ApparentAcceleration",
     "EarthModel",
     "ConcurrentUseError",
+    "DeflectionBudget",
+    "Drag",
     "FrameGraph",
     "FrameGraphError",
     "FrameMismatchError",
@@ -100,6 +107,7 @@ __all__ = [
     "NotRotationMatrixError",
     "NotUnitQuaternionError",
     "OutOfRangeError",
+    "Propagation",
     "RotaframeError",
     "ShapeError",
     "Strapdown",
@@ -130,6 +138,7 @@ __all__ = [
     "motion_from_samples",
     "ned_from_ecef",
     "normal_gravity",
+    "propagate",
     "quat_from_euler",
     "quat_from_rotvec",
     "quat_inverse",

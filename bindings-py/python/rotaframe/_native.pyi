@@ -1,6 +1,6 @@
 """Type stubs for rotaframe's native module (checked with mypy and mypy.stubtest)."""
 
-from typing import Any, Callable, Literal, Optional, Union, final
+from typing import Any, Callable, Literal, Optional, Sequence, Union, final
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -11,6 +11,8 @@ _FloatOrArray = Union[float, _Array]
 __all__ = [
     "ApparentAcceleration",
     "ConcurrentUseError",
+    "DeflectionBudget",
+    "Drag",
     "EarthModel",
     "FrameGraph",
     "FrameGraphError",
@@ -26,6 +28,7 @@ __all__ = [
     "NotRotationMatrixError",
     "NotUnitQuaternionError",
     "OutOfRangeError",
+    "Propagation",
     "RotaframeError",
     "ShapeError",
     "Strapdown",
@@ -61,6 +64,7 @@ __all__ = [
     "motion_from_samples",
     "ned_from_ecef",
     "normal_gravity",
+    "propagate",
     "quat_from_euler",
     "quat_from_rotvec",
     "quat_inverse",
@@ -524,3 +528,78 @@ class FrameGraph:
     def __reduce__(self) -> tuple[Any, ...]: ...
 
 def _frame_graph_from_parts(toml: str, samples: list[Any]) -> FrameGraph: ...
+
+@final
+class Drag:
+    """Quadratic aerodynamic drag per unit mass, a built-in force for ``propagate``."""
+
+    def __new__(
+        cls,
+        ballistic_coefficient: float,
+        *,
+        density: float = 1.225,
+        scale_height: Optional[float] = None,
+        up: Optional[ArrayLike] = None,
+        wind: Optional[ArrayLike] = None,
+    ) -> Drag: ...
+    def acceleration(self, position: ArrayLike, velocity: ArrayLike) -> _Array: ...
+    @property
+    def ballistic_coefficient(self) -> float: ...
+
+@final
+class DeflectionBudget:
+    """First-order displacement caused by each apparent term by the end of a run (m)."""
+
+    @property
+    def translational(self) -> _Array: ...
+    @property
+    def coriolis(self) -> _Array: ...
+    @property
+    def centrifugal(self) -> _Array: ...
+    @property
+    def euler(self) -> _Array: ...
+    @property
+    def total(self) -> _Array: ...
+    @property
+    def velocity(self) -> _Array: ...
+    @property
+    def north_east_down(self) -> _Array: ...
+
+@final
+class Propagation:
+    """A propagated trajectory with its dense output."""
+
+    @property
+    def t(self) -> _Array: ...
+    @property
+    def position(self) -> _Array: ...
+    @property
+    def velocity(self) -> _Array: ...
+    @property
+    def event_time(self) -> Optional[float]: ...
+    @property
+    def budget(self) -> Optional[DeflectionBudget]: ...
+    @property
+    def steps(self) -> int: ...
+    @property
+    def evaluations(self) -> int: ...
+    def sample(self, t: ArrayLike) -> tuple[_Array, _Array]: ...
+
+def propagate(
+    frame_motion: Union[Callable[[float], FrameMotion], tuple[FrameGraph, str]],
+    t_span: ArrayLike,
+    position: ArrayLike,
+    velocity: ArrayLike,
+    *,
+    gravity: Optional[Literal["point", "j2"]] = "point",
+    force: Union[None, Drag, Callable[[float, _Array, _Array], ArrayLike]] = None,
+    rtol: float = 1e-10,
+    atol: float = 1e-9,
+    max_step: Optional[float] = None,
+    stop_height: Optional[float] = None,
+    stop_fn: Optional[Callable[[float, _Array, _Array], float]] = None,
+    budget: bool = False,
+    model: Optional[EarthModel] = None,
+    apparent: Optional[Sequence[Literal["translational", "coriolis", "centrifugal", "euler"]]] = None,
+    max_steps: int = 1000000,
+) -> Propagation: ...
