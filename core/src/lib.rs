@@ -76,6 +76,7 @@ pub mod error;
 pub mod frames;
 pub mod graph;
 pub mod limits;
+pub mod linearise;
 pub mod motion;
 pub mod nav;
 pub mod propagate;

@@ -1,0 +1,442 @@
+//! The inertial error-state model of rotaframe's strapdown mechanizations, its discrete form,
+//! and covariance prediction along a run.
+//!
+//! # States and conventions
+//!
+//! Errors are *estimate minus truth*. The state vector (15 numbers, or 21 with scale factors):
+//!
+//! | rows | NED mechanization | ECEF mechanization |
+//! |---|---|---|
+//! | 0–2 | `δφ, δλ` (rad), `δh` (m) | `δr^e` (m) |
+//! | 3–5 | `δv^n` (m/s, NED) | `δv^e` (m/s, ECEF) |
+//! | 6–8 | `ψ^n`: `Ĉ_b^n = (I + [ψ×]) C_b^n` (rad) | `ψ^e`: `Ĉ_b^e = (I + [ψ×]) C_b^e` |
+//! | 9–11 | accelerometer bias `b_a` (m/s², body axes) | the same |
+//! | 12–14 | gyro bias `b_g` (rad/s, body axes) | the same |
+//! | 15–17 | accelerometer scale factors `s_a` (21 states) | the same |
+//! | 18–20 | gyro scale factors `s_g` (21 states) | the same |
+//!
+//! The attitude error is the parent-side small-angle rotation of [`linearise`](super) (the
+//! navigation frame's axes). The sensors measure `f̃ = f + b_a + diag(f) s_a + w_a` and
+//! `ω̃ = ω + b_g + diag(ω) s_g + w_g` (the [`nav::sensor`](crate::nav) model without
+//! misalignment, whose fixed part is deterministic); each bias is a first-order Gauss–Markov
+//! process `ḃ = −b/τ + w_b` (a random constant for `τ = ∞`).
+//!
+//! # Continuous-time model `δẋ = F δx + G w`
+//!
+//! NED (with `ω_in = ω_ie + ω_en`, `f^n = C_b^n f`, `R_N = M + h`, `R_E = N + h`):
+//!
+//! ```text
+//! δφ̇ = δv_N / R_N − v_N (M′ δφ + δh) / R_N²
+//! δλ̇ = δv_E / (R_E cos φ) + v_E (R_E sin φ − N′ cos φ) δφ / (R_E cos φ)² − v_E δh / (R_E² cos φ)
+//! δḣ = −δv_D
+//! δv̇ = −[f^n×] ψ + [v×] (2 ∂ω_ie/∂p + ∂ω_en/∂p) δp + ∂g/∂p δp − [(2ω_ie + ω_en)×] δv + [v×] ∂ω_en/∂v δv + C_b^n δf
+//! ψ̇  = −[ω_in×] ψ − ∂ω_in/∂p δp − ∂ω_en/∂v δv + C_b^n δω
+//! ```
+//!
+//! ECEF: `δṙ = δv`, `δv̇ = ∂g^e/∂r δr − 2 [Ω×] δv − [f^e×] ψ + C_b^e δf`,
+//! `ψ̇ = −[Ω×] ψ + C_b^e δω`. The gravity gradients come from the [`linearise`](super)
+//! gravity Jacobians of the same gravity model the stepper uses. The aided vertical channel
+//! adds `δḣ −= k₁ δh`, `δv̇_D += k₂ δh` (ECEF: along the local up direction); the held channel
+//! removes the vertical position and velocity errors (their rows and columns are zero; in
+//! ECEF the position and velocity errors are projected on the local horizontal).
+//!
+//! This follows P. D. Groves, *Principles of GNSS, Inertial, and Multisensor Integrated
+//! Navigation Systems*, 2nd ed. (2013), §14.2 (ECEF, eq. 14.48–14.50, and local-navigation
+//! frame, eq. 14.63–14.71; equation numbers from memory) and D. H. Titterton and J. L.
+//! Weston, *Strapdown Inertial Navigation Technology*, 2nd ed. (2004), ch. 12, with these
+//! differences: Groves writes the attitude error as the rotation from true to estimated
+//! attitude with the opposite sign for the sensor-error inputs; here every error is estimate
+//! minus truth and ψ is the parent-side perturbation used by every Jacobian of rotaframe; the
+//! derivatives of the radii of curvature with latitude (`M′`, `N′`) are kept.
+//!
+//! # Noise
+//!
+//! `w = (w_a, w_g, w_ba, w_bg)` (12 numbers) with power spectral densities
+//! `(N_a², N_g², 2σ_a²/τ_a, 2σ_g²/τ_g)` per axis from the [`ImuErrorModel`]: white noise
+//! densities `N` and Gauss–Markov σ, τ (Gelb, *Applied Optimal Estimation*, 1974, ch. 3).
+//!
+//! # Discrete form over an interval `T`
+//!
+//! `Φ = exp(F T)` and `Q_d = ∫₀ᵀ exp(F s) G Q Gᵀ exp(F s)ᵀ ds`, both by their Taylor series
+//! (`Q_d = Σ Q_k Tᵏ/k!`, `Q₁ = G Q Gᵀ`, `Q_{k+1} = F Q_k + Q_k Fᵀ`), summed until a term is below
+//! 1e-17 of the sum, after halving `T` until `‖F T‖_∞ ≤ 1/4` and doubling back with
+//! `Φ(2t) = Φ(t)²`, `Q(2t) = Φ(t) Q(t) Φ(t)ᵀ + Q(t)` (C. F. Van Loan, "Computing integrals
+//! involving the matrix exponential", IEEE Trans. AC-23 (1978), for the integral; scaling and
+//! squaring: Moler and Van Loan, SIAM Review 20 (1978)).
+
+use nalgebra::{Matrix3, SMatrix, SVector, UnitQuaternion, Vector3};
+
+use super::{gravity_model_ecef_jacobian, gravity_ned_jacobian, skew};
+use crate::earth::{self, Geodetic};
+use crate::error::{Error, Result};
+use crate::math;
+use crate::nav::{ImuErrorModel, ImuIncrement, MechanizationState, NavFrame, Strapdown, StrapdownConfig, VerticalChannel};
+
+/// The number of noise inputs: accelerometer and gyro white noise, accelerometer and gyro
+/// bias drives.
+pub const NOISE_INPUTS: usize = 12;
+
+/// The noise input matrix `G` of an `N`-state model.
+pub type NoiseInput<const N: usize> = SMatrix<f64, N, NOISE_INPUTS>;
+
+/// The noise power spectral densities of an [`ImuErrorModel`], in the order of the noise
+/// inputs: `N_a²` (m²/s³), `N_g²` (rad²/s), `2σ_a²/τ_a` (m²/s⁵), `2σ_g²/τ_g` (rad²/s³); a
+/// random-constant bias (`τ = ∞`) has no drive.
+///
+/// ```
+/// use nalgebra::Vector3;
+/// use rotaframe::linearise::inertial::noise_psd;
+/// use rotaframe::nav::{ImuErrorModel, SensorErrorModel};
+/// let gyro = SensorErrorModel { markov_sigma: Vector3::repeat(1e-5), markov_time: Vector3::repeat(100.0), ..Default::default() };
+/// let q = noise_psd(&ImuErrorModel { gyro, ..Default::default() });
+/// assert!((q[9] - 2e-12).abs() < 1e-27);
+/// ```
+#[must_use]
+pub fn noise_psd(model: &ImuErrorModel) -> SVector<f64, NOISE_INPUTS> {
+    let mut q = SVector::<f64, NOISE_INPUTS>::zeros();
+    for i in 0..3 {
+        q[i] = model.accelerometer.noise_density[i] * model.accelerometer.noise_density[i];
+        q[3 + i] = model.gyro.noise_density[i] * model.gyro.noise_density[i];
+        q[6 + i] = drive(model.accelerometer.markov_sigma[i], model.accelerometer.markov_time[i]);
+        q[9 + i] = drive(model.gyro.markov_sigma[i], model.gyro.markov_time[i]);
+    }
+    q
+}
+
+fn drive(sigma: f64, tau: f64) -> f64 {
+    if tau.is_finite() { 2.0 * sigma * sigma / tau } else { 0.0 }
+}
+
+/// The initial covariance of the bias states implied by an [`ImuErrorModel`]: the
+/// Gauss–Markov steady-state variance `σ²` on the diagonal of the bias blocks (rows 9–14),
+/// zero elsewhere (add the navigation and scale-factor uncertainties yourself).
+#[must_use]
+pub fn bias_covariance<const N: usize>(model: &ImuErrorModel) -> SMatrix<f64, N, N> {
+    let mut p = SMatrix::<f64, N, N>::zeros();
+    for i in 0..3 {
+        p[(9 + i, 9 + i)] = model.accelerometer.markov_sigma[i] * model.accelerometer.markov_sigma[i];
+        p[(12 + i, 12 + i)] = model.gyro.markov_sigma[i] * model.gyro.markov_sigma[i];
+    }
+    p
+}
+
+/// The continuous-time system matrix `F` and noise input matrix `G` of the `N`-state error
+/// model (`N` = 15, or 21 with scale factors) of a stepper with `config`, at `state`, with the
+/// current specific force and angular rate (body axes, m/s² and rad/s: the measured values,
+/// `Δv/T` and `Δθ/T` of the step); `bias_time` gives the Gauss–Markov correlation times of
+/// the accelerometer and gyro biases (s; infinity for random constants).
+///
+/// # Errors
+/// [`Error::Invalid`] naming `states` unless `N` is 15 or 21; as the gravity Jacobians
+/// ([`Error::NearPole`] in the NED form within
+/// [`POLE_EXCLUSION`](crate::earth::POLE_EXCLUSION) of a pole); [`Error::NonFinite`] naming
+/// `specific_force` or `angular_rate`.
+pub fn error_model<const N: usize>(
+    config: &StrapdownConfig,
+    state: &MechanizationState,
+    specific_force: &Vector3<f64>,
+    angular_rate: &Vector3<f64>,
+    bias_time: (&Vector3<f64>, &Vector3<f64>),
+) -> Result<(SMatrix<f64, N, N>, NoiseInput<N>)> {
+    if N != 15 && N != 21 {
+        return Err(Error::Invalid { quantity: "states", reason: "the error model has 15 or 21 states" });
+    }
+    crate::error::ensure_finite3(specific_force, "specific_force")?;
+    crate::error::ensure_finite3(angular_rate, "angular_rate")?;
+    let mut f = SMatrix::<f64, N, N>::zeros();
+    let mut g = NoiseInput::<N>::zeros();
+    let (c_b, up) = match state {
+        MechanizationState::Ned { position, velocity_ned, attitude } => {
+            ned_blocks(config, position, velocity_ned, &mut f)?;
+            (rotation(attitude), None)
+        }
+        MechanizationState::Ecef { position_ecef, velocity_ecef: _, attitude_ecef } => {
+            let up = ecef_blocks(config, position_ecef, &mut f)?;
+            (rotation(attitude_ecef), up)
+        }
+    };
+    // The specific force and the sensor inputs, the same in both forms.
+    let f_nav = c_b * specific_force;
+    put(&mut f, 3, 6, &(-skew(&f_nav)));
+    put(&mut f, 3, 9, &c_b);
+    put(&mut f, 6, 12, &c_b);
+    if N == 21 {
+        put(&mut f, 3, 15, &(c_b * Matrix3::from_diagonal(specific_force)));
+        put(&mut f, 6, 18, &(c_b * Matrix3::from_diagonal(angular_rate)));
+    }
+    let (accelerometer_time, gyro_time) = bias_time;
+    for i in 0..3 {
+        f[(9 + i, 9 + i)] = decay(accelerometer_time[i]);
+        f[(12 + i, 12 + i)] = decay(gyro_time[i]);
+    }
+    g.fixed_view_mut::<3, 3>(3, 0).copy_from(&c_b);
+    g.fixed_view_mut::<3, 3>(6, 3).copy_from(&c_b);
+    g.fixed_view_mut::<3, 3>(9, 6).copy_from(&Matrix3::identity());
+    g.fixed_view_mut::<3, 3>(12, 9).copy_from(&Matrix3::identity());
+    apply_vertical_channel(config, up.as_ref(), &mut f, &mut g);
+    Ok((f, g))
+}
+
+fn decay(tau: f64) -> f64 {
+    if tau.is_finite() { -1.0 / tau } else { 0.0 }
+}
+
+fn rotation(q: &UnitQuaternion<f64>) -> Matrix3<f64> {
+    q.to_rotation_matrix().into_inner()
+}
+
+fn put<const N: usize>(f: &mut SMatrix<f64, N, N>, row: usize, col: usize, block: &Matrix3<f64>) {
+    f.fixed_view_mut::<3, 3>(row, col).copy_from(block);
+}
+
+/// The position, velocity and attitude blocks of the NED form.
+fn ned_blocks<const N: usize>(
+    config: &StrapdownConfig,
+    p: &Geodetic,
+    v: &Vector3<f64>,
+    f: &mut SMatrix<f64, N, N>,
+) -> Result<()> {
+    let model = &config.earth;
+    earth::local::check_away_from_pole(p.latitude, "latitude")?;
+    let (s, c) = math::sin_cos(p.latitude);
+    let radii = earth::local::radii_unchecked(model, s);
+    let e2 = model.eccentricity_squared();
+    let w2 = 1.0 - e2 * s * s;
+    let (m, n) = (radii.meridian, radii.prime_vertical);
+    let (dm, dn) = (3.0 * m * e2 * s * c / w2, n * e2 * s * c / w2);
+    let (rn, re) = (m + p.height, n + p.height);
+    let tan = s / c;
+    let omega = model.rotation_rate();
+    // Position rows.
+    f[(0, 0)] = -v.x * dm / (rn * rn);
+    f[(0, 2)] = -v.x / (rn * rn);
+    f[(0, 3)] = 1.0 / rn;
+    f[(1, 0)] = v.y * (re * s - dn * c) / (re * re * c * c);
+    f[(1, 2)] = -v.y / (re * re * c);
+    f[(1, 4)] = 1.0 / (re * c);
+    f[(2, 5)] = -1.0;
+    // Earth and transport rates and their derivatives (columns φ, λ, h of the position).
+    let w_ie = Vector3::new(omega * c, 0.0, -omega * s);
+    let w_en = Vector3::new(v.y / re, -v.x / rn, -v.y * tan / re);
+    let mut d_ie = Matrix3::zeros();
+    d_ie.set_column(0, &Vector3::new(-omega * s, 0.0, -omega * c));
+    let mut d_en = Matrix3::zeros();
+    d_en.set_column(
+        0,
+        &Vector3::new(-v.y * dn / (re * re), v.x * dm / (rn * rn), -v.y * (1.0 / (c * c * re) - tan * dn / (re * re))),
+    );
+    d_en.set_column(2, &Vector3::new(-v.y / (re * re), v.x / (rn * rn), v.y * tan / (re * re)));
+    let en_by_v = Matrix3::new(0.0, 1.0 / re, 0.0, -1.0 / rn, 0.0, 0.0, 0.0, -tan / re, 0.0);
+    let (_, dg) = gravity_ned_jacobian(model, config.gravity, p)?;
+    let sv = skew(v);
+    put(f, 3, 0, &(sv * (2.0 * d_ie + d_en) + dg));
+    put(f, 3, 3, &(-skew(&(2.0 * w_ie + w_en)) + sv * en_by_v));
+    put(f, 6, 0, &(-(d_ie + d_en)));
+    put(f, 6, 3, &(-en_by_v));
+    put(f, 6, 6, &(-skew(&(w_ie + w_en))));
+    Ok(())
+}
+
+/// The position, velocity and attitude blocks of the ECEF form; the local up direction when
+/// the vertical channel needs it.
+fn ecef_blocks<const N: usize>(
+    config: &StrapdownConfig,
+    r: &Vector3<f64>,
+    f: &mut SMatrix<f64, N, N>,
+) -> Result<Option<Vector3<f64>>> {
+    let model = &config.earth;
+    let omega = skew(&Vector3::new(0.0, 0.0, model.rotation_rate()));
+    let (_, dg) = gravity_model_ecef_jacobian(model, config.gravity, r)?;
+    put(f, 0, 3, &Matrix3::identity());
+    put(f, 3, 0, &dg);
+    put(f, 3, 3, &(-2.0 * omega));
+    put(f, 6, 6, &(-omega));
+    Ok(match config.vertical {
+        VerticalChannel::Free => None,
+        _ => {
+            let p = earth::ecef_to_geodetic(model, r)?;
+            let (s, c) = math::sin_cos(p.latitude);
+            let (so, co) = math::sin_cos(p.longitude);
+            Some(Vector3::new(c * co, c * so, s))
+        }
+    })
+}
+
+/// The vertical channel's changes to `F` and `G`.
+fn apply_vertical_channel<const N: usize>(
+    config: &StrapdownConfig,
+    up: Option<&Vector3<f64>>,
+    f: &mut SMatrix<f64, N, N>,
+    g: &mut NoiseInput<N>,
+) {
+    match (config.vertical, config.frame) {
+        (VerticalChannel::Free, _) => {}
+        (VerticalChannel::Aided { time_constant }, NavFrame::Ned) => {
+            let (k1, k2) = (2.0 / time_constant, 1.0 / (time_constant * time_constant));
+            f[(2, 2)] -= k1;
+            f[(5, 2)] += k2;
+        }
+        (VerticalChannel::Hold, NavFrame::Ned) => {
+            for row in [2, 5] {
+                f.row_mut(row).fill(0.0);
+                g.row_mut(row).fill(0.0);
+                f.column_mut(row).fill(0.0);
+            }
+        }
+        (VerticalChannel::Aided { time_constant }, NavFrame::Ecef) => {
+            let (k1, k2) = (2.0 / time_constant, 1.0 / (time_constant * time_constant));
+            let u = up.copied().unwrap_or_else(Vector3::z);
+            let uu = u * u.transpose();
+            let rr = f.fixed_view::<3, 3>(0, 0).into_owned() - k1 * uu;
+            let vr = f.fixed_view::<3, 3>(3, 0).into_owned() - k2 * uu;
+            put(f, 0, 0, &rr);
+            put(f, 3, 0, &vr);
+        }
+        (VerticalChannel::Hold, NavFrame::Ecef) => {
+            let u = up.copied().unwrap_or_else(Vector3::z);
+            let horizontal = Matrix3::identity() - u * u.transpose();
+            // Rows and columns of the position and velocity errors on the local horizontal.
+            for block in [0, 3] {
+                let rows = horizontal * f.fixed_view::<3, N>(block, 0);
+                f.fixed_view_mut::<3, N>(block, 0).copy_from(&rows);
+                let noise = horizontal * g.fixed_view::<3, NOISE_INPUTS>(block, 0);
+                g.fixed_view_mut::<3, NOISE_INPUTS>(block, 0).copy_from(&noise);
+            }
+            for block in [0, 3] {
+                let cols = f.fixed_view::<N, 3>(0, block) * horizontal;
+                f.fixed_view_mut::<N, 3>(0, block).copy_from(&cols);
+            }
+        }
+    }
+}
+
+/// `Φ = exp(F T)` and `Q_d = ∫₀ᵀ exp(F s) G diag(psd) Gᵀ exp(F s)ᵀ ds` over `interval` (s); see
+/// the [module documentation](self).
+///
+/// # Errors
+/// [`Error::NotPositive`] or [`Error::OutOfRange`] naming `interval` (positive, at most
+/// [`MAX_INTERVAL`](crate::limits::MAX_INTERVAL)); [`Error::NonFinite`] naming `f`, `g` or
+/// `psd`; [`Error::Invalid`] naming `psd` for a negative density.
+///
+/// ```
+/// use nalgebra::{SMatrix, SVector};
+/// use rotaframe::linearise::inertial::discretise;
+/// // A random walk x' = w of density q: Φ = 1, Q_d = q T.
+/// let f = SMatrix::<f64, 1, 1>::zeros();
+/// let g = SMatrix::<f64, 1, 1>::identity();
+/// let (phi, qd) = discretise(&f, &g, &SVector::<f64, 1>::new(2.0), 0.5).unwrap();
+/// assert_eq!((phi[(0, 0)], qd[(0, 0)]), (1.0, 1.0));
+/// ```
+pub fn discretise<const N: usize, const M: usize>(
+    f: &SMatrix<f64, N, N>,
+    g: &SMatrix<f64, N, M>,
+    psd: &SVector<f64, M>,
+    interval: f64,
+) -> Result<(SMatrix<f64, N, N>, SMatrix<f64, N, N>)> {
+    ImuIncrement::new(Vector3::zeros(), Vector3::zeros(), interval).validate()?;
+    crate::error::ensure_finite(f.as_slice(), "f")?;
+    crate::error::ensure_finite(g.as_slice(), "g")?;
+    crate::error::ensure_finite(psd.as_slice(), "psd")?;
+    if psd.iter().any(|&q| q < 0.0) {
+        return Err(Error::Invalid { quantity: "psd", reason: "spectral densities must be non-negative" });
+    }
+    let qc = g * SMatrix::<f64, M, M>::from_diagonal(psd) * g.transpose();
+    Ok(discretise_covariance(f, &qc, interval))
+}
+
+/// As [`discretise`] with the continuous noise covariance `Q_c = G Q Gᵀ` given (not checked).
+#[must_use]
+pub fn discretise_covariance<const N: usize>(
+    f: &SMatrix<f64, N, N>,
+    qc: &SMatrix<f64, N, N>,
+    interval: f64,
+) -> (SMatrix<f64, N, N>, SMatrix<f64, N, N>) {
+    // Halve until ‖F t‖∞ ≤ 1/4 (at most 60 halvings: F is finite).
+    let norm = (0..N).map(|i| f.row(i).iter().map(|x| x.abs()).sum::<f64>()).fold(0.0, f64::max);
+    let mut halvings = 0;
+    let mut t = interval;
+    while norm * t > 0.25 && halvings < 60 {
+        t *= 0.5;
+        halvings += 1;
+    }
+    let (mut phi, mut q) = taylor(f, qc, t);
+    for _ in 0..halvings {
+        q = phi * q * phi.transpose() + q;
+        phi *= phi;
+    }
+    symmetrise(&mut q);
+    (phi, q)
+}
+
+/// The Taylor series of `Φ` and `Q_d` over a short interval.
+fn taylor<const N: usize>(f: &SMatrix<f64, N, N>, qc: &SMatrix<f64, N, N>, t: f64) -> (SMatrix<f64, N, N>, SMatrix<f64, N, N>) {
+    let mut phi = SMatrix::<f64, N, N>::identity();
+    let mut term = SMatrix::<f64, N, N>::identity();
+    for k in 1..30 {
+        term = f * term * (t / f64::from(k));
+        phi += term;
+        if term.amax() <= 1e-17 * phi.amax() {
+            break;
+        }
+    }
+    let mut q_term = qc * t;
+    let mut q = q_term;
+    let scale = qc.amax();
+    for k in 2..30 {
+        let fq = f * q_term;
+        q_term = (fq + fq.transpose()) * (t / f64::from(k));
+        q += q_term;
+        if q_term.amax() <= 1e-17 * q.amax().max(scale * t) {
+            break;
+        }
+    }
+    (phi, q)
+}
+
+fn symmetrise<const N: usize>(p: &mut SMatrix<f64, N, N>) {
+    for i in 0..N {
+        for j in 0..i {
+            let m = 0.5 * (p[(i, j)] + p[(j, i)]);
+            p[(i, j)] = m;
+            p[(j, i)] = m;
+        }
+    }
+}
+
+/// Predicts the error covariance of a strapdown run: starting from `stepper` (its state is
+/// the start of the run) with covariance `p0`, for each increment builds `F`, `G` at the state
+/// at the start of the interval with the increment's specific force and rate, discretises over
+/// the interval with the noise of `model`, propagates `P ← Φ P Φᵀ + Q_d`, steps the stepper,
+/// and hands `(index, stepper, P)` to `sink` after every step.
+///
+/// # Errors
+/// [`BatchError`](crate::BatchError)-style: the first failing step's index with its error
+/// (as [`Strapdown::step`], [`error_model`], [`discretise`]); [`Error::NonFinite`] naming `p0`.
+pub fn predict_covariance<const N: usize>(
+    stepper: &Strapdown,
+    increments: &[ImuIncrement],
+    model: &ImuErrorModel,
+    p0: &SMatrix<f64, N, N>,
+    mut sink: impl FnMut(usize, &Strapdown, &SMatrix<f64, N, N>),
+) -> core::result::Result<(), crate::BatchError> {
+    crate::error::ensure_finite(p0.as_slice(), "p0").map_err(|error| crate::BatchError { index: 0, error })?;
+    let psd = noise_psd(model);
+    let times = (&model.accelerometer.markov_time, &model.gyro.markov_time);
+    let mut ins = *stepper;
+    let mut p = *p0;
+    for (index, increment) in increments.iter().enumerate() {
+        let at = |error| crate::BatchError { index, error };
+        increment.validate().map_err(at)?;
+        let t = increment.interval;
+        let (_, state, _) = ins.parts();
+        let (f, g) = error_model::<N>(ins.config(), &state, &(increment.delta_velocity / t), &(increment.delta_angle / t), times)
+            .map_err(at)?;
+        let qc = g * SMatrix::<f64, NOISE_INPUTS, NOISE_INPUTS>::from_diagonal(&psd) * g.transpose();
+        let (phi, qd) = discretise_covariance(&f, &qc, t);
+        p = phi * p * phi.transpose() + qd;
+        symmetrise(&mut p);
+        ins.step(increment).map_err(at)?;
+        sink(index, &ins, &p);
+    }
+    Ok(())
+}
