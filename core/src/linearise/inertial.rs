@@ -407,19 +407,32 @@ fn symmetrise<const N: usize>(p: &mut SMatrix<f64, N, N>) {
 /// the start of the run) with covariance `p0`, for each increment builds `F`, `G` at the state
 /// at the start of the interval with the increment's specific force and rate, discretises over
 /// the interval with the noise of `model`, propagates `P ← Φ P Φᵀ + Q_d`, steps the stepper,
-/// and hands `(index, stepper, P)` to `sink` after every step.
+/// and hands `(index, stepper, P)` to `sink` after every step. `height_reference` is as in
+/// [`Strapdown::run`] (element `k` is the height reference set before step `k`), so that the
+/// linearisation follows the same path as the run it predicts.
 ///
 /// # Errors
 /// [`BatchError`](crate::BatchError)-style: the first failing step's index with its error
-/// (as [`Strapdown::step`], [`error_model`], [`discretise`]); [`Error::NonFinite`] naming `p0`.
+/// (as [`Strapdown::step`], [`error_model`], [`discretise`]); [`Error::NonFinite`] naming `p0`;
+/// [`Error::LengthMismatch`] naming `height_reference` unless it has one element per
+/// increment.
 pub fn predict_covariance<const N: usize>(
     stepper: &Strapdown,
     increments: &[ImuIncrement],
+    height_reference: Option<&[f64]>,
     model: &ImuErrorModel,
     p0: &SMatrix<f64, N, N>,
     mut sink: impl FnMut(usize, &Strapdown, &SMatrix<f64, N, N>),
 ) -> core::result::Result<(), crate::BatchError> {
     crate::error::ensure_finite(p0.as_slice(), "p0").map_err(|error| crate::BatchError { index: 0, error })?;
+    if let Some(h) = height_reference
+        && h.len() != increments.len()
+    {
+        return Err(crate::BatchError {
+            index: 0,
+            error: Error::LengthMismatch { quantity: "height_reference", found: h.len(), expected: increments.len() },
+        });
+    }
     let psd = noise_psd(model);
     let times = (&model.accelerometer.markov_time, &model.gyro.markov_time);
     let mut ins = *stepper;
@@ -427,6 +440,9 @@ pub fn predict_covariance<const N: usize>(
     for (index, increment) in increments.iter().enumerate() {
         let at = |error| crate::BatchError { index, error };
         increment.validate().map_err(at)?;
+        if let Some(&h) = height_reference.and_then(|h| h.get(index)) {
+            ins.set_height_reference(h).map_err(at)?;
+        }
         let t = increment.interval;
         let (_, state, _) = ins.parts();
         let (f, g) = error_model::<N>(ins.config(), &state, &(increment.delta_velocity / t), &(increment.delta_angle / t), times)
