@@ -59,7 +59,7 @@
 //!
 //! `Φ = exp(F T)` and `Q_d = ∫₀ᵀ exp(F s) G Q Gᵀ exp(F s)ᵀ ds`, both by their Taylor series
 //! (`Q_d = Σ Q_k Tᵏ/k!`, `Q₁ = G Q Gᵀ`, `Q_{k+1} = F Q_k + Q_k Fᵀ`), summed until a term is below
-//! 1e-17 of the sum, after halving `T` until `‖F T‖_∞ ≤ 1/4` and doubling back with
+//! 1e-16 of the sum (the rounding of its largest entry), after halving `T` until `‖F T‖_∞ ≤ 1/4` and doubling back with
 //! `Φ(2t) = Φ(t)²`, `Q(2t) = Φ(t) Q(t) Φ(t)ᵀ + Q(t)` (C. F. Van Loan, "Computing integrals
 //! involving the matrix exponential", IEEE Trans. AC-23 (1978), for the integral; scaling and
 //! squaring: Moler and Van Loan, SIAM Review 20 (1978)).
@@ -340,17 +340,41 @@ pub fn discretise<const N: usize, const M: usize>(
     if psd.iter().any(|&q| q < 0.0) {
         return Err(Error::Invalid { quantity: "psd", reason: "spectral densities must be non-negative" });
     }
-    let qc = g * SMatrix::<f64, M, M>::from_diagonal(psd) * g.transpose();
+    let qc = noise_covariance(g, psd);
     Ok(discretise_covariance(f, &qc, interval))
 }
 
 /// As [`discretise`] with the continuous noise covariance `Q_c = G Q Gᵀ` given (not checked).
+///
+/// The 15- and 21-state sizes run an AVX2 twin where the CPU has it (the same bits; see
+/// [`dispatch`](crate::dispatch)).
 #[must_use]
 pub fn discretise_covariance<const N: usize>(
     f: &SMatrix<f64, N, N>,
     qc: &SMatrix<f64, N, N>,
     interval: f64,
 ) -> (SMatrix<f64, N, N>, SMatrix<f64, N, N>) {
+    macro_rules! sized {
+        ($n:literal, $twin:ident) => {
+            if N == $n {
+                let f = SMatrix::<f64, $n, $n>::from_column_slice(f.as_slice());
+                let qc = SMatrix::<f64, $n, $n>::from_column_slice(qc.as_slice());
+                let (phi, q) = crate::fast_call!($twin, discretise_body::<$n>, (&f, &qc, interval));
+                return (SMatrix::from_column_slice(phi.as_slice()), SMatrix::from_column_slice(q.as_slice()));
+            }
+        };
+    }
+    sized!(15, discretise_15_fast);
+    sized!(21, discretise_21_fast);
+    discretise_body(f, qc, interval)
+}
+
+type Pair<const N: usize> = (SMatrix<f64, N, N>, SMatrix<f64, N, N>);
+crate::fast_twin!(fn discretise_15_fast(f: &SMatrix<f64, 15, 15>, qc: &SMatrix<f64, 15, 15>, interval: f64) -> Pair<15> = discretise_body::<15>);
+crate::fast_twin!(fn discretise_21_fast(f: &SMatrix<f64, 21, 21>, qc: &SMatrix<f64, 21, 21>, interval: f64) -> Pair<21> = discretise_body::<21>);
+
+#[inline(always)]
+fn discretise_body<const N: usize>(f: &SMatrix<f64, N, N>, qc: &SMatrix<f64, N, N>, interval: f64) -> Pair<N> {
     // Halve until ‖F t‖∞ ≤ 1/4 (at most 60 halvings: F is finite).
     let norm = (0..N).map(|i| f.row(i).iter().map(|x| x.abs()).sum::<f64>()).fold(0.0, f64::max);
     let mut halvings = 0;
@@ -369,28 +393,152 @@ pub fn discretise_covariance<const N: usize>(
 }
 
 /// The Taylor series of `Φ` and `Q_d` over a short interval.
+///
+/// Every product of the series has `F` on the left, and `F` is sparse (an INS model has about
+/// 70 non-zero entries of 225): the products skip its zero entries and run on transposed
+/// (row-contiguous) storage, so each costs one vectorised row update per non-zero entry.
+#[inline(always)]
 fn taylor<const N: usize>(f: &SMatrix<f64, N, N>, qc: &SMatrix<f64, N, N>, t: f64) -> (SMatrix<f64, N, N>, SMatrix<f64, N, N>) {
-    let mut phi = SMatrix::<f64, N, N>::identity();
-    let mut term = SMatrix::<f64, N, N>::identity();
+    let pattern = RowPattern::of(f);
+    // Φᵀ = Σ (F T)ᵏ/k! transposed: termᵀ ← (F term)ᵀ T/k, in two buffers used in turn.
+    let mut phi_t = SMatrix::<f64, N, N>::identity();
+    let (mut term, mut next) = (SMatrix::<f64, N, N>::identity(), SMatrix::<f64, N, N>::zeros());
+    // The stopping test compares with the sum after the first term (Φ's entries are within a
+    // factor of two of it for ‖F T‖ ≤ 1/4), so each term costs one scan of itself.
+    let mut threshold = 0.0;
     for k in 1..30 {
-        term = f * term * (t / f64::from(k));
-        phi += term;
-        if term.amax() <= 1e-17 * phi.amax() {
+        left_product_transposed(f, &pattern, &term, t / f64::from(k), &mut next);
+        core::mem::swap(&mut term, &mut next);
+        phi_t += &term;
+        if k == 1 {
+            threshold = 1e-16 * largest(phi_t.as_slice());
+        }
+        if largest(term.as_slice()) <= threshold {
             break;
         }
     }
+    // Q_{k+1} = F Q_k + Q_k Fᵀ with Q_k symmetric: (F Q_k)ᵀ from Q_k itself.
     let mut q_term = qc * t;
     let mut q = q_term;
-    let scale = qc.amax();
+    let mut fq_t = SMatrix::<f64, N, N>::zeros();
+    let mut threshold = 1e-16 * largest(qc.as_slice()) * t;
     for k in 2..30 {
-        let fq = f * q_term;
-        q_term = (fq + fq.transpose()) * (t / f64::from(k));
-        q += q_term;
-        if q_term.amax() <= 1e-17 * q.amax().max(scale * t) {
+        let scale = t / f64::from(k);
+        left_product_transposed(f, &pattern, &q_term, scale, &mut fq_t);
+        for i in 0..N {
+            for j in 0..N {
+                q_term[(i, j)] = fq_t[(i, j)] + fq_t[(j, i)];
+            }
+        }
+        q += &q_term;
+        if k == 2 {
+            threshold = threshold.max(1e-16 * largest(q.as_slice()));
+        }
+        if largest(q_term.as_slice()) <= threshold {
             break;
         }
     }
-    (phi, q)
+    (phi_t.transpose(), q)
+}
+
+/// The largest magnitude in `values` (a plain scan that compiles to vector max instructions;
+/// the inputs are finite).
+#[inline(always)]
+fn largest(values: &[f64]) -> f64 {
+    // Four independent running maxima, so that the scan is not one serial chain.
+    let mut m = [0.0f64; 4];
+    let (chunks, rest) = values.as_chunks::<4>();
+    for chunk in chunks {
+        for (m, &x) in m.iter_mut().zip(chunk) {
+            let a = x.abs();
+            *m = if a > *m { a } else { *m };
+        }
+    }
+    for &x in rest {
+        let a = x.abs();
+        m[0] = if a > m[0] { a } else { m[0] };
+    }
+    let (a, b) = (if m[1] > m[0] { m[1] } else { m[0] }, if m[3] > m[2] { m[3] } else { m[2] });
+    if b > a { b } else { a }
+}
+
+/// The columns of each row's non-zero entries.
+struct RowPattern<const N: usize> {
+    count: [usize; N],
+    columns: [[usize; N]; N],
+}
+
+impl<const N: usize> RowPattern<N> {
+    fn of(a: &SMatrix<f64, N, N>) -> Self {
+        let mut pattern = Self { count: [0; N], columns: [[0; N]; N] };
+        for i in 0..N {
+            for k in 0..N {
+                if a[(i, k)] != 0.0 {
+                    pattern.columns[i][pattern.count[i]] = k;
+                    pattern.count[i] += 1;
+                }
+            }
+        }
+        pattern
+    }
+}
+
+/// `scale (A X)ᵀ` from `Xᵀ`, into `out`: row `i` of `A X` (column `i` of the result) is the
+/// sum over the non-zero `A[i, k]` of `A[i, k]` times row `k` of `X` (column `k` of `Xᵀ`,
+/// contiguous).
+#[inline(always)]
+fn left_product_transposed<const N: usize>(
+    a: &SMatrix<f64, N, N>,
+    pattern: &RowPattern<N>,
+    xt: &SMatrix<f64, N, N>,
+    scale: f64,
+    out: &mut SMatrix<f64, N, N>,
+) {
+    let source = xt.as_slice();
+    let target = out.as_mut_slice();
+    for i in 0..N {
+        // The row is summed in a local array (held in registers), then stored once.
+        let mut row = [0.0f64; N];
+        for &k in &pattern.columns[i][..pattern.count[i]] {
+            let factor = a[(i, k)] * scale;
+            let x: &[f64; N] = source[k * N..(k + 1) * N].try_into().expect("a row of N");
+            for r in 0..N {
+                row[r] += factor * x[r];
+            }
+        }
+        target[i * N..(i + 1) * N].copy_from_slice(&row);
+    }
+}
+
+/// `G diag(psd) Gᵀ` as a sum of outer products over the non-zero entries of each column of
+/// `G` (an INS model's columns have at most three).
+fn noise_covariance<const N: usize, const M: usize>(g: &SMatrix<f64, N, M>, psd: &SVector<f64, M>) -> SMatrix<f64, N, N> {
+    let mut qc = SMatrix::<f64, N, N>::zeros();
+    for m in 0..M {
+        if psd[m] == 0.0 {
+            continue;
+        }
+        let column = g.column(m);
+        for i in (0..N).filter(|&i| column[i] != 0.0) {
+            let scaled = psd[m] * column[i];
+            for j in (0..N).filter(|&j| column[j] != 0.0) {
+                qc[(i, j)] += scaled * column[j];
+            }
+        }
+    }
+    qc
+}
+
+/// `Φ P Φᵀ` (symmetric) by two sparse left products.
+fn congruence<const N: usize>(phi: &SMatrix<f64, N, N>, p: &SMatrix<f64, N, N>) -> SMatrix<f64, N, N> {
+    let pattern = RowPattern::of(phi);
+    // (Φ P)ᵀ from P = Pᵀ; then (Φ (Φ P)ᵀ)ᵀ = Φ P Φᵀ from ((Φ P)ᵀ)ᵀ = Φ P.
+    let mut phi_p_t = SMatrix::<f64, N, N>::zeros();
+    left_product_transposed(phi, &pattern, p, 1.0, &mut phi_p_t);
+    phi_p_t.transpose_mut();
+    let mut out = SMatrix::<f64, N, N>::zeros();
+    left_product_transposed(phi, &pattern, &phi_p_t, 1.0, &mut out);
+    out
 }
 
 fn symmetrise<const N: usize>(p: &mut SMatrix<f64, N, N>) {
@@ -447,9 +595,9 @@ pub fn predict_covariance<const N: usize>(
         let (_, state, _) = ins.parts();
         let (f, g) = error_model::<N>(ins.config(), &state, &(increment.delta_velocity / t), &(increment.delta_angle / t), times)
             .map_err(at)?;
-        let qc = g * SMatrix::<f64, NOISE_INPUTS, NOISE_INPUTS>::from_diagonal(&psd) * g.transpose();
+        let qc = noise_covariance(&g, &psd);
         let (phi, qd) = discretise_covariance(&f, &qc, t);
-        p = phi * p * phi.transpose() + qd;
+        p = congruence(&phi, &p) + qd;
         symmetrise(&mut p);
         ins.step(increment).map_err(at)?;
         sink(index, &ins, &p);

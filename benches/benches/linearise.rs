@@ -1,0 +1,112 @@
+//! The cost of the error-state model beside the strapdown step it linearises, measured in the
+//! same run over the same seeded increments (100 Hz).
+//!
+//! Run with `cargo bench -p rotaframe-benches --bench linearise`.
+//!
+//! * `strapdown_step_ned`: the baseline, one NED strapdown step.
+//! * `phi_qd_15`: `F`, `G` at the state and `Φ`, `Q_d` over the interval for 15 states (the
+//!   goal: below ten strapdown steps).
+//! * `covariance_step_15`: one step of `predict_covariance` (the model, `Φ P Φᵀ + Q_d` and the
+//!   strapdown step).
+
+use std::hint::black_box;
+
+use criterion::{Criterion, Throughput, criterion_group, criterion_main};
+use rotaframe::linearise::inertial::{bias_covariance, error_model, noise_psd, predict_covariance};
+use rotaframe::nalgebra::{SMatrix, UnitQuaternion, Vector3};
+use rotaframe::nav::{ImuErrorModel, ImuIncrement, NavState, SensorErrorModel, Strapdown, StrapdownConfig};
+use rotaframe_tests::Seeded;
+
+const STEPS: usize = 1000;
+
+fn increments() -> Vec<ImuIncrement> {
+    let mut rng = Seeded(7);
+    (0..STEPS).map(|_| ImuIncrement::new(rng.vector(1e-3), rng.vector(0.02) + Vector3::new(0.0, 0.0, -0.098), 0.01)).collect()
+}
+
+fn start() -> NavState {
+    NavState::new(
+        rotaframe::earth::Geodetic::new(0.785, 0.2, 1500.0),
+        Vector3::new(120.0, -35.0, 0.0),
+        UnitQuaternion::identity(),
+    )
+}
+
+fn imu() -> ImuErrorModel {
+    let sensor = |n: f64, s: f64| SensorErrorModel {
+        noise_density: Vector3::repeat(n),
+        markov_sigma: Vector3::repeat(s),
+        markov_time: Vector3::repeat(300.0),
+        ..SensorErrorModel::default()
+    };
+    ImuErrorModel { gyro: sensor(1e-5, 1e-6), accelerometer: sensor(5e-4, 1e-3) }
+}
+
+fn linearise(c: &mut Criterion) {
+    let incs = increments();
+    let initial = Strapdown::new(StrapdownConfig::default(), &start()).unwrap();
+    let model = imu();
+    let mut group = c.benchmark_group("linearise");
+    group.throughput(Throughput::Elements(STEPS as u64));
+    group.bench_function("strapdown_step_ned", |b| {
+        b.iter(|| {
+            let mut ins = initial;
+            for inc in &incs {
+                ins.step(black_box(inc)).unwrap();
+            }
+            black_box(ins.elapsed())
+        })
+    });
+    let (_, state, _) = initial.parts();
+    let psd = noise_psd(&model);
+    let times = (&model.accelerometer.markov_time, &model.gyro.markov_time);
+    group.bench_function("phi_qd_15", |b| {
+        b.iter(|| {
+            let mut sum = 0.0;
+            for inc in &incs {
+                let t = inc.interval;
+                let (f, g) = error_model::<15>(
+                    initial.config(),
+                    black_box(&state),
+                    &(inc.delta_velocity / t),
+                    &(inc.delta_angle / t),
+                    times,
+                )
+                .unwrap();
+                let (phi, qd) = rotaframe::linearise::inertial::discretise(&f, &g, &psd, t).unwrap();
+                sum += phi[(3, 7)] + qd[(3, 3)];
+            }
+            black_box(sum)
+        })
+    });
+    group.bench_function("error_model_15_only", |b| {
+        b.iter(|| {
+            let mut sum = 0.0;
+            for inc in &incs {
+                let t = inc.interval;
+                let (f, g) = error_model::<15>(
+                    initial.config(),
+                    black_box(&state),
+                    &(inc.delta_velocity / t),
+                    &(inc.delta_angle / t),
+                    times,
+                )
+                .unwrap();
+                sum += f[(3, 7)] + g[(3, 3)];
+            }
+            black_box(sum)
+        })
+    });
+    let p0: SMatrix<f64, 15, 15> = bias_covariance(&model);
+    group.bench_function("covariance_step_15", |b| {
+        b.iter(|| {
+            let mut last = 0.0;
+            predict_covariance::<15>(&initial, black_box(&incs), None, &model, &p0, |_, _, p| last = p[(0, 0)]).unwrap();
+            black_box(last)
+        })
+    });
+    group.finish();
+}
+
+criterion_group!(benches, linearise);
+criterion_main!(benches);
