@@ -6,31 +6,17 @@
 //! * `strapdown_step_ned`: the baseline, one NED strapdown step.
 //! * `phi_qd_15`: `F`, `G` at the state and `Φ`, `Q_d` over the interval for 15 states (the
 //!   goal: below ten strapdown steps).
-//! * `covariance_step_15`: one step of `predict_covariance` (the model, `Φ P Φᵀ + Q_d` and the
-//!   strapdown step).
+//! * `covariance_step_15`: one step of `predict_covariance` (the model, the covariance
+//!   propagated by its own series without forming `Φ` and `Q_d`, and the strapdown step).
 
 use std::hint::black_box;
 
 use criterion::{Criterion, Throughput, criterion_group, criterion_main};
 use rotaframe::linearise::inertial::{bias_covariance, error_model, noise_psd, predict_covariance};
-use rotaframe::nalgebra::{SMatrix, UnitQuaternion, Vector3};
-use rotaframe::nav::{ImuErrorModel, ImuIncrement, NavState, SensorErrorModel, Strapdown, StrapdownConfig};
-use rotaframe_tests::Seeded;
+use rotaframe::nalgebra::{SMatrix, Vector3};
+use rotaframe::nav::{ImuErrorModel, SensorErrorModel, Strapdown, StrapdownConfig};
 
-const STEPS: usize = 1000;
-
-fn increments() -> Vec<ImuIncrement> {
-    let mut rng = Seeded(7);
-    (0..STEPS).map(|_| ImuIncrement::new(rng.vector(1e-3), rng.vector(0.02) + Vector3::new(0.0, 0.0, -0.098), 0.01)).collect()
-}
-
-fn start() -> NavState {
-    NavState::new(
-        rotaframe::earth::Geodetic::new(0.785, 0.2, 1500.0),
-        Vector3::new(120.0, -35.0, 0.0),
-        UnitQuaternion::identity(),
-    )
-}
+use rotaframe_benches::{STEPS, increments, start};
 
 fn imu() -> ImuErrorModel {
     let sensor = |n: f64, s: f64| SensorErrorModel {
@@ -75,24 +61,6 @@ fn linearise(c: &mut Criterion) {
                 .unwrap();
                 let (phi, qd) = rotaframe::linearise::inertial::discretise(&f, &g, &psd, t).unwrap();
                 sum += phi[(3, 7)] + qd[(3, 3)];
-            }
-            black_box(sum)
-        })
-    });
-    group.bench_function("error_model_15_only", |b| {
-        b.iter(|| {
-            let mut sum = 0.0;
-            for inc in &incs {
-                let t = inc.interval;
-                let (f, g) = error_model::<15>(
-                    initial.config(),
-                    black_box(&state),
-                    &(inc.delta_velocity / t),
-                    &(inc.delta_angle / t),
-                    times,
-                )
-                .unwrap();
-                sum += f[(3, 7)] + g[(3, 3)];
             }
             black_box(sum)
         })

@@ -15,26 +15,10 @@ use std::hint::black_box;
 use criterion::{Criterion, Throughput, criterion_group, criterion_main};
 use rotaframe::earth::{GravityModel, WGS84, normal_gravity_at_height, radii_of_curvature};
 use rotaframe::nalgebra::{UnitQuaternion, Vector3};
-use rotaframe::nav::{ImuIncrement, NavFrame, NavState, Strapdown, StrapdownConfig, imu_increment, quadrature_times};
-use rotaframe_tests::Seeded;
+use rotaframe::nav::{ImuIncrement, NavFrame, Strapdown, StrapdownConfig, imu_increment, quadrature_times};
 use rotaframe_tests::trajectories::Manoeuvres;
 
-const STEPS: usize = 1000;
-
-/// 1000 increments of a manoeuvre-like sequence at 100 Hz: random rates and forces on top of
-/// the stationary outputs of a level body.
-fn increments() -> Vec<ImuIncrement> {
-    let mut rng = Seeded(7);
-    (0..STEPS).map(|_| ImuIncrement::new(rng.vector(1e-3), rng.vector(0.02) + Vector3::new(0.0, 0.0, -0.098), 0.01)).collect()
-}
-
-fn start() -> NavState {
-    NavState::new(
-        rotaframe::earth::Geodetic::new(0.785, 0.2, 1500.0),
-        Vector3::new(120.0, -35.0, 0.0),
-        UnitQuaternion::identity(),
-    )
-}
+use rotaframe_benches::{STEPS, increments, start};
 
 /// A first-order NED step: attitude by the rotation vector, velocity and position by Euler
 /// steps, Earth rate, transport rate, Coriolis and normal gravity at the start of the interval.

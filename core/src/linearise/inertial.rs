@@ -346,8 +346,8 @@ pub fn discretise<const N: usize, const M: usize>(
 
 /// As [`discretise`] with the continuous noise covariance `Q_c = G Q Gᵀ` given (not checked).
 ///
-/// The 15- and 21-state sizes run an AVX2 twin where the CPU has it (the same bits; see
-/// [`dispatch`](crate::dispatch)).
+/// The 15- and 21-state sizes run on rows padded to a multiple of four lanes, and with an
+/// AVX2 twin where the CPU has it (the same bits; see [`dispatch`](crate::dispatch)).
 #[must_use]
 pub fn discretise_covariance<const N: usize>(
     f: &SMatrix<f64, N, N>,
@@ -355,26 +355,27 @@ pub fn discretise_covariance<const N: usize>(
     interval: f64,
 ) -> (SMatrix<f64, N, N>, SMatrix<f64, N, N>) {
     macro_rules! sized {
-        ($n:literal, $twin:ident) => {
+        ($n:literal, $w:literal, $twin:ident) => {
             if N == $n {
                 let f = SMatrix::<f64, $n, $n>::from_column_slice(f.as_slice());
                 let qc = SMatrix::<f64, $n, $n>::from_column_slice(qc.as_slice());
-                let (phi, q) = crate::fast_call!($twin, discretise_body::<$n>, (&f, &qc, interval));
+                let (phi, q) = crate::fast_call!($twin, discretise_body::<$n, $w>, (&f, &qc, interval));
                 return (SMatrix::from_column_slice(phi.as_slice()), SMatrix::from_column_slice(q.as_slice()));
             }
         };
     }
-    sized!(15, discretise_15_fast);
-    sized!(21, discretise_21_fast);
-    discretise_body(f, qc, interval)
+    sized!(15, 16, discretise_15_fast);
+    sized!(21, 24, discretise_21_fast);
+    discretise_body::<N, N>(f, qc, interval)
 }
 
 type Pair<const N: usize> = (SMatrix<f64, N, N>, SMatrix<f64, N, N>);
-crate::fast_twin!(fn discretise_15_fast(f: &SMatrix<f64, 15, 15>, qc: &SMatrix<f64, 15, 15>, interval: f64) -> Pair<15> = discretise_body::<15>);
-crate::fast_twin!(fn discretise_21_fast(f: &SMatrix<f64, 21, 21>, qc: &SMatrix<f64, 21, 21>, interval: f64) -> Pair<21> = discretise_body::<21>);
+crate::fast_twin!(fn discretise_15_fast(f: &SMatrix<f64, 15, 15>, qc: &SMatrix<f64, 15, 15>, interval: f64) -> Pair<15> = discretise_body::<15, 16>);
+crate::fast_twin!(fn discretise_21_fast(f: &SMatrix<f64, 21, 21>, qc: &SMatrix<f64, 21, 21>, interval: f64) -> Pair<21> = discretise_body::<21, 24>);
 
+/// The discretisation on `N` rows of `W ≥ N` entries (the padding stays zero).
 #[inline(always)]
-fn discretise_body<const N: usize>(f: &SMatrix<f64, N, N>, qc: &SMatrix<f64, N, N>, interval: f64) -> Pair<N> {
+fn discretise_body<const N: usize, const W: usize>(f: &SMatrix<f64, N, N>, qc: &SMatrix<f64, N, N>, interval: f64) -> Pair<N> {
     // Halve until ‖F t‖∞ ≤ 1/4 (at most 60 halvings: F is finite).
     let norm = (0..N).map(|i| f.row(i).iter().map(|x| x.abs()).sum::<f64>()).fold(0.0, f64::max);
     let mut halvings = 0;
@@ -383,7 +384,8 @@ fn discretise_body<const N: usize>(f: &SMatrix<f64, N, N>, qc: &SMatrix<f64, N, 
         t *= 0.5;
         halvings += 1;
     }
-    let (mut phi, mut q) = taylor(f, qc, t);
+    let (phi, q) = taylor::<N, W>(f, qc, t);
+    let (mut phi, mut q) = (phi.matrix(), q.matrix());
     for _ in 0..halvings {
         q = phi * q * phi.transpose() + q;
         phi *= phi;
@@ -392,74 +394,107 @@ fn discretise_body<const N: usize>(f: &SMatrix<f64, N, N>, qc: &SMatrix<f64, N, 
     (phi, q)
 }
 
+/// A square matrix stored by rows of `W ≥ N` entries, the padding zero: row updates run in
+/// whole vector lanes.
+#[derive(Clone, Copy)]
+struct Rows<const N: usize, const W: usize>([[f64; W]; N]);
+
+impl<const N: usize, const W: usize> Rows<N, W> {
+    #[inline(always)]
+    fn zeros() -> Self {
+        Self([[0.0; W]; N])
+    }
+    #[inline(always)]
+    fn identity() -> Self {
+        let mut m = Self::zeros();
+        for i in 0..N {
+            m.0[i][i] = 1.0;
+        }
+        m
+    }
+    #[inline(always)]
+    fn from_matrix(m: &SMatrix<f64, N, N>, scale: f64) -> Self {
+        let mut out = Self::zeros();
+        for i in 0..N {
+            for j in 0..N {
+                out.0[i][j] = m[(i, j)] * scale;
+            }
+        }
+        out
+    }
+    #[inline(always)]
+    fn matrix(&self) -> SMatrix<f64, N, N> {
+        SMatrix::from_fn(|i, j| self.0[i][j])
+    }
+    #[inline(always)]
+    fn add_assign(&mut self, other: &Self) {
+        for (a, b) in self.0.iter_mut().zip(&other.0) {
+            for (x, y) in a.iter_mut().zip(b) {
+                *x += y;
+            }
+        }
+    }
+    /// The largest magnitude of an entry.
+    #[inline(always)]
+    fn largest(&self) -> f64 {
+        let mut m = [0.0f64; W];
+        for row in &self.0 {
+            for (m, &x) in m.iter_mut().zip(row) {
+                let a = x.abs();
+                *m = if a > *m { a } else { *m };
+            }
+        }
+        m.iter().fold(0.0, |a, &b| if b > a { b } else { a })
+    }
+}
+
 /// The Taylor series of `Φ` and `Q_d` over a short interval.
 ///
 /// Every product of the series has `F` on the left, and `F` is sparse (an INS model has about
-/// 70 non-zero entries of 225): the products skip its zero entries and run on transposed
-/// (row-contiguous) storage, so each costs one vectorised row update per non-zero entry.
+/// 70 non-zero entries of 225): row `i` of `F X` is the sum over the non-zero `F[i, k]` of
+/// `F[i, k]` times row `k` of `X`, one vectorised row update per non-zero entry.
 #[inline(always)]
-fn taylor<const N: usize>(f: &SMatrix<f64, N, N>, qc: &SMatrix<f64, N, N>, t: f64) -> (SMatrix<f64, N, N>, SMatrix<f64, N, N>) {
+fn taylor<const N: usize, const W: usize>(f: &SMatrix<f64, N, N>, qc: &SMatrix<f64, N, N>, t: f64) -> (Rows<N, W>, Rows<N, W>) {
     let pattern = RowPattern::of(f);
-    // Φᵀ = Σ (F T)ᵏ/k! transposed: termᵀ ← (F term)ᵀ T/k, in two buffers used in turn.
-    let mut phi_t = SMatrix::<f64, N, N>::identity();
-    let (mut term, mut next) = (SMatrix::<f64, N, N>::identity(), SMatrix::<f64, N, N>::zeros());
+    // Φ = Σ (F T)ᵏ/k!: term ← F term T/k, in two buffers used in turn.
+    let mut phi = Rows::<N, W>::identity();
+    let mut terms = [Rows::<N, W>::identity(), Rows::<N, W>::zeros()];
     // The stopping test compares with the sum after the first term (Φ's entries are within a
     // factor of two of it for ‖F T‖ ≤ 1/4), so each term costs one scan of itself.
     let mut threshold = 0.0;
     for k in 1..30 {
-        left_product_transposed(f, &pattern, &term, t / f64::from(k), &mut next);
-        core::mem::swap(&mut term, &mut next);
-        phi_t += &term;
+        let [even, odd] = &mut terms;
+        let (last, term) = if k % 2 == 1 { (&*even, odd) } else { (&*odd, even) };
+        left_product(f, &pattern, last, t / f64::from(k), term);
+        phi.add_assign(term);
         if k == 1 {
-            threshold = 1e-16 * largest(phi_t.as_slice());
+            threshold = 1e-16 * phi.largest();
         }
-        if largest(term.as_slice()) <= threshold {
+        if term.largest() <= threshold {
             break;
         }
     }
-    // Q_{k+1} = F Q_k + Q_k Fᵀ with Q_k symmetric: (F Q_k)ᵀ from Q_k itself.
-    let mut q_term = qc * t;
+    // Q_{k+1} = F Q_k + Q_k Fᵀ = S + Sᵀ with S = F Q_k (Q_k symmetric).
+    let mut q_term = Rows::<N, W>::from_matrix(qc, t);
     let mut q = q_term;
-    let mut fq_t = SMatrix::<f64, N, N>::zeros();
-    let mut threshold = 1e-16 * largest(qc.as_slice()) * t;
+    let mut product = Rows::<N, W>::zeros();
+    let mut threshold = 1e-16 * q_term.largest();
     for k in 2..30 {
-        let scale = t / f64::from(k);
-        left_product_transposed(f, &pattern, &q_term, scale, &mut fq_t);
+        left_product(f, &pattern, &q_term, t / f64::from(k), &mut product);
         for i in 0..N {
             for j in 0..N {
-                q_term[(i, j)] = fq_t[(i, j)] + fq_t[(j, i)];
+                q_term.0[i][j] = product.0[i][j] + product.0[j][i];
             }
         }
-        q += &q_term;
+        q.add_assign(&q_term);
         if k == 2 {
-            threshold = threshold.max(1e-16 * largest(q.as_slice()));
+            threshold = threshold.max(1e-16 * q.largest());
         }
-        if largest(q_term.as_slice()) <= threshold {
+        if q_term.largest() <= threshold {
             break;
         }
     }
-    (phi_t.transpose(), q)
-}
-
-/// The largest magnitude in `values` (a plain scan that compiles to vector max instructions;
-/// the inputs are finite).
-#[inline(always)]
-fn largest(values: &[f64]) -> f64 {
-    // Four independent running maxima, so that the scan is not one serial chain.
-    let mut m = [0.0f64; 4];
-    let (chunks, rest) = values.as_chunks::<4>();
-    for chunk in chunks {
-        for (m, &x) in m.iter_mut().zip(chunk) {
-            let a = x.abs();
-            *m = if a > *m { a } else { *m };
-        }
-    }
-    for &x in rest {
-        let a = x.abs();
-        m[0] = if a > m[0] { a } else { m[0] };
-    }
-    let (a, b) = (if m[1] > m[0] { m[1] } else { m[0] }, if m[3] > m[2] { m[3] } else { m[2] });
-    if b > a { b } else { a }
+    (phi, q)
 }
 
 /// The columns of each row's non-zero entries.
@@ -469,6 +504,7 @@ struct RowPattern<const N: usize> {
 }
 
 impl<const N: usize> RowPattern<N> {
+    #[inline(always)]
     fn of(a: &SMatrix<f64, N, N>) -> Self {
         let mut pattern = Self { count: [0; N], columns: [[0; N]; N] };
         for i in 0..N {
@@ -483,30 +519,25 @@ impl<const N: usize> RowPattern<N> {
     }
 }
 
-/// `scale (A X)ᵀ` from `Xᵀ`, into `out`: row `i` of `A X` (column `i` of the result) is the
-/// sum over the non-zero `A[i, k]` of `A[i, k]` times row `k` of `X` (column `k` of `Xᵀ`,
-/// contiguous).
+/// `out = scale A X` for `A` with the given pattern.
 #[inline(always)]
-fn left_product_transposed<const N: usize>(
+fn left_product<const N: usize, const W: usize>(
     a: &SMatrix<f64, N, N>,
     pattern: &RowPattern<N>,
-    xt: &SMatrix<f64, N, N>,
+    x: &Rows<N, W>,
     scale: f64,
-    out: &mut SMatrix<f64, N, N>,
+    out: &mut Rows<N, W>,
 ) {
-    let source = xt.as_slice();
-    let target = out.as_mut_slice();
     for i in 0..N {
         // The row is summed in a local array (held in registers), then stored once.
-        let mut row = [0.0f64; N];
+        let mut row = [0.0f64; W];
         for &k in &pattern.columns[i][..pattern.count[i]] {
             let factor = a[(i, k)] * scale;
-            let x: &[f64; N] = source[k * N..(k + 1) * N].try_into().expect("a row of N");
-            for r in 0..N {
-                row[r] += factor * x[r];
+            for (r, v) in row.iter_mut().zip(&x.0[k]) {
+                *r += factor * v;
             }
         }
-        target[i * N..(i + 1) * N].copy_from_slice(&row);
+        out.0[i] = row;
     }
 }
 
@@ -529,15 +560,91 @@ fn noise_covariance<const N: usize, const M: usize>(g: &SMatrix<f64, N, M>, psd:
     qc
 }
 
-/// `Φ P Φᵀ` (symmetric) by two sparse left products.
-fn congruence<const N: usize>(phi: &SMatrix<f64, N, N>, p: &SMatrix<f64, N, N>) -> SMatrix<f64, N, N> {
-    let pattern = RowPattern::of(phi);
-    // (Φ P)ᵀ from P = Pᵀ; then (Φ (Φ P)ᵀ)ᵀ = Φ P Φᵀ from ((Φ P)ᵀ)ᵀ = Φ P.
-    let mut phi_p_t = SMatrix::<f64, N, N>::zeros();
-    left_product_transposed(phi, &pattern, p, 1.0, &mut phi_p_t);
-    phi_p_t.transpose_mut();
-    let mut out = SMatrix::<f64, N, N>::zeros();
-    left_product_transposed(phi, &pattern, &phi_p_t, 1.0, &mut out);
+/// `Φ P Φᵀ + Q_d` over `interval` (s) for the model `F` with continuous noise covariance
+/// `Q_c`, without forming `Φ` or `Q_d`: the exact solution of the covariance equation
+/// `Ṗ = F P + P Fᵀ + Q_c` from `P` by its Taylor series, `P(T) = Σ Y_k Tᵏ/k!` with `Y₀ = P`,
+/// `Y₁ = F P + P Fᵀ + Q_c`, `Y_{k+1} = F Y_k + Y_k Fᵀ` (one sparse product per term, where
+/// `Φ P Φᵀ + Q_d` costs the series of both and two more products). Summed until every entry
+/// of a term is below 1e-16 of its own scale (`|P_ij| + √(P_ii P_jj)`), so that small
+/// variances (a latitude's, in rad²) keep their relative precision beside large ones. For a
+/// long interval (`‖F T‖∞ > 1/4`) it is `Φ P Φᵀ + Q_d` from [`discretise_covariance`].
+#[must_use]
+pub fn propagate_covariance<const N: usize>(
+    f: &SMatrix<f64, N, N>,
+    qc: &SMatrix<f64, N, N>,
+    p: &SMatrix<f64, N, N>,
+    interval: f64,
+) -> SMatrix<f64, N, N> {
+    let norm = (0..N).map(|i| f.row(i).iter().map(|x| x.abs()).sum::<f64>()).fold(0.0, f64::max);
+    if norm * interval > 0.25 {
+        let (phi, qd) = discretise_covariance(f, qc, interval);
+        let mut out = phi * p * phi.transpose() + qd;
+        symmetrise(&mut out);
+        return out;
+    }
+    macro_rules! sized {
+        ($n:literal, $w:literal, $twin:ident) => {
+            if N == $n {
+                let f = SMatrix::<f64, $n, $n>::from_column_slice(f.as_slice());
+                let qc = SMatrix::<f64, $n, $n>::from_column_slice(qc.as_slice());
+                let p = SMatrix::<f64, $n, $n>::from_column_slice(p.as_slice());
+                let out = crate::fast_call!($twin, lyapunov_series::<$n, $w>, (&f, &qc, &p, interval));
+                return SMatrix::from_column_slice(out.as_slice());
+            }
+        };
+    }
+    sized!(15, 16, lyapunov_15_fast);
+    sized!(21, 24, lyapunov_21_fast);
+    lyapunov_series::<N, N>(f, qc, p, interval)
+}
+
+type Square<const N: usize> = SMatrix<f64, N, N>;
+crate::fast_twin!(fn lyapunov_15_fast(f: &Square<15>, qc: &Square<15>, p: &Square<15>, t: f64) -> Square<15> = lyapunov_series::<15, 16>);
+crate::fast_twin!(fn lyapunov_21_fast(f: &Square<21>, qc: &Square<21>, p: &Square<21>, t: f64) -> Square<21> = lyapunov_series::<21, 24>);
+
+#[inline(always)]
+fn lyapunov_series<const N: usize, const W: usize>(f: &Square<N>, qc: &Square<N>, p: &Square<N>, t: f64) -> Square<N> {
+    let pattern = RowPattern::of(f);
+    let mut sum = Rows::<N, W>::from_matrix(p, 1.0);
+    let mut term = sum;
+    let mut product = Rows::<N, W>::zeros();
+    for k in 1..40 {
+        let scale = t / f64::from(k);
+        left_product(f, &pattern, &term, scale, &mut product);
+        let mut scales = [0.0f64; W];
+        for (i, s) in scales.iter_mut().enumerate().take(N) {
+            *s = crate::math::sqrt(sum.0[i][i].abs());
+        }
+        // The term (the product plus its transpose), then one vectorised pass that adds it
+        // and finds the largest excess of an entry over its tolerance.
+        for i in 0..N {
+            for j in 0..N {
+                term.0[i][j] = product.0[i][j] + product.0[j][i];
+            }
+        }
+        if k == 1 {
+            for i in 0..N {
+                for j in 0..N {
+                    term.0[i][j] += qc[(i, j)] * t;
+                }
+            }
+        }
+        let mut excess = [f64::NEG_INFINITY; W];
+        for i in 0..N {
+            let (row, total, d) = (&term.0[i], &mut sum.0[i], scales[i]);
+            for j in 0..W {
+                total[j] += row[j];
+                let over = row[j].abs() - 1e-16 * (total[j].abs() + d * scales[j]);
+                excess[j] = if over > excess[j] { over } else { excess[j] };
+            }
+        }
+        let converged = excess.iter().all(|&e| e <= 0.0);
+        if converged {
+            break;
+        }
+    }
+    let mut out = sum.matrix();
+    symmetrise(&mut out);
     out
 }
 
@@ -553,8 +660,9 @@ fn symmetrise<const N: usize>(p: &mut SMatrix<f64, N, N>) {
 
 /// Predicts the error covariance of a strapdown run: starting from `stepper` (its state is
 /// the start of the run) with covariance `p0`, for each increment builds `F`, `G` at the state
-/// at the start of the interval with the increment's specific force and rate, discretises over
-/// the interval with the noise of `model`, propagates `P ← Φ P Φᵀ + Q_d`, steps the stepper,
+/// at the start of the interval with the increment's specific force and rate, propagates
+/// `P ← Φ P Φᵀ + Q_d` over the interval with the noise of `model` (see
+/// [`propagate_covariance`]), steps the stepper,
 /// and hands `(index, stepper, P)` to `sink` after every step. `height_reference` is as in
 /// [`Strapdown::run`] (element `k` is the height reference set before step `k`), so that the
 /// linearisation follows the same path as the run it predicts.
@@ -596,8 +704,7 @@ pub fn predict_covariance<const N: usize>(
         let (f, g) = error_model::<N>(ins.config(), &state, &(increment.delta_velocity / t), &(increment.delta_angle / t), times)
             .map_err(at)?;
         let qc = noise_covariance(&g, &psd);
-        let (phi, qd) = discretise_covariance(&f, &qc, t);
-        p = congruence(&phi, &p) + qd;
+        p = propagate_covariance(&f, &qc, &p, t);
         symmetrise(&mut p);
         ins.step(increment).map_err(at)?;
         sink(index, &ins, &p);
