@@ -611,43 +611,69 @@ typedef struct rf_apparent_terms {
 } rf_apparent_terms;
 
 /**
- * Ideal gyro and accelerometer outputs at one instant, resolved in the body.
+ * z-y-x Euler angles (rad): body to local level `Rz(yaw) Ry(pitch) Rx(roll)`.
  */
-typedef struct rf_imu_sample {
+typedef struct rf_euler {
   /**
-   * Angular velocity of the body relative to inertial space (rad/s).
+   * Yaw (rad).
    */
-  struct rf_vec3 angular_rate;
+  double yaw;
   /**
-   * Specific force: inertial acceleration minus gravitation (m/s²).
+   * Pitch (rad).
    */
-  struct rf_vec3 specific_force;
-} rf_imu_sample;
+  double pitch;
+  /**
+   * Roll (rad).
+   */
+  double roll;
+} rf_euler;
 
 /**
- * The output of an integrating IMU over one interval.
+ * Error model of one sensor triad (gyro units rad/s, accelerometer units m/s²).
+ * Zero-initialised (`= {0}`) it is a perfect sensor: no bias, scale or misalignment error, no
+ * noise and no Gauss–Markov process.
  */
-typedef struct rf_imu_increment {
+typedef struct rf_sensor_errors {
   /**
-   * Integral of the angular rate over the interval, in body axes (rad).
+   * Fixed bias per axis.
    */
-  struct rf_vec3 delta_angle;
+  struct rf_vec3 bias;
   /**
-   * Integral of the specific force over the interval, in body axes (m/s).
+   * Scale-factor error per axis (dimensionless).
    */
-  struct rf_vec3 delta_velocity;
+  struct rf_vec3 scale_factor;
   /**
-   * Interval length (s), positive.
+   * Misalignment matrix, row-major, zero diagonal (dimensionless).
    */
-  double interval;
-} rf_imu_increment;
+  double misalignment[9];
+  /**
+   * White-noise density per axis (rad/√s or m/s/√s; see `rf_angle_random_walk_si`).
+   */
+  struct rf_vec3 noise_density;
+  /**
+   * Gauss–Markov bias steady-state standard deviation per axis.
+   */
+  struct rf_vec3 markov_sigma;
+  /**
+   * Gauss–Markov correlation time per axis (s); positive, INFINITY for a random constant, or
+   * 0 (with `markov_sigma` 0) for no Gauss–Markov process.
+   */
+  struct rf_vec3 markov_time;
+} rf_sensor_errors;
 
 /**
- * Signature of a trajectory callback for `rf_imu_increment_of_trajectory`: writes the body's
- * motion relative to the inertial frame at `time` (s) to `out_motion` and returns
- * `RF_STATUS_OK`, or any other status to abort.
+ * Error models of both triads. Zero-initialised it is a perfect IMU.
  */
-typedef rf_status (*rf_trajectory_fn)(void *context, double time, struct rf_frame_motion *out_motion);
+typedef struct rf_imu_error_model {
+  /**
+   * Gyro triad.
+   */
+  struct rf_sensor_errors gyro;
+  /**
+   * Accelerometer triad.
+   */
+  struct rf_sensor_errors accelerometer;
+} rf_imu_error_model;
 
 /**
  * Settings of a strapdown stepper. Zero-initialised (`= {0}`) it is a NED mechanization
@@ -677,22 +703,22 @@ typedef struct rf_strapdown_config {
 } rf_strapdown_config;
 
 /**
- * Position, velocity and attitude as every mechanization reports them.
+ * The output of an integrating IMU over one interval.
  */
-typedef struct rf_nav_state {
+typedef struct rf_imu_increment {
   /**
-   * Geodetic position.
+   * Integral of the angular rate over the interval, in body axes (rad).
    */
-  struct rf_geodetic position;
+  struct rf_vec3 delta_angle;
   /**
-   * Velocity relative to the Earth, resolved in NED (m/s).
+   * Integral of the specific force over the interval, in body axes (m/s).
    */
-  struct rf_vec3 velocity_ned;
+  struct rf_vec3 delta_velocity;
   /**
-   * Body-to-NED attitude quaternion.
+   * Interval length (s), positive.
    */
-  struct rf_quat attitude;
-} rf_nav_state;
+  double interval;
+} rf_imu_increment;
 
 /**
  * The complete state of a strapdown stepper, as plain data. Create it with
@@ -742,51 +768,43 @@ typedef struct rf_strapdown {
 } rf_strapdown;
 
 /**
- * Error model of one sensor triad (gyro units rad/s, accelerometer units m/s²).
- * Zero-initialised (`= {0}`) it is a perfect sensor: no bias, scale or misalignment error, no
- * noise and no Gauss–Markov process.
+ * Ideal gyro and accelerometer outputs at one instant, resolved in the body.
  */
-typedef struct rf_sensor_errors {
+typedef struct rf_imu_sample {
   /**
-   * Fixed bias per axis.
+   * Angular velocity of the body relative to inertial space (rad/s).
    */
-  struct rf_vec3 bias;
+  struct rf_vec3 angular_rate;
   /**
-   * Scale-factor error per axis (dimensionless).
+   * Specific force: inertial acceleration minus gravitation (m/s²).
    */
-  struct rf_vec3 scale_factor;
-  /**
-   * Misalignment matrix, row-major, zero diagonal (dimensionless).
-   */
-  double misalignment[9];
-  /**
-   * White-noise density per axis (rad/√s or m/s/√s; see `rf_angle_random_walk_si`).
-   */
-  struct rf_vec3 noise_density;
-  /**
-   * Gauss–Markov bias steady-state standard deviation per axis.
-   */
-  struct rf_vec3 markov_sigma;
-  /**
-   * Gauss–Markov correlation time per axis (s); positive, INFINITY for a random constant, or
-   * 0 (with `markov_sigma` 0) for no Gauss–Markov process.
-   */
-  struct rf_vec3 markov_time;
-} rf_sensor_errors;
+  struct rf_vec3 specific_force;
+} rf_imu_sample;
 
 /**
- * Error models of both triads. Zero-initialised it is a perfect IMU.
+ * Signature of a trajectory callback for `rf_imu_increment_of_trajectory`: writes the body's
+ * motion relative to the inertial frame at `time` (s) to `out_motion` and returns
+ * `RF_STATUS_OK`, or any other status to abort.
  */
-typedef struct rf_imu_error_model {
+typedef rf_status (*rf_trajectory_fn)(void *context, double time, struct rf_frame_motion *out_motion);
+
+/**
+ * Position, velocity and attitude as every mechanization reports them.
+ */
+typedef struct rf_nav_state {
   /**
-   * Gyro triad.
+   * Geodetic position.
    */
-  struct rf_sensor_errors gyro;
+  struct rf_geodetic position;
   /**
-   * Accelerometer triad.
+   * Velocity relative to the Earth, resolved in NED (m/s).
    */
-  struct rf_sensor_errors accelerometer;
-} rf_imu_error_model;
+  struct rf_vec3 velocity_ned;
+  /**
+   * Body-to-NED attitude quaternion.
+   */
+  struct rf_quat attitude;
+} rf_nav_state;
 
 /**
  * A seeded IMU error generator's state, as plain data: the model, the Gauss–Markov states
@@ -947,24 +965,6 @@ typedef struct rf_propagation_result {
    */
   struct rf_deflection_budget budget;
 } rf_propagation_result;
-
-/**
- * z-y-x Euler angles (rad): body to local level `Rz(yaw) Ry(pitch) Rx(roll)`.
- */
-typedef struct rf_euler {
-  /**
-   * Yaw (rad).
-   */
-  double yaw;
-  /**
-   * Pitch (rad).
-   */
-  double pitch;
-  /**
-   * Roll (rad).
-   */
-  double roll;
-} rf_euler;
 
 /**
  * Quadratic aerodynamic drag for `rf_drag_force`: ballistic coefficient `m / (C_D A)`
@@ -1196,6 +1196,121 @@ rf_status rf_graph_motion_batch(const struct rf_graph *graph, uint32_t parent, u
  * otherwise).
  */
 rf_status rf_graph_apparent(const struct rf_graph *graph, uint32_t frame, double time, const struct rf_point_kinematics *point, struct rf_apparent_terms *out_terms);
+
+/**
+ * ECEF position (m) of a geodetic position and its Jacobian `out_jacobian[9]` (rows x, y, z;
+ * columns latitude, longitude (m/rad), height).
+ */
+rf_status rf_geodetic_to_ecef_jacobian(const struct rf_earth_model *model, const struct rf_geodetic *position, struct rf_vec3 *out_ecef, double *out_jacobian);
+
+/**
+ * Geodetic position of an ECEF point and its Jacobian `out_jacobian[9]` (rows latitude,
+ * longitude (rad/m), height; columns x, y, z). `RF_STATUS_NEAR_POLE` near the poles.
+ */
+rf_status rf_ecef_to_geodetic_jacobian(const struct rf_earth_model *model, const struct rf_vec3 *ecef, struct rf_geodetic *out_position, double *out_jacobian);
+
+/**
+ * The rotation of the local-level axes (NED or ENU) relative to ECEF per unit latitude and
+ * longitude: `out_jacobian[6]`, 3×2 (rows: the small-angle vector resolved in ECEF).
+ */
+rf_status rf_local_level_rotation_jacobian(double latitude, double longitude, double *out_jacobian);
+
+/**
+ * Normal gravity (m/s²) and its gradient `out_gradient[2]`: ∂γ/∂latitude (m/s² per rad),
+ * ∂γ/∂height (s⁻²).
+ */
+rf_status rf_normal_gravity_jacobian(const struct rf_earth_model *model, double latitude, double height, double *out_gravity, double *out_gradient);
+
+/**
+ * J₂ gravitation (`with_centrifugal` = 0) or gravity (J₂ plus centrifugal, non-zero) at an
+ * ECEF position and its gradient `out_jacobian[9]` (s⁻²).
+ */
+rf_status rf_gravity_ecef_jacobian(const struct rf_earth_model *model, const struct rf_vec3 *ecef, int32_t with_centrifugal, struct rf_vec3 *out_gravity, double *out_jacobian);
+
+/**
+ * Body-to-local-level quaternion of z-y-x Euler angles (rad) and its Jacobian
+ * `out_jacobian[9]` (rows δθ in local-level axes; columns yaw, pitch, roll).
+ */
+rf_status rf_quat_from_euler_jacobian(const struct rf_euler *angles, struct rf_quat *out_quat, double *out_jacobian);
+
+/**
+ * z-y-x Euler angles of a unit quaternion and their Jacobian `out_jacobian[9]` (rows yaw,
+ * pitch, roll; columns δθ). `RF_STATUS_INVALID_ARGUMENT` within 1e-9 rad of ±90° pitch.
+ */
+rf_status rf_euler_from_quat_jacobian(const struct rf_quat *quat, struct rf_euler *out_angles, double *out_jacobian);
+
+/**
+ * Unit quaternion of a rotation vector (rad) and its Jacobian `out_jacobian[9]` (the left
+ * Jacobian: rows δθ, columns the rotation vector's components).
+ */
+rf_status rf_quat_from_rotvec_jacobian(const struct rf_vec3 *rotvec, struct rf_quat *out_quat, double *out_jacobian);
+
+/**
+ * Rotation vector of a unit quaternion and its Jacobian `out_jacobian[9]` (rows the rotation
+ * vector, columns δθ). `RF_STATUS_INVALID_ARGUMENT` within 1e-6 rad of a half turn.
+ */
+rf_status rf_quat_to_rotvec_jacobian(const struct rf_quat *quat, struct rf_vec3 *out_rotvec, double *out_jacobian);
+
+/**
+ * `rf_motion_map_point` and its Jacobians: `out_jacobian_point[81]` (9×9, with respect to the
+ * point's state) and `out_jacobian_motion[162]` (9×18, with respect to the motion's parts).
+ */
+rf_status rf_motion_map_point_jacobian(const struct rf_frame_motion *motion, const struct rf_point_kinematics *point, struct rf_point_kinematics *out_point, double *out_jacobian_point, double *out_jacobian_motion);
+
+/**
+ * `rf_motion_compose` and its Jacobians `out_jacobian_first[324]`, `out_jacobian_second[324]`
+ * (18×18: the composition's parts with respect to each motion's parts).
+ */
+rf_status rf_motion_compose_jacobian(const struct rf_frame_motion *first, const struct rf_frame_motion *second, struct rf_frame_motion *out_motion, double *out_jacobian_first, double *out_jacobian_second);
+
+/**
+ * `rf_motion_inverse` and its Jacobian `out_jacobian[324]` (18×18).
+ */
+rf_status rf_motion_inverse_jacobian(const struct rf_frame_motion *motion, struct rf_frame_motion *out_motion, double *out_jacobian);
+
+/**
+ * The Jacobians of the total apparent acceleration (see `rf_apparent_terms_compute`), each
+ * 3×3 in `out_jacobians[45]`: with respect to the point's position, its velocity, the
+ * frame's origin acceleration, angular velocity and angular acceleration, in that order.
+ */
+rf_status rf_apparent_terms_jacobian(const struct rf_vec3 *angular_velocity, const struct rf_vec3 *angular_acceleration, const struct rf_vec3 *origin_acceleration, const struct rf_vec3 *position, const struct rf_vec3 *velocity, double *out_jacobians);
+
+/**
+ * The 12 noise spectral densities of an IMU error model, in the order of the noise inputs
+ * of `G`: accelerometer white noise² (m²/s³) ×3, gyro white noise² (rad²/s) ×3, accelerometer
+ * and gyro bias drives 2σ²/τ ×3 each.
+ */
+rf_status rf_noise_psd(const struct rf_imu_error_model *model, double *out_psd);
+
+/**
+ * The continuous error-state model at the stepper's current state: `out_f[states²]` and
+ * `out_g[states·12]`, `states` 15 or 21, with the measured `specific_force` (m/s²) and
+ * `angular_rate` (rad/s) in body axes; bias correlation times from `errors` (NULL: random
+ * constants).
+ */
+rf_status rf_strapdown_error_model(const struct rf_strapdown *strapdown, const struct rf_vec3 *specific_force, const struct rf_vec3 *angular_rate, const struct rf_imu_error_model *errors, size_t states, double *out_f, double *out_g);
+
+/**
+ * `Φ` and `Q_d` (`out_phi[states²]`, `out_qd[states²]`) over `interval` (s) of `f[states²]`,
+ * `g[states·12]` and the 12 densities `psd` (see `rf_noise_psd`).
+ */
+rf_status rf_discrete_error_model(size_t states, const double *f, const double *g, const double *psd, double interval, double *out_phi, double *out_qd);
+
+/**
+ * The number of covariances `rf_predict_covariance` writes for `count` increments kept
+ * every `every` steps: `count / every`, plus one when `count` is not a multiple (the last).
+ */
+size_t rf_covariance_count(size_t count, size_t every);
+
+/**
+ * Predicts the error covariance along a strapdown run from `strapdown` (not changed) over
+ * `count` increments (with optional per-step height references, NULL allowed), the error
+ * model `errors` (NULL: perfect) and `p0[states²]` (symmetric): `P ← Φ P Φᵀ + Q_d` per step.
+ * Writes `rf_covariance_count(count, every)` matrices (`states²` each) to `out_covariances`:
+ * after every `every`-th step and after the last. Everything is checked by a first pass
+ * (the stepper and the model at every step) before anything is written.
+ */
+rf_status rf_predict_covariance(const struct rf_strapdown *strapdown, const struct rf_imu_increment *increments, const double *height_reference, size_t count, const struct rf_imu_error_model *errors, size_t states, const double *p0, size_t every, double *out_covariances);
 
 /**
  * Writes the identity motion (child coincides with parent, at rest).

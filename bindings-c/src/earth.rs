@@ -10,7 +10,7 @@ use crate::types::{rf_earth_model, rf_frame_motion, rf_geodetic, rf_vec3};
 ///
 /// # Safety
 /// `m` is NULL or points to a valid `rf_earth_model`.
-unsafe fn core_model(m: *const rf_earth_model) -> Fallible<EarthModel> {
+pub(crate) unsafe fn core_model(m: *const rf_earth_model) -> Fallible<EarthModel> {
     // SAFETY: the caller guarantees validity when non-NULL; read in place, not copied.
     unsafe { m.as_ref() }.ok_or(crate::status::RF_STATUS_NULL_POINTER)?.to_core()
 }

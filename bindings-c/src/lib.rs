@@ -16,6 +16,7 @@
 
 pub mod earth;
 pub mod graph;
+pub mod linearise;
 pub mod motion;
 pub mod nav;
 pub mod propagate;

@@ -257,7 +257,7 @@ impl rf_strapdown_config {
 
 impl rf_strapdown {
     /// The core stepper (validated).
-    fn to_core(self) -> Fallible<Strapdown> {
+    pub(crate) fn to_core(self) -> Fallible<Strapdown> {
         let config = self.config.to_core()?;
         let state = match config.frame {
             NavFrame::Ecef => MechanizationState::Ecef {
@@ -629,7 +629,7 @@ impl rf_sensor_errors {
     /// The core model. A zero `markov_time` on an axis whose `markov_sigma` is zero means "no
     /// Gauss–Markov process" (so that a zero-initialised struct is a perfect sensor); a zero
     /// time with a non-zero σ is refused.
-    fn to_core(self) -> Fallible<SensorErrorModel> {
+    pub(crate) fn to_core(self) -> Fallible<SensorErrorModel> {
         let mut markov_time: Vector3<f64> = self.markov_time.into();
         let sigma: Vector3<f64> = self.markov_sigma.into();
         for i in 0..3 {

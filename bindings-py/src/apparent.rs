@@ -38,9 +38,38 @@ impl PyApparentAcceleration {
 /// Apparent accelerations for points at `position` moving at `velocity` relative to a frame
 /// that turns at `angular_velocity` with `angular_acceleration` and whose origin accelerates at
 /// `origin_acceleration`, all relative to an inertial frame and resolved in the moving frame.
+///
+/// With `jacobian=True`, `(terms, J)`: `J` a dict of `(..., 3, 3)` Jacobians of the total with
+/// respect to `position`, `velocity`, `origin_acceleration`, `angular_velocity` and
+/// `angular_acceleration`.
 #[pyfunction]
-#[pyo3(signature = (angular_velocity, position, velocity=None, *, angular_acceleration=None, origin_acceleration=None))]
+#[pyo3(signature = (angular_velocity, position, velocity=None, *, angular_acceleration=None, origin_acceleration=None, jacobian=false))]
 pub fn apparent_acceleration<'py>(
+    py: Python<'py>,
+    angular_velocity: &Bound<'py, PyAny>,
+    position: &Bound<'py, PyAny>,
+    velocity: Option<&Bound<'py, PyAny>>,
+    angular_acceleration: Option<&Bound<'py, PyAny>>,
+    origin_acceleration: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+) -> PyResult<Bound<'py, PyAny>> {
+    let terms =
+        Bound::new(py, apparent_terms_of(py, angular_velocity, position, velocity, angular_acceleration, origin_acceleration)?)?;
+    if !jacobian {
+        return Ok(terms.into_any());
+    }
+    let ops = [
+        Operand::extract(angular_velocity, "angular_velocity", &[3])?,
+        Operand::extract(position, "position", &[3])?,
+        Operand::optional(velocity, "velocity", &[3])?,
+        Operand::optional(angular_acceleration, "angular_acceleration", &[3])?,
+        Operand::optional(origin_acceleration, "origin_acceleration", &[3])?,
+    ];
+    let jacobians = crate::linearise::apparent_jacobians(py, ops)?;
+    Ok(pyo3::types::PyTuple::new(py, [terms.into_any(), jacobians.into_any()])?.into_any())
+}
+
+pub fn apparent_terms_of<'py>(
     py: Python<'py>,
     angular_velocity: &Bound<'py, PyAny>,
     position: &Bound<'py, PyAny>,

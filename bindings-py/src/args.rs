@@ -143,8 +143,8 @@ extractors!(number, f64: lat, lon, h, a, f, gm, omega, angle_at_epoch, rtol, ato
     req_gamma_equator = "gamma_equator", req_gamma_pole = "gamma_pole", req_j2 = "j2", rate, angle_at_zero, angular_acceleration);
 extractors!(optional_number, Option<f64>: gamma_equator, gamma_pole, j2, height_time_constant, opt_height_reference = "height_reference",
     opt_max_step = "max_step", opt_stop_height = "stop_height", opt_scale_height = "scale_height");
-extractors!(flag, bool: degrees, inertial, budget);
-extractors!(count, u64: max_steps, seed);
+extractors!(flag, bool: degrees, inertial, budget, jacobian);
+extractors!(count, u64: max_steps, seed, states, every);
 extractors!(number, f64: ballistic_coefficient, density);
 /// Keyword arguments with their allowed values.
 macro_rules! keywords {

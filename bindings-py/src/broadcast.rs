@@ -205,8 +205,23 @@ impl<'py> Operand<'py> {
 /// element's inputs) and located in the argument they name.
 pub fn map_elements<'py, const N: usize, const M: usize, K, R>(
     py: Python<'py>,
-    mut ops: [Operand<'py>; N],
+    ops: [Operand<'py>; N],
     out_core: &[usize],
+    rename: R,
+    kernel: K,
+) -> PyResult<(Plan, [Bound<'py, PyArrayDyn<f64>>; M])>
+where
+    K: Fn(&[&[f64]; N], &mut [&mut [f64]; M]) -> rotaframe::Result<()> + Sync,
+    R: Fn(rotaframe::Error, &[&[f64]; N]) -> rotaframe::Error + Sync,
+{
+    map_elements_shaped(py, ops, [out_core; M], rename, kernel)
+}
+
+/// As [`map_elements`] with a core shape per output (a value and its Jacobian, say).
+pub fn map_elements_shaped<'py, const N: usize, const M: usize, K, R>(
+    py: Python<'py>,
+    mut ops: [Operand<'py>; N],
+    out_cores: [&[usize]; M],
     rename: R,
     kernel: K,
 ) -> PyResult<(Plan, [Bound<'py, PyArrayDyn<f64>>; M])>
@@ -218,8 +233,8 @@ where
         let mut refs: Vec<&mut Operand<'py>> = ops.iter_mut().collect();
         Plan::for_operands(&mut refs, &[])?
     };
-    let outs: [Bound<'py, PyArrayDyn<f64>>; M] = core::array::from_fn(|_| plan.output(py, out_core));
-    let k: usize = out_core.iter().product();
+    let outs: [Bound<'py, PyArrayDyn<f64>>; M] = core::array::from_fn(|j| plan.output(py, out_cores[j]));
+    let sizes: [usize; M] = core::array::from_fn(|j| out_cores[j].iter().product());
     {
         let accesses: [Access<'_>; N] = core::array::from_fn(|j| ops[j].access(&plan));
         let mut guards: Vec<numpy::PyReadwriteArrayDyn<'py, f64>> = outs.iter().map(|o| o.readwrite()).collect();
@@ -229,7 +244,12 @@ where
         let result = py.detach(|| {
             for i in 0..n {
                 let inputs: [&[f64]; N] = core::array::from_fn(|j| accesses[j].slice(i));
-                let mut slots = bufs.each_mut().map(|b| &mut b[i * k..(i + 1) * k]);
+                let mut j = 0;
+                let mut slots = bufs.each_mut().map(|b| {
+                    let k = sizes[j];
+                    j += 1;
+                    &mut b[i * k..(i + 1) * k]
+                });
                 kernel(&inputs, &mut slots).map_err(|error| Failure { index: i, error: rename(error, &inputs) })?;
             }
             Ok(())

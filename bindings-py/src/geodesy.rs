@@ -65,9 +65,11 @@ fn put3(o: &mut [f64], v: &Vector3<f64>) {
     o.copy_from_slice(v.as_slice());
 }
 
-/// ECEF coordinates (m), shape `(..., 3)`, of geodetic latitude, longitude and ellipsoidal height.
+/// ECEF coordinates (m), shape `(..., 3)`, of geodetic latitude, longitude and ellipsoidal height;
+/// with `jacobian=True`, `(xyz, J)` with `J` `(..., 3, 3)` (columns lat, lon, h).
 #[pyfunction]
-#[pyo3(signature = (lat, lon, h, *, model=None, degrees=false))]
+#[pyo3(signature = (lat, lon, h, *, model=None, degrees=false, jacobian=false))]
+#[allow(clippy::too_many_arguments)]
 pub fn geodetic_to_ecef<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
@@ -75,10 +77,14 @@ pub fn geodetic_to_ecef<'py>(
     h: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
     #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
 ) -> PyResult<Bound<'py, PyAny>> {
     let model = model_or_default(model.as_ref());
     let (mut lat, mut lon, mut h) =
         (Operand::extract(lat, "lat", &[])?, Operand::extract(lon, "lon", &[])?, Operand::extract(h, "h", &[])?);
+    if jacobian {
+        return crate::linearise::geodetic_to_ecef(py, [lat, lon, h], &model, degrees);
+    }
     let plan = Plan::for_operands(&mut [&mut lat, &mut lon, &mut h], &[])?;
     let out = plan.output(py, &[3]);
     {
@@ -103,17 +109,22 @@ pub fn geodetic_to_ecef<'py>(
     Ok(out.into_any())
 }
 
-/// Geodetic `(lat, lon, h)` of ECEF points `xyz` (m), shape `(..., 3)`.
+/// Geodetic `(lat, lon, h)` of ECEF points `xyz` (m), shape `(..., 3)`; with `jacobian=True`,
+/// `(lat, lon, h, J)` with `J` `(..., 3, 3)` (rows lat, lon, h).
 #[pyfunction]
-#[pyo3(signature = (xyz, *, model=None, degrees=false))]
+#[pyo3(signature = (xyz, *, model=None, degrees=false, jacobian=false))]
 pub fn ecef_to_geodetic<'py>(
     py: Python<'py>,
     xyz: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
     #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
 ) -> PyResult<Bound<'py, PyTuple>> {
     let model = model_or_default(model.as_ref());
     let mut xyz = Operand::extract(xyz, "xyz", &[3])?;
+    if jacobian {
+        return crate::linearise::ecef_to_geodetic(py, xyz, &model, degrees);
+    }
     let plan = Plan::for_operands(&mut [&mut xyz], &[])?;
     let outs = vec![plan.output(py, &[]), plan.output(py, &[]), plan.output(py, &[])];
     {
@@ -140,25 +151,41 @@ pub fn ecef_to_geodetic<'py>(
 
 /// `C_e^n` matrices `(..., 3, 3)` with `v_ned = C @ v_ecef`.
 #[pyfunction]
-#[pyo3(signature = (lat, lon, *, degrees=false))]
+///
+/// With `jacobian=True`, `(C, J)`: `J` `(..., 3, 2)` is the small-angle rotation of the local
+/// axes relative to ECEF, resolved in ECEF, per unit latitude and longitude.
+#[pyo3(signature = (lat, lon, *, degrees=false, jacobian=false))]
 pub fn ned_from_ecef<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
     lon: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
 ) -> PyResult<Bound<'py, PyAny>> {
+    if jacobian {
+        let ops = [Operand::extract(lat, "lat", &[])?, Operand::extract(lon, "lon", &[])?];
+        return crate::linearise::local_rotation(py, ops, degrees, earth::ned_from_ecef);
+    }
     local_rotation(py, lat, lon, degrees, earth::ned_from_ecef)
 }
 
 /// `C_e^enu` matrices `(..., 3, 3)` with `v_enu = C @ v_ecef`.
 #[pyfunction]
-#[pyo3(signature = (lat, lon, *, degrees=false))]
+///
+/// With `jacobian=True`, `(C, J)`: `J` `(..., 3, 2)` is the small-angle rotation of the local
+/// axes relative to ECEF, resolved in ECEF, per unit latitude and longitude.
+#[pyo3(signature = (lat, lon, *, degrees=false, jacobian=false))]
 pub fn enu_from_ecef<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
     lon: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
 ) -> PyResult<Bound<'py, PyAny>> {
+    if jacobian {
+        let ops = [Operand::extract(lat, "lat", &[])?, Operand::extract(lon, "lon", &[])?];
+        return crate::linearise::local_rotation(py, ops, degrees, earth::enu_from_ecef);
+    }
     local_rotation(py, lat, lon, degrees, earth::enu_from_ecef)
 }
 
@@ -218,18 +245,24 @@ fn lat_scalar<'py>(
     scalar_or_array(py, &plan, out)
 }
 
-/// Normal gravity (m/s²) at geodetic latitude and ellipsoidal height (Somigliana, TR8350.2).
+/// Normal gravity (m/s²) at geodetic latitude and ellipsoidal height (Somigliana, TR8350.2);
+/// with `jacobian=True`, `(γ, J)` with `J` `(..., 2)`: `∂γ/∂lat`, `∂γ/∂h`.
 #[pyfunction]
-#[pyo3(signature = (lat, h=None, *, model=None, degrees=false))]
+#[pyo3(signature = (lat, h=None, *, model=None, degrees=false, jacobian=false))]
 pub fn normal_gravity<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
     h: Option<&Bound<'py, PyAny>>,
     #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
     #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
 ) -> PyResult<Bound<'py, PyAny>> {
     let model = model_or_default(model.as_ref());
     let zero = 0.0f64.into_pyobject(py)?.into_any();
+    if jacobian {
+        let ops = [Operand::extract(lat, "lat", &[])?, Operand::extract(h.unwrap_or(&zero), "h", &[])?];
+        return Ok(crate::linearise::normal_gravity(py, ops, &model, degrees)?.into_any());
+    }
     lat_scalar(py, lat, h.unwrap_or(&zero), degrees, |lat, h| earth::normal_gravity_at_height(&model, lat, h))
 }
 
@@ -271,26 +304,61 @@ fn ecef_vector<'py>(
     Ok(out.into_any())
 }
 
+type Field = fn(&EarthModel, &Vector3<f64>) -> rotaframe::Result<Vector3<f64>>;
+pub type FieldJacobian = fn(&EarthModel, &Vector3<f64>) -> rotaframe::Result<(Vector3<f64>, rotaframe::nalgebra::Matrix3<f64>)>;
+
+/// A field at ECEF points, or with `jacobian` the field and its gradient.
+fn ecef_field<'py>(
+    py: Python<'py>,
+    xyz: &Bound<'py, PyAny>,
+    model: &EarthModel,
+    jacobian: bool,
+    (field, gradient): (Field, FieldJacobian),
+) -> PyResult<Bound<'py, PyAny>> {
+    if jacobian {
+        return crate::linearise::ecef_field(py, Operand::extract(xyz, "xyz", &[3])?, model, gradient);
+    }
+    ecef_vector(py, xyz, model, field)
+}
+
 /// J2 gravitation (no centrifugal part) at ECEF positions, resolved in ECEF (m/s²).
 #[pyfunction]
-#[pyo3(signature = (xyz, *, model=None))]
+///
+/// With `jacobian=True`, `(g, J)` with the gradient `J` `(..., 3, 3)` (s⁻²).
+#[pyo3(signature = (xyz, *, model=None, jacobian=false))]
 pub fn gravitation_ecef<'py>(
     py: Python<'py>,
     xyz: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
 ) -> PyResult<Bound<'py, PyAny>> {
-    ecef_vector(py, xyz, &model_or_default(model.as_ref()), earth::gravitation_ecef)
+    ecef_field(
+        py,
+        xyz,
+        &model_or_default(model.as_ref()),
+        jacobian,
+        (earth::gravitation_ecef, rotaframe::linearise::gravitation_jacobian),
+    )
 }
 
 /// Gravity (J2 gravitation plus centrifugal) at ECEF positions, resolved in ECEF (m/s²).
 #[pyfunction]
-#[pyo3(signature = (xyz, *, model=None))]
+///
+/// With `jacobian=True`, `(g, J)` with the gradient `J` `(..., 3, 3)` (s⁻²).
+#[pyo3(signature = (xyz, *, model=None, jacobian=false))]
 pub fn gravity_ecef<'py>(
     py: Python<'py>,
     xyz: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
 ) -> PyResult<Bound<'py, PyAny>> {
-    ecef_vector(py, xyz, &model_or_default(model.as_ref()), earth::gravity_ecef)
+    ecef_field(
+        py,
+        xyz,
+        &model_or_default(model.as_ref()),
+        jacobian,
+        (earth::gravity_ecef, rotaframe::linearise::gravity_ecef_jacobian),
+    )
 }
 
 /// Centripetal acceleration `ω × (ω × r)` of Earth-fixed points at ECEF positions (m/s²).

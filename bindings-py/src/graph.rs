@@ -408,7 +408,7 @@ impl PyFrameGraph {
         let w = part(|m| m.angular_velocity_in_child());
         let alpha = part(|m| m.angular_acceleration_in_child());
         let a0 = part(|m| m.acceleration_in_child());
-        crate::apparent::apparent_acceleration(py, w.as_any(), position, velocity, Some(alpha.as_any()), Some(a0.as_any()))
+        crate::apparent::apparent_terms_of(py, w.as_any(), position, velocity, Some(alpha.as_any()), Some(a0.as_any()))
     }
 
     /// The frames' names, root first, in the order they were added.

@@ -11,6 +11,7 @@ mod broadcast;
 mod errors;
 mod geodesy;
 mod graph;
+mod linearise;
 mod model;
 mod motion;
 mod nav;
@@ -56,6 +57,8 @@ fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_class::<propagate::PyDeflectionBudget>()?;
     m.add_class::<propagate::PyDrag>()?;
     m.add_function(wrap_pyfunction!(propagate::propagate, m)?)?;
+    m.add_function(wrap_pyfunction!(linearise::discrete_error_model, m)?)?;
+    m.add_function(wrap_pyfunction!(linearise::predict_covariance, m)?)?;
     for f in [
         wrap_pyfunction!(geodesy::geodetic_to_ecef, m)?,
         wrap_pyfunction!(geodesy::ecef_to_geodetic, m)?,

@@ -319,42 +319,82 @@ impl PyFrameMotion {
     }
 
     /// Composes this motion (C relative to P) with `other` (D relative to C) into D relative to P.
-    fn then(&self, py: Python<'_>, other: &Bound<'_, PyFrameMotion>) -> PyResult<PyFrameMotion> {
-        let other = other.get();
-        if let (Some(c), Some(p)) = (&self.child, &other.parent)
-            && c != p
-        {
-            return Err(FrameMismatchError::new_err(format!(
-                "cannot compose: this motion's child frame is {c:?} but the next motion's parent frame is {p:?}"
-            )));
+    ///
+    /// With `jacobian=True`, `(motion, J_self, J_other)`: the Jacobians `(..., 18, 18)` of the
+    /// composition's parts with respect to each motion's parts (order: small-angle rotation in
+    /// the parent, position, velocity, acceleration, angular velocity, angular acceleration).
+    #[pyo3(signature = (other, *, jacobian=false))]
+    fn then<'py>(
+        &self,
+        py: Python<'py>,
+        other: &Bound<'py, PyFrameMotion>,
+        #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    ) -> PyResult<Bound<'py, PyAny>> {
+        let composed = self.compose(py, other)?;
+        if !jacobian {
+            return Ok(Bound::new(py, composed)?.into_any());
         }
+        let other = other.get();
         let plan = Plan::new(&[("self", &self.shape), ("other", &other.shape)])?;
         let (a, b) = (self.indexer(&plan), other.indexer(&plan));
-        let motions: Vec<Motion> =
-            py.detach(|| (0..plan.n).map(|i| self.motions.get(a(i)).then(&other.motions.get(b(i)))).collect());
-        Ok(PyFrameMotion::new_batch(motions, plan.shape.clone(), self.parent.clone(), other.child.clone()))
+        let mut dims = plan.shape.clone();
+        dims.extend_from_slice(&[18, 18]);
+        let (j1, j2) = (PyArrayDyn::<f64>::zeros(py, dims.clone(), false), PyArrayDyn::<f64>::zeros(py, dims, false));
+        {
+            let (mut w1, mut w2) = (j1.readwrite(), j2.readwrite());
+            let (o1, o2) = (out_slice(&mut w1), out_slice(&mut w2));
+            py.detach(|| {
+                for i in 0..plan.n {
+                    let (_, first, second) =
+                        rotaframe::linearise::then_jacobian(&self.motions.get(a(i)), &other.motions.get(b(i)));
+                    put_row_major(&mut o1[i * 324..(i + 1) * 324], &first);
+                    put_row_major(&mut o2[i * 324..(i + 1) * 324], &second);
+                }
+            });
+        }
+        Ok(PyTuple::new(py, [Bound::new(py, composed)?.into_any(), j1.into_any(), j2.into_any()])?.into_any())
     }
 
-    /// The motion of the parent relative to the child (labels swapped).
-    fn inverse(&self, py: Python<'_>) -> PyFrameMotion {
+    /// The motion of the parent relative to the child (labels swapped). With `jacobian=True`,
+    /// `(motion, J)` with `J` `(..., 18, 18)` the Jacobian of the inverse's parts with respect
+    /// to this motion's.
+    #[pyo3(signature = (*, jacobian=false))]
+    fn inverse<'py>(
+        &self,
+        py: Python<'py>,
+        #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    ) -> PyResult<Bound<'py, PyAny>> {
         let motions: Vec<Motion> = py.detach(|| self.motions.iter().map(|m| m.inverse()).collect());
-        PyFrameMotion::new_batch(motions, self.shape.clone(), self.child.clone(), self.parent.clone())
+        let inverse =
+            Bound::new(py, PyFrameMotion::new_batch(motions, self.shape.clone(), self.child.clone(), self.parent.clone()))?;
+        if !jacobian {
+            return Ok(inverse.into_any());
+        }
+        let j = self.with_core(py, &[18, 18], |o, m| put_row_major(o, &rotaframe::linearise::inverse_jacobian(m).1));
+        Ok(PyTuple::new(py, [inverse.into_any(), j.into_any()])?.into_any())
     }
-
     /// Maps points given relative to the child (resolved in the child) to the parent:
     /// returns `(position, velocity, acceleration)` arrays `(..., 3)`.
-    #[pyo3(signature = (position, velocity=None, acceleration=None))]
+    ///
+    /// With `jacobian=True`, `(position, velocity, acceleration, J_point, J_motion)`: the
+    /// Jacobians of the mapped state (position, velocity, acceleration: 9 rows) with respect to
+    /// the point's state `(..., 9, 9)` and to the motion's 18 parts `(..., 9, 18)`.
+    #[pyo3(signature = (position, velocity=None, acceleration=None, *, jacobian=false))]
     fn map_point<'py>(
         &self,
         py: Python<'py>,
         position: &Bound<'py, PyAny>,
         velocity: Option<&Bound<'py, PyAny>>,
         acceleration: Option<&Bound<'py, PyAny>>,
+        #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
     ) -> PyResult<Bound<'py, PyTuple>> {
         let mut r = Operand::extract(position, "position", &[3])?;
         let mut v = Operand::optional(velocity, "velocity", &[3])?;
         let mut a = Operand::optional(acceleration, "acceleration", &[3])?;
         let plan = Plan::for_operands(&mut [&mut r, &mut v, &mut a], &[("motion", &self.shape)])?;
+        if jacobian {
+            return self.map_point_jacobian(py, &plan, [&r, &v, &a]);
+        }
         let n = plan.n;
         let (ra, va, aa) = (r.access(&plan), v.access(&plan), a.access(&plan));
         let expanded;
@@ -660,3 +700,62 @@ fn map_points(
     bad
 }
 rotaframe::fast_twin!(fn map_points_fast(motions: &MotionBatch, slots: &mut [core::mem::MaybeUninit<[f64; 9]>], ra: Access<'_>, va: Access<'_>, aa: Access<'_>, n: usize) -> u64 = map_points);
+
+impl PyFrameMotion {
+    /// `map_point(..., jacobian=True)`.
+    fn map_point_jacobian<'py>(&self, py: Python<'py>, plan: &Plan, ops: [&Operand<'py>; 3]) -> PyResult<Bound<'py, PyTuple>> {
+        let (ra, va, aa) = (ops[0].access(plan), ops[1].access(plan), ops[2].access(plan));
+        let index = self.indexer(plan);
+        let outs = [
+            plan.output(py, &[3]),
+            plan.output(py, &[3]),
+            plan.output(py, &[3]),
+            plan.output(py, &[9, 9]),
+            plan.output(py, &[9, 18]),
+        ];
+        {
+            let mut guards: Vec<_> = outs.iter().map(|o| o.readwrite()).collect();
+            let mut slices = guards.iter_mut().map(out_slice);
+            let [p, v, a, jp, jm]: [&mut [f64]; 5] = core::array::from_fn(|_| slices.next().expect("five outputs"));
+            let motions = &self.motions;
+            let result = run(py, plan.n, |i| {
+                let point = PointKinematics::<AnyFrame>::try_new(ra.vec3(i), va.vec3(i), aa.vec3(i))?;
+                let (mapped, j_point, j_motion) = rotaframe::linearise::map_point_jacobian(&motions.get(index(i)), &point);
+                p[3 * i..3 * i + 3].copy_from_slice(mapped.position.as_slice());
+                v[3 * i..3 * i + 3].copy_from_slice(mapped.velocity.as_slice());
+                a[3 * i..3 * i + 3].copy_from_slice(mapped.acceleration.as_slice());
+                put_row_major(&mut jp[81 * i..81 * (i + 1)], &j_point);
+                put_row_major(&mut jm[162 * i..162 * (i + 1)], &j_motion);
+                Ok(())
+            });
+            result.map_err(|f| failure_to_py(&f, plan, &ops))?;
+        }
+        PyTuple::new(py, outs)
+    }
+
+    /// `self.then(other)` with the label check.
+    fn compose(&self, py: Python<'_>, other: &Bound<'_, PyFrameMotion>) -> PyResult<PyFrameMotion> {
+        let other = other.get();
+        if let (Some(c), Some(p)) = (&self.child, &other.parent)
+            && c != p
+        {
+            return Err(FrameMismatchError::new_err(format!(
+                "cannot compose: this motion's child frame is {c:?} but the next motion's parent frame is {p:?}"
+            )));
+        }
+        let plan = Plan::new(&[("self", &self.shape), ("other", &other.shape)])?;
+        let (a, b) = (self.indexer(&plan), other.indexer(&plan));
+        let motions: Vec<Motion> =
+            py.detach(|| (0..plan.n).map(|i| self.motions.get(a(i)).then(&other.motions.get(b(i)))).collect());
+        Ok(PyFrameMotion::new_batch(motions, plan.shape.clone(), self.parent.clone(), other.child.clone()))
+    }
+}
+
+/// Writes a matrix row-major.
+fn put_row_major<const R: usize, const C: usize>(o: &mut [f64], m: &rotaframe::nalgebra::SMatrix<f64, R, C>) {
+    for i in 0..R {
+        for j in 0..C {
+            o[i * C + j] = m[(i, j)];
+        }
+    }
+}

@@ -376,6 +376,26 @@ pub struct PyStrapdownHistory {
     #[pyo3(get)]
     t: Py<PyArrayDyn<f64>>,
     len: usize,
+    /// What `predict_covariance` needs to retrace the run: the stepper before and after it and
+    /// the run's arguments (references to the caller's arrays, not copies).
+    pub(crate) replay: Option<Replay>,
+}
+
+/// A run's start, end and arguments.
+#[derive(Debug)]
+pub(crate) struct Replay {
+    pub start: Strapdown,
+    pub end: Strapdown,
+    pub dtheta: Py<PyAny>,
+    pub dv: Py<PyAny>,
+    pub dt: Py<PyAny>,
+    pub height_reference: Option<Py<PyAny>>,
+}
+
+impl PyStrapdownHistory {
+    pub(crate) fn replay(&self) -> Option<&Replay> {
+        self.replay.as_ref()
+    }
 }
 
 #[pymethods]
@@ -420,7 +440,7 @@ fn strapdown_config(
 }
 
 /// One scalar or 3-vector argument without batch axes.
-fn single(obj: &Bound<'_, PyAny>, name: &'static str, core: &[usize]) -> PyResult<Vec<f64>> {
+pub(crate) fn single(obj: &Bound<'_, PyAny>, name: &'static str, core: &[usize]) -> PyResult<Vec<f64>> {
     let mut op = Operand::extract(obj, name, core)?;
     let plan = Plan::for_operands(&mut [&mut op], &[])?;
     if !plan.shape.is_empty() {
@@ -662,7 +682,62 @@ impl PyStrapdown {
         }
         drop(guards);
         let [lat, lon, h, v_ned, attitude, t] = outputs.map(Bound::unbind);
-        Ok(PyStrapdownHistory { lat, lon, h, v_ned, attitude, t, len: n })
+        let replay = Replay {
+            start,
+            end: *stepper,
+            dtheta: dtheta.clone().unbind(),
+            dv: dv.clone().unbind(),
+            dt: dt.clone().unbind(),
+            height_reference: height_reference.filter(|h| !h.is_none()).map(|h| h.clone().unbind()),
+        };
+        Ok(PyStrapdownHistory { lat, lon, h, v_ned, attitude, t, len: n, replay: Some(replay) })
+    }
+
+    /// The continuous-time error-state model `(F, G)` at the current state: `F` `(n, n)` and
+    /// `G` `(n, 12)` for `states=15` (position, velocity and attitude errors, accelerometer and
+    /// gyro biases) or 21 (plus scale factors), with the measured `specific_force` (m/s²) and
+    /// `angular_rate` (rad/s) in body axes. The bias correlation times come from `imu_errors`
+    /// (random constants without it). See the README's "Linearisation" for the states and
+    /// conventions.
+    #[pyo3(signature = (specific_force, angular_rate, *, states=15, imu_errors=None))]
+    fn error_model<'py>(
+        &self,
+        py: Python<'py>,
+        specific_force: &Bound<'py, PyAny>,
+        angular_rate: &Bound<'py, PyAny>,
+        #[pyo3(from_py_with = crate::args::states)] states: u64,
+        imu_errors: Option<&Bound<'py, PyImuErrors>>,
+    ) -> PyResult<Bound<'py, PyTuple>> {
+        let f = Vector3::from_column_slice(&single(specific_force, "specific_force", &[3])?);
+        let w = Vector3::from_column_slice(&single(angular_rate, "angular_rate", &[3])?);
+        let model = match imu_errors {
+            Some(e) => *e.get().lock()?.model(),
+            None => ImuErrorModel::default(),
+        };
+        let stepper = self.current()?;
+        let (config, state, _) = stepper.parts();
+        let times = (&model.accelerometer.markov_time, &model.gyro.markov_time);
+        macro_rules! sized {
+            ($n:literal) => {{
+                let (f, g) = rotaframe::linearise::inertial::error_model::<$n>(&config, &state, &f, &w, times)
+                    .map_err(|e| nav_error(e, false, 0.0, ""))?;
+                (
+                    rotaframe::nalgebra::DMatrix::from_column_slice($n, $n, f.as_slice()),
+                    rotaframe::nalgebra::DMatrix::from_column_slice($n, 12, g.as_slice()),
+                )
+            }};
+        }
+        let (f, g) = match states {
+            15 => sized!(15),
+            21 => sized!(21),
+            other => {
+                return Err(to_py(
+                    &rotaframe::Error::Invalid { quantity: "states", reason: "must be 15 or 21" },
+                    &format!(" (got {other})"),
+                ));
+            }
+        };
+        PyTuple::new(py, [crate::linearise::matrix_out(py, &f), crate::linearise::matrix_out(py, &g)])
     }
 
     /// Sets the external ellipsoidal height reference (m) for `vertical="hold"` or `"aided"`.
@@ -887,7 +962,7 @@ pub struct PyImuErrors {
 
 impl PyImuErrors {
     /// The generator, or `ConcurrentUseError` if another thread is using it.
-    fn lock(&self) -> PyResult<std::sync::MutexGuard<'_, ImuErrorGenerator>> {
+    pub(crate) fn lock(&self) -> PyResult<std::sync::MutexGuard<'_, ImuErrorGenerator>> {
         match self.inner.try_lock() {
             Ok(guard) => Ok(guard),
             Err(std::sync::TryLockError::Poisoned(poisoned)) => Ok(poisoned.into_inner()),

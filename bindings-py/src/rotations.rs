@@ -38,18 +38,24 @@ pub fn put_matrix(o: &mut [f64], q: &UnitQuaternion<f64>) {
     o.copy_from_slice(rotation::matrix_from_quaternion(q).transpose().as_slice());
 }
 
-/// Body-to-local-level quaternions `(..., 4)` from z-y-x (yaw, pitch, roll) Euler angles.
+/// Body-to-local-level quaternions `(..., 4)` from z-y-x (yaw, pitch, roll) Euler angles;
+/// with `jacobian=True`, `(q, J)` with `J` `(..., 3, 3)` (rows the small-angle rotation in
+/// local-level axes, columns yaw, pitch, roll).
 #[pyfunction]
-#[pyo3(signature = (yaw, pitch, roll, *, degrees=false))]
+#[pyo3(signature = (yaw, pitch, roll, *, degrees=false, jacobian=false))]
 pub fn quat_from_euler<'py>(
     py: Python<'py>,
     yaw: &Bound<'py, PyAny>,
     pitch: &Bound<'py, PyAny>,
     roll: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
 ) -> PyResult<Bound<'py, PyAny>> {
     let s = angle_scale(degrees);
     let ops = [Operand::extract(yaw, "yaw", &[])?, Operand::extract(pitch, "pitch", &[])?, Operand::extract(roll, "roll", &[])?];
+    if jacobian {
+        return crate::linearise::quat_from_euler(py, ops, degrees);
+    }
     let (_, [out]) = map_elements(py, ops, &[4], same, |x, [o]| {
         let e = EulerZyx::new(x[0][0] * s, x[1][0] * s, x[2][0] * s);
         for (value, name) in [(e.yaw, "yaw"), (e.pitch, "pitch"), (e.roll, "roll")] {
@@ -63,10 +69,20 @@ pub fn quat_from_euler<'py>(
     Ok(out.into_any())
 }
 
-/// z-y-x Euler angles `(yaw, pitch, roll)` of body-to-local-level quaternions `q` `(..., 4)`.
+/// z-y-x Euler angles `(yaw, pitch, roll)` of body-to-local-level quaternions `q` `(..., 4)`;
+/// with `jacobian=True`, `(yaw, pitch, roll, J)` with `J` `(..., 3, 3)` (columns the
+/// small-angle rotation in local-level axes; refused within 1e-9 rad of ±90° pitch).
 #[pyfunction]
-#[pyo3(signature = (q, *, degrees=false))]
-pub fn euler_from_quat<'py>(py: Python<'py>, q: &Bound<'py, PyAny>, degrees: bool) -> PyResult<Bound<'py, PyTuple>> {
+#[pyo3(signature = (q, *, degrees=false, jacobian=false))]
+pub fn euler_from_quat<'py>(
+    py: Python<'py>,
+    q: &Bound<'py, PyAny>,
+    degrees: bool,
+    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+) -> PyResult<Bound<'py, PyTuple>> {
+    if jacobian {
+        return crate::linearise::euler_from_quat(py, Operand::extract(q, "q", &[4])?, degrees);
+    }
     let s = 1.0 / angle_scale(degrees);
     let (plan, [yaw, pitch, roll]) = map_elements(py, [Operand::extract(q, "q", &[4])?], &[], same, |x, [yaw, pitch, roll]| {
         let e = EulerZyx::from_quaternion(&quaternion(x[0], "q")?);
@@ -129,9 +145,18 @@ pub fn quat_rotate<'py>(py: Python<'py>, q: &Bound<'py, PyAny>, v: &Bound<'py, P
     Ok(out.into_any())
 }
 
-/// Unit quaternions `(..., 4)` of rotation vectors `(..., 3)` (angle × axis, radians).
+/// Unit quaternions `(..., 4)` of rotation vectors `(..., 3)` (angle × axis, radians); with
+/// `jacobian=True`, `(q, J)` with the left Jacobian `J` `(..., 3, 3)`.
 #[pyfunction]
-pub fn quat_from_rotvec<'py>(py: Python<'py>, v: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyAny>> {
+#[pyo3(signature = (v, *, jacobian=false))]
+pub fn quat_from_rotvec<'py>(
+    py: Python<'py>,
+    v: &Bound<'py, PyAny>,
+    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+) -> PyResult<Bound<'py, PyAny>> {
+    if jacobian {
+        return crate::linearise::quat_from_rotvec(py, Operand::extract(v, "v", &[3])?);
+    }
     let (_, [out]) = map_elements(py, [Operand::extract(v, "v", &[3])?], &[4], same, |x, [o]| {
         put_quaternion(o, &rotation::quaternion_from_rotation_vector(&Vector3::new(x[0][0], x[0][1], x[0][2]), "v")?);
         Ok(())
@@ -139,9 +164,18 @@ pub fn quat_from_rotvec<'py>(py: Python<'py>, v: &Bound<'py, PyAny>) -> PyResult
     Ok(out.into_any())
 }
 
-/// Rotation vectors `(..., 3)` (angle in [0, π] × axis) of unit quaternions `(..., 4)`.
+/// Rotation vectors `(..., 3)` (angle in [0, π] × axis) of unit quaternions `(..., 4)`; with
+/// `jacobian=True`, `(v, J)` with `J` `(..., 3, 3)` (refused within 1e-6 rad of a half turn).
 #[pyfunction]
-pub fn quat_to_rotvec<'py>(py: Python<'py>, q: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyAny>> {
+#[pyo3(signature = (q, *, jacobian=false))]
+pub fn quat_to_rotvec<'py>(
+    py: Python<'py>,
+    q: &Bound<'py, PyAny>,
+    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+) -> PyResult<Bound<'py, PyAny>> {
+    if jacobian {
+        return crate::linearise::quat_to_rotvec(py, Operand::extract(q, "q", &[4])?);
+    }
     let (_, [out]) = map_elements(py, [Operand::extract(q, "q", &[4])?], &[3], same, |x, [o]| {
         o.copy_from_slice(rotation::rotation_vector_from_quaternion(&quaternion(x[0], "q")?).as_slice());
         Ok(())

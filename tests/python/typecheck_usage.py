@@ -63,3 +63,19 @@ def fall_budget() -> float:
     p, v = out.sample([1.0, 2.0])
     _ = (by_callable.event_time, p, v, out.steps)
     return float(ned[1][1])
+
+
+def predicted_drift() -> float:
+    xyz, j = rf.geodetic_to_ecef(0.7, 0.1, 100.0, jacobian=True)
+    lat, lon, h, ji = rf.ecef_to_geodetic(xyz, jacobian=True)
+    q, jq = rf.quat_from_euler(0.1, 0.0, 0.2, jacobian=True)
+    terms, jacobians = rf.apparent_acceleration([0.0, 0.0, 1e-4], [1.0, 0.0, 0.0], jacobian=True)
+    motion, j1, j2 = rf.earth_motion(1.0).then(rf.earth_motion(1.0).inverse(), jacobian=True)
+    s = rf.Strapdown(0.7, 0.1, 100.0, [0.0, 0.0, 0.0], q)
+    f, g = s.error_model([0.0, 0.0, -9.8], [0.0, 0.0, 0.0], states=15)
+    imu = rf.ImuErrors(gyro_arw_deg_per_sqrt_h=0.1)
+    phi, qd = rf.discrete_error_model(f, g, imu, 0.01)
+    history = s.run(np.zeros((10, 3)), np.tile([0.0, 0.0, -0.098], (10, 1)), 0.01)
+    t, p = rf.predict_covariance(history, imu, np.eye(15) * 1e-12, every=5)
+    _ = (lat, lon, h, ji, j, terms.total, jacobians["position"], motion, j1, j2, phi, qd, jq, t)
+    return float(p[-1, 0, 0])

@@ -5,7 +5,8 @@ other), apparent (Coriolis, centrifugal, Euler,
 translational) accelerations, Earth models, geodetic conversions, local-level frames,
 Earth rotation and gravity; ideal IMU output and increments, strapdown inertial navigation
 in NED and ECEF form, IMU error simulation and lever arms; free-body trajectories in moving
-frames with the deflection budget of each apparent term. The math is rotaframe's Rust core; this package converts,
+frames with the deflection budget of each apparent term; Jacobians of the transforms
+(``jacobian=True``) and the inertial error-state model with covariance prediction. The math is rotaframe's Rust core; this package converts,
 validates and batches.
 
 Conventions (the same in Rust, C and Python):
@@ -51,6 +52,7 @@ from ._native import (
     centripetal_acceleration_ecef,
     coriolis_ned,
     coriolis_parameter,
+    discrete_error_model,
     earth_motion,
     earth_rate_ned,
     earth_rotation_angle,
@@ -72,6 +74,7 @@ from ._native import (
     motion_from_samples,
     ned_from_ecef,
     normal_gravity,
+    predict_covariance,
     propagate,
     quat_from_euler,
     quat_from_rotvec,
@@ -117,6 +120,7 @@ __all__ = [
     "centripetal_acceleration_ecef",
     "coriolis_ned",
     "coriolis_parameter",
+    "discrete_error_model",
     "earth_motion",
     "earth_rate_ned",
     "earth_rotation_angle",
@@ -138,6 +142,7 @@ __all__ = [
     "motion_from_samples",
     "ned_from_ecef",
     "normal_gravity",
+    "predict_covariance",
     "propagate",
     "quat_from_euler",
     "quat_from_rotvec",

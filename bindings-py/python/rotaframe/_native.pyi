@@ -1,6 +1,6 @@
 """Type stubs for rotaframe's native module (checked with mypy and mypy.stubtest)."""
 
-from typing import Any, Callable, Literal, Optional, Sequence, Union, final
+from typing import Any, Callable, Literal, Optional, Sequence, Union, final, overload
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -43,6 +43,7 @@ __all__ = [
     "centripetal_acceleration_ecef",
     "coriolis_ned",
     "coriolis_parameter",
+    "discrete_error_model",
     "earth_motion",
     "earth_rate_ned",
     "earth_rotation_angle",
@@ -64,6 +65,7 @@ __all__ = [
     "motion_from_samples",
     "ned_from_ecef",
     "normal_gravity",
+    "predict_covariance",
     "propagate",
     "quat_from_euler",
     "quat_from_rotvec",
@@ -187,11 +189,32 @@ class FrameMotion:
     def angular_velocity_in_child(self) -> _Array: ...
     @property
     def angular_acceleration_in_child(self) -> _Array: ...
-    def then(self, other: FrameMotion) -> FrameMotion: ...
-    def inverse(self) -> FrameMotion: ...
+    @overload
+    def then(self, other: FrameMotion, *, jacobian: Literal[False] = False) -> FrameMotion: ...
+    @overload
+    def then(self, other: FrameMotion, *, jacobian: Literal[True]) -> tuple[FrameMotion, _Array, _Array]: ...
+    @overload
+    def inverse(self, *, jacobian: Literal[False] = False) -> FrameMotion: ...
+    @overload
+    def inverse(self, *, jacobian: Literal[True]) -> tuple[FrameMotion, _Array]: ...
+    @overload
     def map_point(
-        self, position: ArrayLike, velocity: Optional[ArrayLike] = None, acceleration: Optional[ArrayLike] = None
+        self,
+        position: ArrayLike,
+        velocity: Optional[ArrayLike] = None,
+        acceleration: Optional[ArrayLike] = None,
+        *,
+        jacobian: Literal[False] = False,
     ) -> tuple[_Array, _Array, _Array]: ...
+    @overload
+    def map_point(
+        self,
+        position: ArrayLike,
+        velocity: Optional[ArrayLike] = None,
+        acceleration: Optional[ArrayLike] = None,
+        *,
+        jacobian: Literal[True],
+    ) -> tuple[_Array, _Array, _Array, _Array, _Array]: ...
     def map_vector(self, v: ArrayLike) -> _Array: ...
     def isclose(self, other: object, *, rtol: float = 1e-12, atol: float = 1e-12) -> bool: ...
     def __eq__(self, other: object, /) -> bool: ...
@@ -225,6 +248,7 @@ class ApparentAcceleration:
     @property
     def total(self) -> _Array: ...
 
+@overload
 def apparent_acceleration(
     angular_velocity: ArrayLike,
     position: ArrayLike,
@@ -232,7 +256,18 @@ def apparent_acceleration(
     *,
     angular_acceleration: Optional[ArrayLike] = None,
     origin_acceleration: Optional[ArrayLike] = None,
+    jacobian: Literal[False] = False,
 ) -> ApparentAcceleration: ...
+@overload
+def apparent_acceleration(
+    angular_velocity: ArrayLike,
+    position: ArrayLike,
+    velocity: Optional[ArrayLike] = None,
+    *,
+    angular_acceleration: Optional[ArrayLike] = None,
+    origin_acceleration: Optional[ArrayLike] = None,
+    jacobian: Literal[True],
+) -> tuple[ApparentAcceleration, dict[str, _Array]]: ...
 def earth_motion(t: ArrayLike, *, angle_at_epoch: float = 0.0, model: Optional[EarthModel] = None) -> FrameMotion: ...
 def local_level_motion(
     lat: ArrayLike,
@@ -244,25 +279,74 @@ def local_level_motion(
     model: Optional[EarthModel] = None,
     degrees: bool = False,
 ) -> FrameMotion: ...
+@overload
 def geodetic_to_ecef(
-    lat: ArrayLike, lon: ArrayLike, h: ArrayLike, *, model: Optional[EarthModel] = None, degrees: bool = False
+    lat: ArrayLike,
+    lon: ArrayLike,
+    h: ArrayLike,
+    *,
+    model: Optional[EarthModel] = None,
+    degrees: bool = False,
+    jacobian: Literal[False] = False,
 ) -> _Array: ...
+@overload
+def geodetic_to_ecef(
+    lat: ArrayLike,
+    lon: ArrayLike,
+    h: ArrayLike,
+    *,
+    model: Optional[EarthModel] = None,
+    degrees: bool = False,
+    jacobian: Literal[True],
+) -> tuple[_Array, _Array]: ...
+@overload
 def ecef_to_geodetic(
-    xyz: ArrayLike, *, model: Optional[EarthModel] = None, degrees: bool = False
+    xyz: ArrayLike, *, model: Optional[EarthModel] = None, degrees: bool = False, jacobian: Literal[False] = False
 ) -> tuple[_FloatOrArray, _FloatOrArray, _FloatOrArray]: ...
-def ned_from_ecef(lat: ArrayLike, lon: ArrayLike, *, degrees: bool = False) -> _Array: ...
-def enu_from_ecef(lat: ArrayLike, lon: ArrayLike, *, degrees: bool = False) -> _Array: ...
+@overload
+def ecef_to_geodetic(
+    xyz: ArrayLike, *, model: Optional[EarthModel] = None, degrees: bool = False, jacobian: Literal[True]
+) -> tuple[_FloatOrArray, _FloatOrArray, _FloatOrArray, _Array]: ...
+@overload
+def ned_from_ecef(lat: ArrayLike, lon: ArrayLike, *, degrees: bool = False, jacobian: Literal[False] = False) -> _Array: ...
+@overload
+def ned_from_ecef(lat: ArrayLike, lon: ArrayLike, *, degrees: bool = False, jacobian: Literal[True]) -> tuple[_Array, _Array]: ...
+@overload
+def enu_from_ecef(lat: ArrayLike, lon: ArrayLike, *, degrees: bool = False, jacobian: Literal[False] = False) -> _Array: ...
+@overload
+def enu_from_ecef(lat: ArrayLike, lon: ArrayLike, *, degrees: bool = False, jacobian: Literal[True]) -> tuple[_Array, _Array]: ...
 def radii_of_curvature(
     lat: ArrayLike, *, model: Optional[EarthModel] = None, degrees: bool = False
 ) -> tuple[_FloatOrArray, _FloatOrArray]: ...
+@overload
 def normal_gravity(
-    lat: ArrayLike, h: Optional[ArrayLike] = None, *, model: Optional[EarthModel] = None, degrees: bool = False
+    lat: ArrayLike,
+    h: Optional[ArrayLike] = None,
+    *,
+    model: Optional[EarthModel] = None,
+    degrees: bool = False,
+    jacobian: Literal[False] = False,
 ) -> _FloatOrArray: ...
+@overload
+def normal_gravity(
+    lat: ArrayLike,
+    h: Optional[ArrayLike] = None,
+    *,
+    model: Optional[EarthModel] = None,
+    degrees: bool = False,
+    jacobian: Literal[True],
+) -> tuple[_FloatOrArray, _Array]: ...
 def gravity_ned(
     lat: ArrayLike, h: Optional[ArrayLike] = None, *, model: Optional[EarthModel] = None, degrees: bool = False
 ) -> _Array: ...
-def gravitation_ecef(xyz: ArrayLike, *, model: Optional[EarthModel] = None) -> _Array: ...
-def gravity_ecef(xyz: ArrayLike, *, model: Optional[EarthModel] = None) -> _Array: ...
+@overload
+def gravitation_ecef(xyz: ArrayLike, *, model: Optional[EarthModel] = None, jacobian: Literal[False] = False) -> _Array: ...
+@overload
+def gravitation_ecef(xyz: ArrayLike, *, model: Optional[EarthModel] = None, jacobian: Literal[True]) -> tuple[_Array, _Array]: ...
+@overload
+def gravity_ecef(xyz: ArrayLike, *, model: Optional[EarthModel] = None, jacobian: Literal[False] = False) -> _Array: ...
+@overload
+def gravity_ecef(xyz: ArrayLike, *, model: Optional[EarthModel] = None, jacobian: Literal[True]) -> tuple[_Array, _Array]: ...
 def centripetal_acceleration_ecef(xyz: ArrayLike, *, model: Optional[EarthModel] = None) -> _Array: ...
 def earth_rate_ned(lat: ArrayLike, *, model: Optional[EarthModel] = None, degrees: bool = False) -> _Array: ...
 def transport_rate_ned(
@@ -281,15 +365,39 @@ def eotvos_correction(
 ) -> _FloatOrArray: ...
 def coriolis_parameter(lat: ArrayLike, *, model: Optional[EarthModel] = None, degrees: bool = False) -> _FloatOrArray: ...
 def earth_rotation_angle(jd_ut1: ArrayLike, jd_ut1_fraction: Optional[ArrayLike] = None) -> _FloatOrArray: ...
-def quat_from_euler(yaw: ArrayLike, pitch: ArrayLike, roll: ArrayLike, *, degrees: bool = False) -> _Array: ...
-def euler_from_quat(q: ArrayLike, *, degrees: bool = False) -> tuple[_FloatOrArray, _FloatOrArray, _FloatOrArray]: ...
+@overload
+def quat_from_euler(
+    yaw: ArrayLike, pitch: ArrayLike, roll: ArrayLike, *, degrees: bool = False, jacobian: Literal[False] = False
+) -> _Array: ...
+@overload
+def quat_from_euler(
+    yaw: ArrayLike, pitch: ArrayLike, roll: ArrayLike, *, degrees: bool = False, jacobian: Literal[True]
+) -> tuple[_Array, _Array]: ...
+@overload
+def euler_from_quat(
+    q: ArrayLike, *, degrees: bool = False, jacobian: Literal[False] = False
+) -> tuple[_FloatOrArray, _FloatOrArray, _FloatOrArray]: ...
+@overload
+def euler_from_quat(
+    q: ArrayLike, *, degrees: bool = False, jacobian: Literal[True]
+) -> tuple[_FloatOrArray, _FloatOrArray, _FloatOrArray, _Array]: ...
 def quat_to_matrix(q: ArrayLike) -> _Array: ...
 def matrix_to_quat(m: ArrayLike) -> _Array: ...
 def quat_multiply(p: ArrayLike, q: ArrayLike) -> _Array: ...
 def quat_inverse(q: ArrayLike) -> _Array: ...
 def quat_rotate(q: ArrayLike, v: ArrayLike) -> _Array: ...
-def quat_from_rotvec(v: ArrayLike) -> _Array: ...
-def quat_to_rotvec(q: ArrayLike) -> _Array: ...
+@overload
+def quat_from_rotvec(v: ArrayLike, *, jacobian: Literal[False] = False) -> _Array: ...
+@overload
+def quat_from_rotvec(v: ArrayLike, *, jacobian: Literal[True]) -> tuple[_Array, _Array]: ...
+@overload
+def quat_to_rotvec(q: ArrayLike, *, jacobian: Literal[False] = False) -> _Array: ...
+@overload
+def quat_to_rotvec(q: ArrayLike, *, jacobian: Literal[True]) -> tuple[_Array, _Array]: ...
+def discrete_error_model(F: ArrayLike, G: ArrayLike, noise: Union[ImuErrors, ArrayLike], dt: float) -> tuple[_Array, _Array]: ...
+def predict_covariance(
+    history: StrapdownHistory, imu_errors: ImuErrors, P0: ArrayLike, *, every: int = 1
+) -> tuple[_Array, _Array]: ...
 
 _Gravity = Literal["normal", "j2"]
 
@@ -383,6 +491,9 @@ class Strapdown:
     def run(
         self, dtheta: ArrayLike, dv: ArrayLike, dt: ArrayLike, *, height_reference: Optional[ArrayLike] = None
     ) -> StrapdownHistory: ...
+    def error_model(
+        self, specific_force: ArrayLike, angular_rate: ArrayLike, *, states: int = 15, imu_errors: Optional[ImuErrors] = None
+    ) -> tuple[_Array, _Array]: ...
     def set_height_reference(self, height_reference: float) -> None: ...
     def reset_history(self) -> None: ...
     @property
