@@ -354,44 +354,67 @@ pub fn discretise_covariance<const N: usize>(
     qc: &SMatrix<f64, N, N>,
     interval: f64,
 ) -> (SMatrix<f64, N, N>, SMatrix<f64, N, N>) {
-    macro_rules! sized {
-        ($n:literal, $w:literal, $twin:ident) => {
-            if N == $n {
-                let f = SMatrix::<f64, $n, $n>::from_column_slice(f.as_slice());
-                let qc = SMatrix::<f64, $n, $n>::from_column_slice(qc.as_slice());
-                let (phi, q) = crate::fast_call!($twin, discretise_body::<$n, $w>, (&f, &qc, interval));
-                return (SMatrix::from_column_slice(phi.as_slice()), SMatrix::from_column_slice(q.as_slice()));
-            }
-        };
+    let (mut phi, mut q) = (SMatrix::<f64, N, N>::zeros(), SMatrix::<f64, N, N>::zeros());
+    let (fs, qs) = (f.as_slice(), qc.as_slice());
+    match N {
+        15 => crate::fast_call!(
+            discretise_15_fast,
+            discretise_body::<15, 16>,
+            (fs, qs, interval, phi.as_mut_slice(), q.as_mut_slice())
+        ),
+        21 => crate::fast_call!(
+            discretise_21_fast,
+            discretise_body::<21, 24>,
+            (fs, qs, interval, phi.as_mut_slice(), q.as_mut_slice())
+        ),
+        _ => discretise_body::<N, N>(fs, qs, interval, phi.as_mut_slice(), q.as_mut_slice()),
     }
-    sized!(15, 16, discretise_15_fast);
-    sized!(21, 24, discretise_21_fast);
-    discretise_body::<N, N>(f, qc, interval)
+    (phi, q)
 }
 
-type Pair<const N: usize> = (SMatrix<f64, N, N>, SMatrix<f64, N, N>);
-crate::fast_twin!(fn discretise_15_fast(f: &SMatrix<f64, 15, 15>, qc: &SMatrix<f64, 15, 15>, interval: f64) -> Pair<15> = discretise_body::<15, 16>);
-crate::fast_twin!(fn discretise_21_fast(f: &SMatrix<f64, 21, 21>, qc: &SMatrix<f64, 21, 21>, interval: f64) -> Pair<21> = discretise_body::<21, 24>);
+crate::fast_twin!(fn discretise_15_fast(f: &[f64], qc: &[f64], interval: f64, phi: &mut [f64], q: &mut [f64]) -> () = discretise_body::<15, 16>);
+crate::fast_twin!(fn discretise_21_fast(f: &[f64], qc: &[f64], interval: f64, phi: &mut [f64], q: &mut [f64]) -> () = discretise_body::<21, 24>);
 
-/// The discretisation on `N` rows of `W ≥ N` entries (the padding stays zero).
+/// The discretisation on `N` rows of `W ≥ N` entries (the padding stays zero), from `F` and
+/// `Q_c` given column-major (`N²` values each) into `phi` and `q` (column-major): slices, so
+/// that no layer copies the matrices.
 #[inline(always)]
-fn discretise_body<const N: usize, const W: usize>(f: &SMatrix<f64, N, N>, qc: &SMatrix<f64, N, N>, interval: f64) -> Pair<N> {
+fn discretise_body<const N: usize, const W: usize>(f: &[f64], qc: &[f64], interval: f64, phi_out: &mut [f64], q_out: &mut [f64]) {
     // Halve until ‖F t‖∞ ≤ 1/4 (at most 60 halvings: F is finite).
-    let norm = (0..N).map(|i| f.row(i).iter().map(|x| x.abs()).sum::<f64>()).fold(0.0, f64::max);
+    let mut row_sums = [0.0f64; N];
+    for column in f.chunks_exact(N) {
+        for (s, x) in row_sums.iter_mut().zip(column) {
+            *s += x.abs();
+        }
+    }
+    let norm = row_sums.iter().fold(0.0f64, |a, &b| if b > a { b } else { a });
     let mut halvings = 0;
     let mut t = interval;
     while norm * t > 0.25 && halvings < 60 {
         t *= 0.5;
         halvings += 1;
     }
-    let (phi, q) = taylor::<N, W>(f, qc, t);
-    let (mut phi, mut q) = (phi.matrix(), q.matrix());
-    for _ in 0..halvings {
-        q = phi * q * phi.transpose() + q;
-        phi *= phi;
+    let mut phi = Rows::<N, W>::zeros();
+    let mut q = Rows::<N, W>::zeros();
+    taylor::<N, W>(f, qc, t, &mut phi, &mut q);
+    // Write column-major; Q symmetric to the last bit (the mean of the two triangles).
+    for i in 0..N {
+        for j in 0..N {
+            phi_out[j * N + i] = phi.0[i][j];
+            q_out[j * N + i] = 0.5 * (q.0[i][j] + q.0[j][i]);
+        }
     }
-    symmetrise(&mut q);
-    (phi, q)
+    if halvings > 0 {
+        let mut p = SMatrix::<f64, N, N>::from_column_slice(phi_out);
+        let mut qm = SMatrix::<f64, N, N>::from_column_slice(q_out);
+        for _ in 0..halvings {
+            qm = p * qm * p.transpose() + qm;
+            p *= p;
+        }
+        symmetrise(&mut qm);
+        phi_out.copy_from_slice(p.as_slice());
+        q_out.copy_from_slice(qm.as_slice());
+    }
 }
 
 /// A square matrix stored by rows of `W ≥ N` entries, the padding zero: row updates run in
@@ -412,12 +435,13 @@ impl<const N: usize, const W: usize> Rows<N, W> {
         }
         m
     }
+    /// From `N²` values in column-major order, scaled.
     #[inline(always)]
-    fn from_matrix(m: &SMatrix<f64, N, N>, scale: f64) -> Self {
+    fn from_columns(m: &[f64], scale: f64) -> Self {
         let mut out = Self::zeros();
-        for i in 0..N {
-            for j in 0..N {
-                out.0[i][j] = m[(i, j)] * scale;
+        for (j, column) in m.chunks_exact(N).enumerate() {
+            for (i, &x) in column.iter().enumerate() {
+                out.0[i][j] = x * scale;
             }
         }
         out
@@ -454,10 +478,10 @@ impl<const N: usize, const W: usize> Rows<N, W> {
 /// 70 non-zero entries of 225): row `i` of `F X` is the sum over the non-zero `F[i, k]` of
 /// `F[i, k]` times row `k` of `X`, one vectorised row update per non-zero entry.
 #[inline(always)]
-fn taylor<const N: usize, const W: usize>(f: &SMatrix<f64, N, N>, qc: &SMatrix<f64, N, N>, t: f64) -> (Rows<N, W>, Rows<N, W>) {
+fn taylor<const N: usize, const W: usize>(f: &[f64], qc: &[f64], t: f64, phi: &mut Rows<N, W>, q: &mut Rows<N, W>) {
     let pattern = RowPattern::of(f);
     // Φ = Σ (F T)ᵏ/k!: term ← F term T/k, in two buffers used in turn.
-    let mut phi = Rows::<N, W>::identity();
+    *phi = Rows::<N, W>::identity();
     let mut terms = [Rows::<N, W>::identity(), Rows::<N, W>::zeros()];
     // The stopping test compares with the sum after the first term (Φ's entries are within a
     // factor of two of it for ‖F T‖ ≤ 1/4), so each term costs one scan of itself.
@@ -465,7 +489,7 @@ fn taylor<const N: usize, const W: usize>(f: &SMatrix<f64, N, N>, qc: &SMatrix<f
     for k in 1..30 {
         let [even, odd] = &mut terms;
         let (last, term) = if k % 2 == 1 { (&*even, odd) } else { (&*odd, even) };
-        left_product(f, &pattern, last, t / f64::from(k), term);
+        left_product(&pattern, last, t / f64::from(k), term);
         phi.add_assign(term);
         if k == 1 {
             threshold = 1e-16 * phi.largest();
@@ -475,12 +499,12 @@ fn taylor<const N: usize, const W: usize>(f: &SMatrix<f64, N, N>, qc: &SMatrix<f
         }
     }
     // Q_{k+1} = F Q_k + Q_k Fᵀ = S + Sᵀ with S = F Q_k (Q_k symmetric).
-    let mut q_term = Rows::<N, W>::from_matrix(qc, t);
-    let mut q = q_term;
-    let mut product = Rows::<N, W>::zeros();
+    let mut q_term = Rows::<N, W>::from_columns(qc, t);
+    *q = q_term;
+    let product = &mut terms[0];
     let mut threshold = 1e-16 * q_term.largest();
     for k in 2..30 {
-        left_product(f, &pattern, &q_term, t / f64::from(k), &mut product);
+        left_product(&pattern, &q_term, t / f64::from(k), product);
         for i in 0..N {
             for j in 0..N {
                 q_term.0[i][j] = product.0[i][j] + product.0[j][i];
@@ -494,45 +518,41 @@ fn taylor<const N: usize, const W: usize>(f: &SMatrix<f64, N, N>, qc: &SMatrix<f
             break;
         }
     }
-    (phi, q)
 }
 
-/// The columns of each row's non-zero entries.
+/// The columns and values of each row's non-zero entries.
 struct RowPattern<const N: usize> {
     count: [usize; N],
     columns: [[usize; N]; N],
+    values: [[f64; N]; N],
 }
 
 impl<const N: usize> RowPattern<N> {
+    /// The pattern of a matrix given column-major (`N²` values).
     #[inline(always)]
-    fn of(a: &SMatrix<f64, N, N>) -> Self {
-        let mut pattern = Self { count: [0; N], columns: [[0; N]; N] };
-        for i in 0..N {
-            for k in 0..N {
-                if a[(i, k)] != 0.0 {
-                    pattern.columns[i][pattern.count[i]] = k;
-                    pattern.count[i] += 1;
-                }
+    fn of(a: &[f64]) -> Self {
+        let mut pattern = Self { count: [0; N], columns: [[0; N]; N], values: [[0.0; N]; N] };
+        for (k, column) in a.chunks_exact(N).enumerate() {
+            for (i, &x) in column.iter().enumerate() {
+                let c = pattern.count[i];
+                pattern.columns[i][c] = k;
+                pattern.values[i][c] = x;
+                pattern.count[i] += usize::from(x != 0.0);
             }
         }
         pattern
     }
 }
 
-/// `out = scale A X` for `A` with the given pattern.
+/// `out = scale A X` for `A` with the given pattern (its non-zero entries).
 #[inline(always)]
-fn left_product<const N: usize, const W: usize>(
-    a: &SMatrix<f64, N, N>,
-    pattern: &RowPattern<N>,
-    x: &Rows<N, W>,
-    scale: f64,
-    out: &mut Rows<N, W>,
-) {
+fn left_product<const N: usize, const W: usize>(pattern: &RowPattern<N>, x: &Rows<N, W>, scale: f64, out: &mut Rows<N, W>) {
     for i in 0..N {
         // The row is summed in a local array (held in registers), then stored once.
         let mut row = [0.0f64; W];
-        for &k in &pattern.columns[i][..pattern.count[i]] {
-            let factor = a[(i, k)] * scale;
+        let count = pattern.count[i];
+        for (&k, &value) in pattern.columns[i][..count].iter().zip(&pattern.values[i][..count]) {
+            let factor = value * scale;
             for (r, v) in row.iter_mut().zip(&x.0[k]) {
                 *r += factor * v;
             }
@@ -549,10 +569,17 @@ fn noise_covariance<const N: usize, const M: usize>(g: &SMatrix<f64, N, M>, psd:
         if psd[m] == 0.0 {
             continue;
         }
-        let column = g.column(m);
-        for i in (0..N).filter(|&i| column[i] != 0.0) {
+        // The column's non-zero entries (contiguous in column-major storage).
+        let column = &g.as_slice()[m * N..(m + 1) * N];
+        let mut rows = [0usize; N];
+        let mut count = 0;
+        for (i, &x) in column.iter().enumerate() {
+            rows[count] = i;
+            count += usize::from(x != 0.0);
+        }
+        for &i in &rows[..count] {
             let scaled = psd[m] * column[i];
-            for j in (0..N).filter(|&j| column[j] != 0.0) {
+            for &j in &rows[..count] {
                 qc[(i, j)] += scaled * column[j];
             }
         }
@@ -604,13 +631,13 @@ crate::fast_twin!(fn lyapunov_21_fast(f: &Square<21>, qc: &Square<21>, p: &Squar
 
 #[inline(always)]
 fn lyapunov_series<const N: usize, const W: usize>(f: &Square<N>, qc: &Square<N>, p: &Square<N>, t: f64) -> Square<N> {
-    let pattern = RowPattern::of(f);
-    let mut sum = Rows::<N, W>::from_matrix(p, 1.0);
+    let pattern = RowPattern::of(f.as_slice());
+    let mut sum = Rows::<N, W>::from_columns(p.as_slice(), 1.0);
     let mut term = sum;
     let mut product = Rows::<N, W>::zeros();
     for k in 1..40 {
         let scale = t / f64::from(k);
-        left_product(f, &pattern, &term, scale, &mut product);
+        left_product(&pattern, &term, scale, &mut product);
         let mut scales = [0.0f64; W];
         for (i, s) in scales.iter_mut().enumerate().take(N) {
             *s = crate::math::sqrt(sum.0[i][i].abs());
