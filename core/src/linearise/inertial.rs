@@ -131,6 +131,20 @@ pub fn bias_covariance<const N: usize>(model: &ImuErrorModel) -> SMatrix<f64, N,
 /// ([`Error::NearPole`] in the NED form within
 /// [`POLE_EXCLUSION`](crate::earth::POLE_EXCLUSION) of a pole); [`Error::NonFinite`] naming
 /// `specific_force` or `angular_rate`.
+///
+/// ```
+/// use nalgebra::Vector3;
+/// use rotaframe::earth::Geodetic;
+/// use rotaframe::linearise::inertial::error_model;
+/// use rotaframe::nav::{NavState, Strapdown, StrapdownConfig};
+/// let ins = Strapdown::new(StrapdownConfig::default(), &NavState::new(Geodetic::from_degrees(45.0, 7.0, 200.0), Vector3::new(20.0, 0.0, 0.0), Default::default())).unwrap();
+/// let (_, state, _) = ins.parts();
+/// let tau = Vector3::repeat(f64::INFINITY); // random-constant biases
+/// let (f, g) = error_model::<15>(ins.config(), &state, &Vector3::new(0.0, 0.0, -9.8), &Vector3::zeros(), (&tau, &tau)).unwrap();
+/// // A level body (f^n = (0, 0, -g)): the north velocity error grows as -g times the tilt about east.
+/// assert!((f[(3, 7)] + 9.8).abs() < 1e-12);
+/// assert_eq!(g.ncols(), 12);
+/// ```
 pub fn error_model<const N: usize>(
     config: &StrapdownConfig,
     state: &MechanizationState,
@@ -595,6 +609,15 @@ fn noise_covariance<const N: usize, const M: usize>(g: &SMatrix<f64, N, M>, psd:
 /// of a term is below 1e-16 of its own scale (`|P_ij| + √(P_ii P_jj)`), so that small
 /// variances (a latitude's, in rad²) keep their relative precision beside large ones. For a
 /// long interval (`‖F T‖∞ > 1/4`) it is `Φ P Φᵀ + Q_d` from [`discretise_covariance`].
+///
+/// ```
+/// use nalgebra::SMatrix;
+/// use rotaframe::linearise::inertial::propagate_covariance;
+/// // A random walk x' = w of density 2: P grows by 2 T.
+/// let f = SMatrix::<f64, 1, 1>::zeros();
+/// let p = propagate_covariance(&f, &SMatrix::<f64, 1, 1>::new(2.0), &SMatrix::<f64, 1, 1>::new(1.0), 0.5);
+/// assert_eq!(p[(0, 0)], 2.0);
+/// ```
 #[must_use]
 pub fn propagate_covariance<const N: usize>(
     f: &SMatrix<f64, N, N>,
@@ -699,6 +722,21 @@ fn symmetrise<const N: usize>(p: &mut SMatrix<f64, N, N>) {
 /// (as [`Strapdown::step`], [`error_model`], [`discretise`]); [`Error::NonFinite`] naming `p0`;
 /// [`Error::LengthMismatch`] naming `height_reference` unless it has one element per
 /// increment.
+///
+/// ```
+/// use nalgebra::{SMatrix, Vector3};
+/// use rotaframe::earth::Geodetic;
+/// use rotaframe::linearise::inertial::predict_covariance;
+/// use rotaframe::nav::{ImuErrorModel, ImuIncrement, NavState, SensorErrorModel, Strapdown, StrapdownConfig};
+/// let ins = Strapdown::new(StrapdownConfig::default(), &NavState::new(Geodetic::from_degrees(45.0, 7.0, 200.0), Vector3::zeros(), Default::default())).unwrap();
+/// let gyro = SensorErrorModel { noise_density: Vector3::repeat(1e-5), ..Default::default() };
+/// let model = ImuErrorModel { gyro, ..Default::default() };
+/// let still = vec![ImuIncrement::new(Vector3::zeros(), Vector3::new(0.0, 0.0, -0.098), 0.01); 100];
+/// let mut last = SMatrix::<f64, 15, 15>::zeros();
+/// predict_covariance::<15>(&ins, &still, None, &model, &SMatrix::zeros(), |_, _, p| last = *p).unwrap();
+/// // One second of angle random walk: attitude variance N_g² t about each axis.
+/// assert!((last[(6, 6)] / 1e-10 - 1.0).abs() < 1e-6);
+/// ```
 pub fn predict_covariance<const N: usize>(
     stepper: &Strapdown,
     increments: &[ImuIncrement],

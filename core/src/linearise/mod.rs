@@ -121,6 +121,14 @@ pub fn geodetic_to_ecef_jacobian(model: &EarthModel, position: &Geodetic) -> Res
 /// As [`earth::ecef_to_geodetic`]; [`Error::NearPole`] within
 /// [`POLE_EXCLUSION`](crate::earth::POLE_EXCLUSION) of a pole, where the longitude row is
 /// infinite.
+///
+/// ```
+/// use rotaframe::earth::{Geodetic, WGS84};
+/// use rotaframe::linearise::{ecef_to_geodetic_jacobian, geodetic_to_ecef_jacobian};
+/// let (x, forward) = geodetic_to_ecef_jacobian(&WGS84, &Geodetic::new(0.7, 0.2, 100.0)).unwrap();
+/// let (_, inverse) = ecef_to_geodetic_jacobian(&WGS84, &x).unwrap();
+/// assert!(((inverse * forward) - nalgebra::Matrix3::identity()).amax() < 1e-9);
+/// ```
 pub fn ecef_to_geodetic_jacobian(model: &EarthModel, position_ecef: &Vector3<f64>) -> Result<(Geodetic, Matrix3<f64>)> {
     let g = earth::ecef_to_geodetic(model, position_ecef)?;
     earth::local::check_away_from_pole(g.latitude, "position_ecef")?;
@@ -152,6 +160,18 @@ pub fn local_level_rotation_jacobian(latitude: f64, longitude: f64) -> Result<Ma
 /// The point's state in the parent frame and the Jacobians of [`FrameMotion::map_point`]:
 /// with respect to the point's state (9×9) and to the motion's 18 parts (9×18); see the
 /// [module conventions](self).
+///
+/// ```
+/// use nalgebra::Vector3;
+/// use rotaframe::frames::{AnyFrame, PointKinematics};
+/// use rotaframe::linearise::map_point_jacobian;
+/// use rotaframe::motion::FrameMotion;
+/// let spin = FrameMotion::<AnyFrame, AnyFrame>::about_axis(Vector3::z(), 0.0, 2.0, 0.0).unwrap();
+/// let point = PointKinematics::new(Vector3::new(1.0, 0.0, 0.0), Vector3::zeros(), Vector3::zeros());
+/// let (mapped, j_point, _) = map_point_jacobian(&spin, &point);
+/// assert_eq!(mapped.velocity, Vector3::new(0.0, 2.0, 0.0)); // ω × r
+/// assert_eq!(j_point[(4, 0)], 2.0);                        // ∂v_y/∂r_x = ω
+/// ```
 #[must_use]
 pub fn map_point_jacobian<P: Frame, C: Frame>(
     motion: &FrameMotion<P, C>,
@@ -266,6 +286,13 @@ pub fn inverse_jacobian<P: Frame, C: Frame>(motion: &FrameMotion<P, C>) -> (Fram
 
 /// The body-to-local-level rotation of ZYX Euler angles and its Jacobian: rows `δθ` (resolved
 /// in the local-level frame), columns yaw, pitch, roll.
+///
+/// ```
+/// use rotaframe::linearise::quaternion_from_euler_jacobian;
+/// use rotaframe::rotation::EulerZyx;
+/// let (_, j) = quaternion_from_euler_jacobian(&EulerZyx::new(0.3, 0.0, 0.0));
+/// assert_eq!(j.column(0).into_owned(), nalgebra::Vector3::z()); // yaw turns about the local vertical
+/// ```
 #[must_use]
 pub fn quaternion_from_euler_jacobian(euler: &EulerZyx) -> (UnitQuaternion<f64>, Matrix3<f64>) {
     let q = euler.to_quaternion();
