@@ -7,7 +7,8 @@ use rotaframe::frames::{AnyFrame, PointKinematics};
 
 use rotaframe::limits::{MAX_ACCELERATION, MAX_ANGULAR_ACCELERATION, MAX_ANGULAR_VELOCITY, MAX_POSITION, MAX_VELOCITY, within};
 
-use crate::broadcast::{Operand, Plan, RawOutput, Slot, failure_to_py, run};
+use crate::batch::{self, Outputs};
+use crate::broadcast::{BatchArgs, Operand, Plan, Slot, failure_to_py, run};
 
 /// The apparent accelerations in a rotating frame, each an array `(..., 3)` resolved in that
 /// frame (m/s²): `translational` (−a₀), `coriolis` (−2 ω × v), `centrifugal` (−ω × (ω × r)),
@@ -43,7 +44,7 @@ impl PyApparentAcceleration {
 /// respect to `position`, `velocity`, `origin_acceleration`, `angular_velocity` and
 /// `angular_acceleration`.
 #[pyfunction]
-#[pyo3(signature = (angular_velocity, position, velocity=None, *, angular_acceleration=None, origin_acceleration=None, jacobian=false))]
+#[pyo3(signature = (angular_velocity, position, velocity=None, *, angular_acceleration=None, origin_acceleration=None, jacobian=false, out=None, threads=1))]
 pub fn apparent_acceleration<'py>(
     py: Python<'py>,
     angular_velocity: &Bound<'py, PyAny>,
@@ -52,9 +53,15 @@ pub fn apparent_acceleration<'py>(
     angular_acceleration: Option<&Bound<'py, PyAny>>,
     origin_acceleration: Option<&Bound<'py, PyAny>>,
     #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
-    let terms =
-        Bound::new(py, apparent_terms_of(py, angular_velocity, position, velocity, angular_acceleration, origin_acceleration)?)?;
+    let batch = BatchArgs { out, threads };
+    if jacobian {
+        batch.refuse_out("with jacobian=True")?;
+    }
+    let args = [angular_velocity, position];
+    let terms = Bound::new(py, apparent_terms_of(py, args, velocity, angular_acceleration, origin_acceleration, batch)?)?;
     if !jacobian {
         return Ok(terms.into_any());
     }
@@ -65,17 +72,17 @@ pub fn apparent_acceleration<'py>(
         Operand::optional(angular_acceleration, "angular_acceleration", &[3])?,
         Operand::optional(origin_acceleration, "origin_acceleration", &[3])?,
     ];
-    let jacobians = crate::linearise::apparent_jacobians(py, ops)?;
+    let jacobians = crate::linearise::apparent_jacobians(py, ops, threads)?;
     Ok(pyo3::types::PyTuple::new(py, [terms.into_any(), jacobians.into_any()])?.into_any())
 }
 
 pub fn apparent_terms_of<'py>(
     py: Python<'py>,
-    angular_velocity: &Bound<'py, PyAny>,
-    position: &Bound<'py, PyAny>,
+    [angular_velocity, position]: [&Bound<'py, PyAny>; 2],
     velocity: Option<&Bound<'py, PyAny>>,
     angular_acceleration: Option<&Bound<'py, PyAny>>,
     origin_acceleration: Option<&Bound<'py, PyAny>>,
+    batch: BatchArgs<'_, 'py>,
 ) -> PyResult<PyApparentAcceleration> {
     let mut w = Operand::extract(angular_velocity, "angular_velocity", &[3])?;
     let mut r = Operand::extract(position, "position", &[3])?;
@@ -85,13 +92,24 @@ pub fn apparent_terms_of<'py>(
     let plan = Plan::for_operands(&mut [&mut w, &mut r, &mut v, &mut al, &mut a0], &[])?;
     let (wa, ra, va, ala, a0a) = (w.access(&plan), r.access(&plan), v.access(&plan), al.access(&plan), a0.access(&plan));
     let n = plan.n;
-    let mut outs: [RawOutput<'py>; 5] = core::array::from_fn(|_| RawOutput::vec3(py, &plan));
-    let [s0, s1, s2, s3, s4] = outs.each_mut().map(RawOutput::slots);
+    let mut outs = Outputs::<5>::uninit(py, batch.out, &plan.shape, [&[3]; 5])?;
+    let mut guards = Vec::new();
+    let [s0, s1, s2, s3, s4] = outs.slots::<3>(&mut guards)?;
+    let ranges = batch::chunk_ranges(n, batch.threads);
+    let work: Vec<_> = ranges
+        .iter()
+        .cloned()
+        .zip(batch::split(s0, &ranges, 1))
+        .zip(batch::split(s1, &ranges, 1))
+        .zip(batch::split(s2, &ranges, 1))
+        .zip(batch::split(s3, &ranges, 1))
+        .zip(batch::split(s4, &ranges, 1))
+        .collect();
     // One pass writes every slot and folds a check of every input against its supported
     // range in without branching (inside the ranges the terms cannot overflow); only a batch
     // with a bad input is scanned again, to name the first one.
-    let finite = py.detach(|| {
-        {
+    let flags = py.detach(|| {
+        batch::parallel(batch.threads, work, |(((((range, s0), s1), s2), s3), s4)| {
             let mut bad = 0u64;
             let slots = s0.iter_mut().zip(s1.iter_mut()).zip(s2.iter_mut()).zip(s3.iter_mut()).zip(s4.iter_mut());
             type Vectors<'a> = (&'a [f64; 3], &'a [f64; 3], &'a [f64; 3], &'a [f64; 3], &'a [f64; 3]);
@@ -121,28 +139,37 @@ pub fn apparent_terms_of<'py>(
             match (wa.full_vec3(n), ala.full_vec3(n), a0a.full_vec3(n), ra.full_vec3(n), va.full_vec3(n)) {
                 // Every argument has one vector per element: iterate the slices directly.
                 (Some(w), Some(al), Some(a0), Some(r), Some(v)) => {
-                    let inputs = w.iter().zip(al).zip(a0).zip(r).zip(v).map(|((((w, al), a0), r), v)| (w, al, a0, r, v));
+                    let k = range.clone();
+                    let inputs = w[k.clone()]
+                        .iter()
+                        .zip(&al[k.clone()])
+                        .zip(&a0[k.clone()])
+                        .zip(&r[k.clone()])
+                        .zip(&v[k])
+                        .map(|((((w, al), a0), r), v)| (w, al, a0, r, v));
                     slots.zip(inputs).for_each(&mut element);
                 }
                 _ => {
-                    for (i, slot) in slots.enumerate() {
+                    for (i, slot) in range.zip(slots) {
                         let x: [[f64; 3]; 5] =
                             [wa.vec3(i).into(), ala.vec3(i).into(), a0a.vec3(i).into(), ra.vec3(i).into(), va.vec3(i).into()];
                         element((slot, (&x[0], &x[1], &x[2], &x[3], &x[4])));
                     }
                 }
             }
-            bad == 0
-        }
-    });
-    if !finite {
+            bad
+        })
+    })?;
+    drop(guards);
+    if flags.iter().any(|&b| b != 0) {
         let result = run(py, n, |i| {
             FrameDynamics { angular_velocity: wa.vec3(i), angular_acceleration: ala.vec3(i), origin_acceleration: a0a.vec3(i) }
                 .validate()?;
             PointKinematics::<AnyFrame>::try_new(ra.vec3(i), va.vec3(i), rotaframe::nalgebra::Vector3::zeros()).map(|_| ())
         });
+        outs.poison();
         result.map_err(|f| failure_to_py(&f, &plan, &[&w, &r, &v, &al, &a0]))?;
     }
-    let [translational, coriolis, centrifugal, euler, total] = outs.map(|o| o.into_array().unbind());
+    let [translational, coriolis, centrifugal, euler, total] = outs.arrays.map(Bound::unbind);
     Ok(PyApparentAcceleration { translational, coriolis, centrifugal, euler, total })
 }

@@ -199,6 +199,28 @@ impl<'py> Operand<'py> {
     }
 }
 
+/// The `out=` and `threads=` keywords of a batched call (see [`crate::batch`]).
+#[derive(Clone, Copy)]
+pub struct BatchArgs<'a, 'py> {
+    /// The caller's output array(s), or None.
+    pub out: Option<&'a Bound<'py, PyAny>>,
+    /// Threads to split the batch across (1: the calling thread only).
+    pub threads: usize,
+}
+
+impl<'a, 'py> BatchArgs<'a, 'py> {
+    /// New outputs on the calling thread (the defaults).
+    pub const SERIAL: Self = Self { out: None, threads: 1 };
+
+    /// `out` is refused for this mode of a function (`jacobian=True`, say).
+    pub fn refuse_out(&self, why: &str) -> PyResult<()> {
+        match self.out {
+            Some(o) if !o.is_none() => Err(crate::errors::RotaframeError::new_err(format!("`out` is not taken {why}"))),
+            _ => Ok(()),
+        }
+    }
+}
+
 /// Evaluates `kernel` for every batch element with the GIL released: the kernel receives the
 /// core values of each argument and fills one slot slice per output (all outputs have core
 /// shape `out_core`). Errors are rewritten for Python by `rename` (which also sees the failing
@@ -207,6 +229,7 @@ pub fn map_elements<'py, const N: usize, const M: usize, K, R>(
     py: Python<'py>,
     ops: [Operand<'py>; N],
     out_core: &[usize],
+    batch: BatchArgs<'_, 'py>,
     rename: R,
     kernel: K,
 ) -> PyResult<(Plan, [Bound<'py, PyArrayDyn<f64>>; M])>
@@ -214,7 +237,7 @@ where
     K: Fn(&[&[f64]; N], &mut [&mut [f64]; M]) -> rotaframe::Result<()> + Sync,
     R: Fn(rotaframe::Error, &[&[f64]; N]) -> rotaframe::Error + Sync,
 {
-    map_elements_shaped(py, ops, [out_core; M], rename, kernel)
+    map_elements_shaped(py, ops, [out_core; M], batch, rename, kernel)
 }
 
 /// As [`map_elements`] with a core shape per output (a value and its Jacobian, say).
@@ -222,6 +245,7 @@ pub fn map_elements_shaped<'py, const N: usize, const M: usize, K, R>(
     py: Python<'py>,
     mut ops: [Operand<'py>; N],
     out_cores: [&[usize]; M],
+    batch: BatchArgs<'_, 'py>,
     rename: R,
     kernel: K,
 ) -> PyResult<(Plan, [Bound<'py, PyArrayDyn<f64>>; M])>
@@ -229,37 +253,49 @@ where
     K: Fn(&[&[f64]; N], &mut [&mut [f64]; M]) -> rotaframe::Result<()> + Sync,
     R: Fn(rotaframe::Error, &[&[f64]; N]) -> rotaframe::Error + Sync,
 {
-    let plan = {
+    let mut plan = {
         let mut refs: Vec<&mut Operand<'py>> = ops.iter_mut().collect();
         Plan::for_operands(&mut refs, &[])?
     };
-    let outs: [Bound<'py, PyArrayDyn<f64>>; M] = core::array::from_fn(|j| plan.output(py, out_cores[j]));
+    let outputs = crate::batch::Outputs::new(py, batch.out, &plan.shape, out_cores)?;
+    plan.out_given = outputs.given;
     let sizes: [usize; M] = core::array::from_fn(|j| out_cores[j].iter().product());
     {
         let accesses: [Access<'_>; N] = core::array::from_fn(|j| ops[j].access(&plan));
-        let mut guards: Vec<numpy::PyReadwriteArrayDyn<'py, f64>> = outs.iter().map(|o| o.readwrite()).collect();
-        let mut bufs: Vec<&mut [f64]> = guards.iter_mut().map(out_slice).collect();
-        let bufs: &mut [&mut [f64]; M] = (&mut bufs[..]).try_into().expect("M outputs");
-        let n = plan.n;
-        let result = py.detach(|| {
-            for i in 0..n {
-                let inputs: [&[f64]; N] = core::array::from_fn(|j| accesses[j].slice(i));
-                let mut j = 0;
-                let mut slots = bufs.each_mut().map(|b| {
-                    let k = sizes[j];
-                    j += 1;
-                    &mut b[i * k..(i + 1) * k]
-                });
-                kernel(&inputs, &mut slots).map_err(|error| Failure { index: i, error: rename(error, &inputs) })?;
+        let mut guards: Vec<numpy::PyReadwriteArrayDyn<'py, f64>> = outputs.arrays.iter().map(|o| o.readwrite()).collect();
+        let ranges = crate::batch::chunk_ranges(plan.n, batch.threads);
+        // Per chunk, one piece of every output.
+        let mut pieces: Vec<Vec<&mut [f64]>> = (0..ranges.len()).map(|_| Vec::with_capacity(M)).collect();
+        for (g, &k) in guards.iter_mut().zip(&sizes) {
+            for (c, piece) in crate::batch::split(out_slice(g), &ranges, k).into_iter().enumerate() {
+                pieces[c].push(piece);
             }
-            Ok(())
-        });
-        if let Err(f) = result {
+        }
+        let work: Vec<(core::ops::Range<usize>, Vec<&mut [f64]>)> = ranges.into_iter().zip(pieces).collect();
+        let results = py.detach(|| {
+            crate::batch::parallel(batch.threads, work, |(range, mut bufs)| {
+                let bufs: &mut [&mut [f64]; M] = (&mut bufs[..]).try_into().expect("M outputs");
+                for (local, i) in range.enumerate() {
+                    let inputs: [&[f64]; N] = core::array::from_fn(|j| accesses[j].slice(i));
+                    let mut j = 0;
+                    let mut slots = bufs.each_mut().map(|b| {
+                        let k = sizes[j];
+                        j += 1;
+                        &mut b[local * k..(local + 1) * k]
+                    });
+                    kernel(&inputs, &mut slots).map_err(|error| Failure { index: i, error: rename(error, &inputs) })?;
+                }
+                Ok(())
+            })
+        })?;
+        drop(guards);
+        if let Err(f) = crate::batch::first_failure(results, |f: &Failure| f.index) {
+            outputs.poison();
             let refs: Vec<&Operand<'py>> = ops.iter().collect();
             return Err(failure_to_py(&f, &plan, &refs));
         }
     }
-    Ok((plan, outs))
+    Ok((plan, outputs.arrays))
 }
 
 /// Reads element `i` of a prepared operand: `core` consecutive values starting at `i·stride`.
@@ -307,6 +343,8 @@ pub struct Plan {
     pub shape: Vec<usize>,
     /// Number of elements (product of `shape`).
     pub n: usize,
+    /// The outputs are the caller's (`out=`): returned as arrays even without batch axes.
+    pub out_given: bool,
 }
 
 impl Plan {
@@ -327,7 +365,7 @@ impl Plan {
             }
         }
         let n = shape.iter().product();
-        Ok(Self { shape, n })
+        Ok(Self { shape, n, out_given: false })
     }
 
     /// Broadcasts the leading shapes of `operands` and prepares each of them.
@@ -374,52 +412,8 @@ pub fn non_finite_flag(vectors: &[rotaframe::nalgebra::Vector3<f64>]) -> u64 {
     vectors.iter().fold(0, |acc, v| acc | u64::from(!v.x.is_finite()) | u64::from(!v.y.is_finite()) | u64::from(!v.z.is_finite()))
 }
 
-/// One uninitialised output slot of a `(..., 3)` [`RawOutput`].
+/// One uninitialised output slot of a `(..., 3)` output.
 pub type Slot<'a> = &'a mut core::mem::MaybeUninit<[f64; 3]>;
-
-/// An output array allocated by numpy (so that large outputs get numpy's huge-page friendly
-/// allocation) without zero-filling, with `K` values per batch element. Its buffer is lent out
-/// only as `MaybeUninit` slots, so no reference to uninitialised memory is ever formed, and the
-/// array is handed to Python by [`RawOutput::into_array`] only after the batch loop has
-/// written every slot.
-pub struct RawOutput<'py, const K: usize = 3> {
-    array: Bound<'py, PyArrayDyn<f64>>,
-    n: usize,
-}
-
-impl<'py, const K: usize> RawOutput<'py, K> {
-    /// An uninitialised C-contiguous float64 array of shape `batch + core` (`core` holds `K`
-    /// values).
-    pub fn new(py: Python<'py>, plan: &Plan, core: &[usize]) -> Self {
-        assert_eq!(core.iter().product::<usize>(), K, "core shape holds K values");
-        let mut dims = plan.shape.clone();
-        dims.extend_from_slice(core);
-        // SAFETY: see the type's documentation: nothing reads the buffer before it is written.
-        let array = unsafe { PyArrayDyn::<f64>::new(py, dims, false) };
-        Self { array, n: plan.n }
-    }
-
-    /// The output's `n` slots of `K` values, to be written by the batch loop.
-    pub fn slots(&mut self) -> &mut [core::mem::MaybeUninit<[f64; K]>] {
-        // SAFETY: the buffer is a fresh, C-contiguous, f64-aligned allocation of exactly
-        // `K n` f64 owned by `self.array`, which outlives the returned borrow; `MaybeUninit`
-        // makes the uninitialised contents sound to refer to; the `&mut self` borrow makes the
-        // slice unique.
-        unsafe { core::slice::from_raw_parts_mut(self.array.data().cast::<core::mem::MaybeUninit<[f64; K]>>(), self.n) }
-    }
-
-    /// The filled array. Call only after every slot has been written.
-    pub fn into_array(self) -> Bound<'py, PyArrayDyn<f64>> {
-        self.array
-    }
-}
-
-impl<'py> RawOutput<'py, 3> {
-    /// An uninitialised C-contiguous float64 array of shape `batch + (3,)`.
-    pub fn vec3(py: Python<'py>, plan: &Plan) -> Self {
-        Self::new(py, plan, &[3])
-    }
-}
 
 /// A batch failure: the flat element index and the core error (already named after the
 /// Python argument).
@@ -444,7 +438,7 @@ pub fn failure_to_py(failure: &Failure, plan: &Plan, operands: &[&Operand<'_>]) 
 
 /// Returns a scalar output as a Python float when the call had no batch axes, else the array.
 pub fn scalar_or_array<'py>(py: Python<'py>, plan: &Plan, array: Bound<'py, PyArrayDyn<f64>>) -> PyResult<Bound<'py, PyAny>> {
-    if plan.shape.is_empty() && array.ndim() == 0 {
+    if plan.shape.is_empty() && array.ndim() == 0 && !plan.out_given {
         let v: f64 = array.readonly().as_array().first().copied().unwrap_or(f64::NAN);
         Ok(PyFloat::new(py, v).into_any())
     } else {

@@ -9,7 +9,8 @@ use pyo3::types::PyTuple;
 use rotaframe::earth::{self, EarthModel};
 use rotaframe::nalgebra::Vector3;
 
-use crate::broadcast::{Failure, Operand, Plan, failure_to_py, map_elements, out_slice, scalar_or_array, tuple_of};
+use crate::batch::{self, Outputs};
+use crate::broadcast::{BatchArgs, Failure, Operand, Plan, failure_to_py, map_elements, out_slice, scalar_or_array, tuple_of};
 use crate::model::{PyEarthModel, model_or_default};
 
 /// Degrees-to-radians factor when `degrees` is set.
@@ -68,8 +69,7 @@ fn put3(o: &mut [f64], v: &Vector3<f64>) {
 /// ECEF coordinates (m), shape `(..., 3)`, of geodetic latitude, longitude and ellipsoidal height;
 /// with `jacobian=True`, `(xyz, J)` with `J` `(..., 3, 3)` (columns lat, lon, h).
 #[pyfunction]
-#[pyo3(signature = (lat, lon, h, *, model=None, degrees=false, jacobian=false))]
-#[allow(clippy::too_many_arguments)]
+#[pyo3(signature = (lat, lon, h, *, model=None, degrees=false, jacobian=false, out=None, threads=1))]
 pub fn geodetic_to_ecef<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
@@ -78,15 +78,20 @@ pub fn geodetic_to_ecef<'py>(
     #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
     #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
     #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let model = model_or_default(model.as_ref());
     let (mut lat, mut lon, mut h) =
         (Operand::extract(lat, "lat", &[])?, Operand::extract(lon, "lon", &[])?, Operand::extract(h, "h", &[])?);
+    let batch = BatchArgs { out, threads };
     if jacobian {
-        return crate::linearise::geodetic_to_ecef(py, [lat, lon, h], &model, degrees);
+        batch.refuse_out("with jacobian=True")?;
+        return crate::linearise::geodetic_to_ecef(py, [lat, lon, h], &model, degrees, threads);
     }
     let plan = Plan::for_operands(&mut [&mut lat, &mut lon, &mut h], &[])?;
-    let out = plan.output(py, &[3]);
+    let outputs = Outputs::new(py, batch.out, &plan.shape, [&[3]])?;
+    let [out] = &outputs.arrays;
     {
         let scale = angle_scale(degrees);
         // Radian inputs that already cover the batch are read in place; others are expanded.
@@ -100,33 +105,49 @@ pub fn geodetic_to_ecef<'py>(
         let hh = owned[2].as_deref().or(h.full_slice(&plan, 1.0)).expect("one of the two");
         let mut w = out.readwrite();
         let (xyz, _) = out_slice(&mut w).as_chunks_mut::<3>();
-        let result = py.detach(|| earth::geodetic_to_ecef_slices(&model, la, lo, hh, xyz));
-        result.map_err(|e| {
+        let ranges = batch::chunk_ranges(plan.n, threads);
+        let work: Vec<_> = ranges.iter().cloned().zip(batch::split(xyz, &ranges, 1)).collect();
+        let results = py.detach(|| {
+            batch::parallel(threads, work, |(r, xyz)| {
+                let (la, lo, hh) = (&la[r.clone()], &lo[r.clone()], &hh[r.clone()]);
+                earth::geodetic_to_ecef_slices(&model, la, lo, hh, xyz)
+                    .map_err(|e| rotaframe::BatchError { index: r.start + e.index, error: e.error })
+            })
+        })?;
+        drop(w);
+        batch::first_failure(results, |e| e.index).map_err(|e| {
+            outputs.poison();
             let error = python_error(e.error, degrees, la[e.index] / scale);
             failure_to_py(&Failure { index: e.index, error }, &plan, &[&lat, &lon, &h])
         })?;
     }
+    let [out] = outputs.arrays;
     Ok(out.into_any())
 }
 
 /// Geodetic `(lat, lon, h)` of ECEF points `xyz` (m), shape `(..., 3)`; with `jacobian=True`,
 /// `(lat, lon, h, J)` with `J` `(..., 3, 3)` (rows lat, lon, h).
 #[pyfunction]
-#[pyo3(signature = (xyz, *, model=None, degrees=false, jacobian=false))]
+#[pyo3(signature = (xyz, *, model=None, degrees=false, jacobian=false, out=None, threads=1))]
 pub fn ecef_to_geodetic<'py>(
     py: Python<'py>,
     xyz: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
     #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
     #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyTuple>> {
     let model = model_or_default(model.as_ref());
     let mut xyz = Operand::extract(xyz, "xyz", &[3])?;
+    let batch = BatchArgs { out, threads };
     if jacobian {
-        return crate::linearise::ecef_to_geodetic(py, xyz, &model, degrees);
+        batch.refuse_out("with jacobian=True")?;
+        return crate::linearise::ecef_to_geodetic(py, xyz, &model, degrees, threads);
     }
-    let plan = Plan::for_operands(&mut [&mut xyz], &[])?;
-    let outs = vec![plan.output(py, &[]), plan.output(py, &[]), plan.output(py, &[])];
+    let mut plan = Plan::for_operands(&mut [&mut xyz], &[])?;
+    let outputs = Outputs::new(py, batch.out, &plan.shape, [&[], &[], &[]])?;
+    plan.out_given = outputs.given;
     {
         let owned = xyz.full_slice(&plan, 1.0).is_none().then(|| {
             let access = xyz.access(&plan);
@@ -134,19 +155,33 @@ pub fn ecef_to_geodetic<'py>(
         });
         let points = owned.as_deref().or(xyz.full_slice(&plan, 1.0)).expect("one of the two");
         let (points, _) = points.as_chunks::<3>();
-        let mut guards: Vec<_> = outs.iter().map(|o| o.readwrite()).collect();
+        let mut guards: Vec<_> = outputs.arrays.iter().map(|o| o.readwrite()).collect();
         let [lat, lon, h] = &mut guards[..] else { unreachable!("three outputs") };
-        let (lat, lon, h) = (out_slice(lat), out_slice(lon), out_slice(h));
-        let result = py.detach(|| {
-            earth::ecef_to_geodetic_slices(&model, points, lat, lon, h)?;
-            if degrees {
-                lat.iter_mut().chain(lon.iter_mut()).for_each(|v| *v = v.to_degrees());
-            }
-            Ok::<(), rotaframe::BatchError>(())
-        });
-        result.map_err(|e| failure_to_py(&Failure { index: e.index, error: python_name(e.error) }, &plan, &[&xyz]))?;
+        let ranges = batch::chunk_ranges(plan.n, threads);
+        let work: Vec<_> = ranges
+            .iter()
+            .cloned()
+            .zip(batch::split(out_slice(lat), &ranges, 1))
+            .zip(batch::split(out_slice(lon), &ranges, 1))
+            .zip(batch::split(out_slice(h), &ranges, 1))
+            .collect();
+        let results = py.detach(|| {
+            batch::parallel(threads, work, |(((r, lat), lon), h)| {
+                earth::ecef_to_geodetic_slices(&model, &points[r.clone()], lat, lon, h)
+                    .map_err(|e| rotaframe::BatchError { index: r.start + e.index, error: e.error })?;
+                if degrees {
+                    lat.iter_mut().chain(lon.iter_mut()).for_each(|v| *v = v.to_degrees());
+                }
+                Ok::<(), rotaframe::BatchError>(())
+            })
+        })?;
+        drop(guards);
+        batch::first_failure(results, |e| e.index).map_err(|e| {
+            outputs.poison();
+            failure_to_py(&Failure { index: e.index, error: python_name(e.error) }, &plan, &[&xyz])
+        })?;
     }
-    tuple_of(py, &plan, outs)
+    tuple_of(py, &plan, outputs.arrays.into())
 }
 
 /// `C_e^n` matrices `(..., 3, 3)` with `v_ned = C @ v_ecef`.
@@ -154,19 +189,23 @@ pub fn ecef_to_geodetic<'py>(
 ///
 /// With `jacobian=True`, `(C, J)`: `J` `(..., 3, 2)` is the small-angle rotation of the local
 /// axes relative to ECEF, resolved in ECEF, per unit latitude and longitude.
-#[pyo3(signature = (lat, lon, *, degrees=false, jacobian=false))]
+#[pyo3(signature = (lat, lon, *, degrees=false, jacobian=false, out=None, threads=1))]
 pub fn ned_from_ecef<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
     lon: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
     #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
+    let batch = BatchArgs { out, threads };
     if jacobian {
+        batch.refuse_out("with jacobian=True")?;
         let ops = [Operand::extract(lat, "lat", &[])?, Operand::extract(lon, "lon", &[])?];
-        return crate::linearise::local_rotation(py, ops, degrees, earth::ned_from_ecef);
+        return crate::linearise::local_rotation(py, ops, degrees, earth::ned_from_ecef, threads);
     }
-    local_rotation(py, lat, lon, degrees, earth::ned_from_ecef)
+    local_rotation(py, lat, lon, degrees, earth::ned_from_ecef, batch)
 }
 
 /// `C_e^enu` matrices `(..., 3, 3)` with `v_enu = C @ v_ecef`.
@@ -174,19 +213,23 @@ pub fn ned_from_ecef<'py>(
 ///
 /// With `jacobian=True`, `(C, J)`: `J` `(..., 3, 2)` is the small-angle rotation of the local
 /// axes relative to ECEF, resolved in ECEF, per unit latitude and longitude.
-#[pyo3(signature = (lat, lon, *, degrees=false, jacobian=false))]
+#[pyo3(signature = (lat, lon, *, degrees=false, jacobian=false, out=None, threads=1))]
 pub fn enu_from_ecef<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
     lon: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
     #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
+    let batch = BatchArgs { out, threads };
     if jacobian {
+        batch.refuse_out("with jacobian=True")?;
         let ops = [Operand::extract(lat, "lat", &[])?, Operand::extract(lon, "lon", &[])?];
-        return crate::linearise::local_rotation(py, ops, degrees, earth::enu_from_ecef);
+        return crate::linearise::local_rotation(py, ops, degrees, earth::enu_from_ecef, threads);
     }
-    local_rotation(py, lat, lon, degrees, earth::enu_from_ecef)
+    local_rotation(py, lat, lon, degrees, earth::enu_from_ecef, batch)
 }
 
 type RotationAt = fn(f64, f64) -> rotaframe::Result<rotaframe::nalgebra::Matrix3<f64>>;
@@ -197,10 +240,11 @@ fn local_rotation<'py>(
     lon: &Bound<'py, PyAny>,
     degrees: bool,
     f: RotationAt,
+    batch: BatchArgs<'_, 'py>,
 ) -> PyResult<Bound<'py, PyAny>> {
     let s = angle_scale(degrees);
     let ops = [Operand::extract(lat, "lat", &[])?, Operand::extract(lon, "lon", &[])?];
-    let (_, [out]) = map_elements(py, ops, &[3, 3], lat_first(degrees), |x, [o]| {
+    let (_, [out]) = map_elements(py, ops, &[3, 3], batch, lat_first(degrees), |x, [o]| {
         let m = f(x[0][0] * s, x[1][0] * s)?;
         // Row-major (C order), matching numpy's `m[..., row, column]`.
         o.copy_from_slice(m.transpose().as_slice());
@@ -211,15 +255,18 @@ fn local_rotation<'py>(
 
 /// `(meridian, prime_vertical)` radii of curvature (m) at geodetic latitudes.
 #[pyfunction]
-#[pyo3(signature = (lat, *, model=None, degrees=false))]
+#[pyo3(signature = (lat, *, model=None, degrees=false, out=None, threads=1))]
 pub fn radii_of_curvature<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
     #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyTuple>> {
     let (model, s) = (model_or_default(model.as_ref()), angle_scale(degrees));
-    let (plan, [m, n]) = map_elements(py, [Operand::extract(lat, "lat", &[])?], &[], lat_first(degrees), |x, [m, n]| {
+    let batch = BatchArgs { out, threads };
+    let (plan, [m, n]) = map_elements(py, [Operand::extract(lat, "lat", &[])?], &[], batch, lat_first(degrees), |x, [m, n]| {
         let r = earth::radii_of_curvature(&model, x[0][0] * s)?;
         m[0] = r.meridian;
         n[0] = r.prime_vertical;
@@ -234,11 +281,12 @@ fn lat_scalar<'py>(
     lat: &Bound<'py, PyAny>,
     h: &Bound<'py, PyAny>,
     degrees: bool,
+    batch: BatchArgs<'_, 'py>,
     f: impl Fn(f64, f64) -> rotaframe::Result<f64> + Sync,
 ) -> PyResult<Bound<'py, PyAny>> {
     let s = angle_scale(degrees);
     let ops = [Operand::extract(lat, "lat", &[])?, Operand::extract(h, "h", &[])?];
-    let (plan, [out]) = map_elements(py, ops, &[], lat_first(degrees), |x, [o]| {
+    let (plan, [out]) = map_elements(py, ops, &[], batch, lat_first(degrees), |x, [o]| {
         o[0] = f(x[0][0] * s, x[1][0])?;
         Ok(())
     })?;
@@ -248,7 +296,7 @@ fn lat_scalar<'py>(
 /// Normal gravity (m/s²) at geodetic latitude and ellipsoidal height (Somigliana, TR8350.2);
 /// with `jacobian=True`, `(γ, J)` with `J` `(..., 2)`: `∂γ/∂lat`, `∂γ/∂h`.
 #[pyfunction]
-#[pyo3(signature = (lat, h=None, *, model=None, degrees=false, jacobian=false))]
+#[pyo3(signature = (lat, h=None, *, model=None, degrees=false, jacobian=false, out=None, threads=1))]
 pub fn normal_gravity<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
@@ -256,29 +304,35 @@ pub fn normal_gravity<'py>(
     #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
     #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
     #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let model = model_or_default(model.as_ref());
     let zero = 0.0f64.into_pyobject(py)?.into_any();
+    let batch = BatchArgs { out, threads };
     if jacobian {
+        batch.refuse_out("with jacobian=True")?;
         let ops = [Operand::extract(lat, "lat", &[])?, Operand::extract(h.unwrap_or(&zero), "h", &[])?];
-        return Ok(crate::linearise::normal_gravity(py, ops, &model, degrees)?.into_any());
+        return Ok(crate::linearise::normal_gravity(py, ops, &model, degrees, threads)?.into_any());
     }
-    lat_scalar(py, lat, h.unwrap_or(&zero), degrees, |lat, h| earth::normal_gravity_at_height(&model, lat, h))
+    lat_scalar(py, lat, h.unwrap_or(&zero), degrees, batch, |lat, h| earth::normal_gravity_at_height(&model, lat, h))
 }
 
 /// Plumb-line gravity `(0, 0, γ(φ, h))` resolved in NED (m/s²), shape `(..., 3)`.
 #[pyfunction]
-#[pyo3(signature = (lat, h=None, *, model=None, degrees=false))]
+#[pyo3(signature = (lat, h=None, *, model=None, degrees=false, out=None, threads=1))]
 pub fn gravity_ned<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
     h: Option<&Bound<'py, PyAny>>,
     #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
     #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let (model, s) = (model_or_default(model.as_ref()), angle_scale(degrees));
     let ops = [Operand::extract(lat, "lat", &[])?, Operand::optional(h, "h", &[])?];
-    let (_, [out]) = map_elements(py, ops, &[3], lat_first(degrees), |x, [o]| {
+    let (_, [out]) = map_elements(py, ops, &[3], BatchArgs { out, threads }, lat_first(degrees), |x, [o]| {
         put3(o, &earth::gravity_ned(&model, x[0][0] * s, x[1][0])?);
         Ok(())
     })?;
@@ -290,11 +344,13 @@ fn ecef_vector<'py>(
     xyz: &Bound<'py, PyAny>,
     model: &EarthModel,
     f: fn(&EarthModel, &Vector3<f64>) -> rotaframe::Result<Vector3<f64>>,
+    batch: BatchArgs<'_, 'py>,
 ) -> PyResult<Bound<'py, PyAny>> {
     let (_, [out]) = map_elements(
         py,
         [Operand::extract(xyz, "xyz", &[3])?],
         &[3],
+        batch,
         |e, _| python_name(e),
         |x, [o]| {
             put3(o, &f(model, &v3(x[0]))?);
@@ -314,23 +370,27 @@ fn ecef_field<'py>(
     model: &EarthModel,
     jacobian: bool,
     (field, gradient): (Field, FieldJacobian),
+    batch: BatchArgs<'_, 'py>,
 ) -> PyResult<Bound<'py, PyAny>> {
     if jacobian {
-        return crate::linearise::ecef_field(py, Operand::extract(xyz, "xyz", &[3])?, model, gradient);
+        batch.refuse_out("with jacobian=True")?;
+        return crate::linearise::ecef_field(py, Operand::extract(xyz, "xyz", &[3])?, model, gradient, batch.threads);
     }
-    ecef_vector(py, xyz, model, field)
+    ecef_vector(py, xyz, model, field, batch)
 }
 
 /// J2 gravitation (no centrifugal part) at ECEF positions, resolved in ECEF (m/s²).
 #[pyfunction]
 ///
 /// With `jacobian=True`, `(g, J)` with the gradient `J` `(..., 3, 3)` (s⁻²).
-#[pyo3(signature = (xyz, *, model=None, jacobian=false))]
+#[pyo3(signature = (xyz, *, model=None, jacobian=false, out=None, threads=1))]
 pub fn gravitation_ecef<'py>(
     py: Python<'py>,
     xyz: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
     #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     ecef_field(
         py,
@@ -338,6 +398,7 @@ pub fn gravitation_ecef<'py>(
         &model_or_default(model.as_ref()),
         jacobian,
         (earth::gravitation_ecef, rotaframe::linearise::gravitation_jacobian),
+        BatchArgs { out, threads },
     )
 }
 
@@ -345,12 +406,14 @@ pub fn gravitation_ecef<'py>(
 #[pyfunction]
 ///
 /// With `jacobian=True`, `(g, J)` with the gradient `J` `(..., 3, 3)` (s⁻²).
-#[pyo3(signature = (xyz, *, model=None, jacobian=false))]
+#[pyo3(signature = (xyz, *, model=None, jacobian=false, out=None, threads=1))]
 pub fn gravity_ecef<'py>(
     py: Python<'py>,
     xyz: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
     #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     ecef_field(
         py,
@@ -358,34 +421,46 @@ pub fn gravity_ecef<'py>(
         &model_or_default(model.as_ref()),
         jacobian,
         (earth::gravity_ecef, rotaframe::linearise::gravity_ecef_jacobian),
+        BatchArgs { out, threads },
     )
 }
 
 /// Centripetal acceleration `ω × (ω × r)` of Earth-fixed points at ECEF positions (m/s²).
 #[pyfunction]
-#[pyo3(signature = (xyz, *, model=None))]
+#[pyo3(signature = (xyz, *, model=None, out=None, threads=1))]
 pub fn centripetal_acceleration_ecef<'py>(
     py: Python<'py>,
     xyz: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
-    ecef_vector(py, xyz, &model_or_default(model.as_ref()), earth::centripetal_acceleration_ecef)
+    ecef_vector(py, xyz, &model_or_default(model.as_ref()), earth::centripetal_acceleration_ecef, BatchArgs { out, threads })
 }
 
 /// Earth rate `Ω (cos φ, 0, −sin φ)` resolved in NED (rad/s), shape `(..., 3)`.
 #[pyfunction]
-#[pyo3(signature = (lat, *, model=None, degrees=false))]
+#[pyo3(signature = (lat, *, model=None, degrees=false, out=None, threads=1))]
 pub fn earth_rate_ned<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
     #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let (model, s) = (model_or_default(model.as_ref()), angle_scale(degrees));
-    let (_, [out]) = map_elements(py, [Operand::extract(lat, "lat", &[])?], &[3], lat_first(degrees), |x, [o]| {
-        put3(o, &earth::earth_rate_ned(&model, x[0][0] * s)?);
-        Ok(())
-    })?;
+    let (_, [out]) = map_elements(
+        py,
+        [Operand::extract(lat, "lat", &[])?],
+        &[3],
+        BatchArgs { out, threads },
+        lat_first(degrees),
+        |x, [o]| {
+            put3(o, &earth::earth_rate_ned(&model, x[0][0] * s)?);
+            Ok(())
+        },
+    )?;
     Ok(out.into_any())
 }
 
@@ -395,11 +470,13 @@ fn lat_h_velocity<'py>(
     [lat, h, v]: [&Bound<'py, PyAny>; 3],
     degrees: bool,
     out_core: &[usize],
+    batch: BatchArgs<'_, 'py>,
     f: impl Fn(f64, f64, &Vector3<f64>, &mut [f64]) -> rotaframe::Result<()> + Sync,
 ) -> PyResult<(Plan, Bound<'py, numpy::PyArrayDyn<f64>>)> {
     let s = angle_scale(degrees);
     let ops = [Operand::extract(lat, "lat", &[])?, Operand::extract(h, "h", &[])?, Operand::extract(v, "v_ned", &[3])?];
-    let (plan, [out]) = map_elements(py, ops, out_core, lat_first(degrees), |x, [o]| f(x[0][0] * s, x[1][0], &v3(x[2]), o))?;
+    let (plan, [out]) =
+        map_elements(py, ops, out_core, batch, lat_first(degrees), |x, [o]| f(x[0][0] * s, x[1][0], &v3(x[2]), o))?;
     Ok((plan, out))
 }
 
@@ -411,9 +488,10 @@ fn velocity_vector<'py>(
     model: Option<&Bound<'py, PyEarthModel>>,
     degrees: bool,
     f: VectorAtVelocity,
+    batch: BatchArgs<'_, 'py>,
 ) -> PyResult<Bound<'py, PyAny>> {
     let model = model_or_default(model);
-    let (_, out) = lat_h_velocity(py, args, degrees, &[3], |lat, h, v, o| {
+    let (_, out) = lat_h_velocity(py, args, degrees, &[3], batch, |lat, h, v, o| {
         put3(o, &f(&model, lat, h, v)?);
         Ok(())
     })?;
@@ -422,7 +500,7 @@ fn velocity_vector<'py>(
 
 /// Transport rate (angular velocity of NED relative to the Earth) resolved in NED (rad/s).
 #[pyfunction]
-#[pyo3(signature = (lat, h, v_ned, *, model=None, degrees=false))]
+#[pyo3(signature = (lat, h, v_ned, *, model=None, degrees=false, out=None, threads=1))]
 pub fn transport_rate_ned<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
@@ -430,13 +508,15 @@ pub fn transport_rate_ned<'py>(
     v_ned: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
     #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
-    velocity_vector(py, [lat, h, v_ned], model.as_ref(), degrees, earth::transport_rate_ned)
+    velocity_vector(py, [lat, h, v_ned], model.as_ref(), degrees, earth::transport_rate_ned, BatchArgs { out, threads })
 }
 
 /// The Coriolis and transport-rate term `−(2 ω_ie + ω_en) × v` of the NED velocity equation (m/s²).
 #[pyfunction]
-#[pyo3(signature = (lat, h, v_ned, *, model=None, degrees=false))]
+#[pyo3(signature = (lat, h, v_ned, *, model=None, degrees=false, out=None, threads=1))]
 pub fn coriolis_ned<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
@@ -444,13 +524,15 @@ pub fn coriolis_ned<'py>(
     v_ned: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
     #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
-    velocity_vector(py, [lat, h, v_ned], model.as_ref(), degrees, earth::coriolis_ned)
+    velocity_vector(py, [lat, h, v_ned], model.as_ref(), degrees, earth::coriolis_ned, BatchArgs { out, threads })
 }
 
 /// Eötvös correction (m/s², to add to a moving gravimeter's reading).
 #[pyfunction]
-#[pyo3(signature = (lat, v_ned, h=None, *, model=None, degrees=false))]
+#[pyo3(signature = (lat, v_ned, h=None, *, model=None, degrees=false, out=None, threads=1))]
 pub fn eotvos_correction<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
@@ -458,43 +540,51 @@ pub fn eotvos_correction<'py>(
     h: Option<&Bound<'py, PyAny>>,
     #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
     #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let model = model_or_default(model.as_ref());
     let zero = 0.0f64.into_pyobject(py)?.into_any();
-    let (plan, out) = lat_h_velocity(py, [lat, h.unwrap_or(&zero), v_ned], degrees, &[], |lat, h, v, o| {
-        o[0] = earth::eotvos_correction(&model, lat, h, v)?;
-        Ok(())
-    })?;
+    let (plan, out) =
+        lat_h_velocity(py, [lat, h.unwrap_or(&zero), v_ned], degrees, &[], BatchArgs { out, threads }, |lat, h, v, o| {
+            o[0] = earth::eotvos_correction(&model, lat, h, v)?;
+            Ok(())
+        })?;
     scalar_or_array(py, &plan, out)
 }
 
 /// Coriolis parameter `2 Ω sin φ` (1/s).
 #[pyfunction]
-#[pyo3(signature = (lat, *, model=None, degrees=false))]
+#[pyo3(signature = (lat, *, model=None, degrees=false, out=None, threads=1))]
 pub fn coriolis_parameter<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
     #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let model = model_or_default(model.as_ref());
     let zero = 0.0f64.into_pyobject(py)?.into_any();
-    lat_scalar(py, lat, &zero, degrees, |lat, _| earth::coriolis_parameter(&model, lat))
+    lat_scalar(py, lat, &zero, degrees, BatchArgs { out, threads }, |lat, _| earth::coriolis_parameter(&model, lat))
 }
 
 /// Earth Rotation Angle (rad, in [0, 2π)) at UT1 Julian dates given in two parts.
 #[pyfunction]
-#[pyo3(signature = (jd_ut1, jd_ut1_fraction=None))]
+#[pyo3(signature = (jd_ut1, jd_ut1_fraction=None, *, out=None, threads=1))]
 pub fn earth_rotation_angle<'py>(
     py: Python<'py>,
     jd_ut1: &Bound<'py, PyAny>,
     jd_ut1_fraction: Option<&Bound<'py, PyAny>>,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let ops = [Operand::extract(jd_ut1, "jd_ut1", &[])?, Operand::optional(jd_ut1_fraction, "jd_ut1_fraction", &[])?];
     let (plan, [out]) = map_elements(
         py,
         ops,
         &[],
+        BatchArgs { out, threads },
         |e, _| python_name(e),
         |x, [o]| {
             o[0] = earth::earth_rotation_angle(x[0][0], x[1][0])?;

@@ -262,7 +262,6 @@ impl PyFrameGraph {
     /// Adds a local-level frame `name` at the fixed geodetic point (`lat`, `lon`, `h`) of
     /// `parent` (an Earth-fixed frame), with `axes` "ned" or "enu".
     #[pyo3(signature = (name, parent, lat, lon, h, *, axes="ned", model=None, degrees=false))]
-    #[allow(clippy::too_many_arguments)]
     fn add_site(
         &self,
         name: &str,
@@ -290,7 +289,6 @@ impl PyFrameGraph {
     /// relative to the parent, in child axes) replace the estimated derivatives. The motion is
     /// interpolated (all six kinematic quantities) and never extrapolated.
     #[pyo3(signature = (name, parent, t, position, attitude, *, position_kind="geodetic", degrees=false, model=None, velocity=None, angular_rate=None))]
-    #[allow(clippy::too_many_arguments)]
     fn add_samples(
         &self,
         name: &str,
@@ -364,7 +362,6 @@ impl PyFrameGraph {
     /// Points given relative to frame `frame_from` (resolved in it) at times `t`, relative to
     /// frame `frame_to` (resolved in it): `(position, velocity, acceleration)`.
     #[pyo3(signature = (frame_from, frame_to, t, position, velocity=None, acceleration=None))]
-    #[allow(clippy::too_many_arguments)]
     fn map_point<'py>(
         &self,
         py: Python<'py>,
@@ -408,7 +405,9 @@ impl PyFrameGraph {
         let w = part(|m| m.angular_velocity_in_child());
         let alpha = part(|m| m.angular_acceleration_in_child());
         let a0 = part(|m| m.acceleration_in_child());
-        crate::apparent::apparent_terms_of(py, w.as_any(), position, velocity, Some(alpha.as_any()), Some(a0.as_any()))
+        let args = [w.as_any(), position];
+        let batch = crate::broadcast::BatchArgs::SERIAL;
+        crate::apparent::apparent_terms_of(py, args, velocity, Some(alpha.as_any()), Some(a0.as_any()), batch)
     }
 
     /// The frames' names, root first, in the order they were added.

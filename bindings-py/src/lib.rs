@@ -5,8 +5,13 @@
 //! over the batch with the GIL released calling the core, and map the core's errors to Python
 //! exceptions. No formula is written here.
 
+// A Python function with keyword arguments (`model`, `degrees`, `jacobian`, `out`, `threads`)
+// takes them as Rust arguments: the argument count mirrors the Python signature.
+#![allow(clippy::too_many_arguments)]
+
 mod apparent;
 mod args;
+mod batch;
 mod broadcast;
 mod errors;
 mod geodesy;
@@ -53,6 +58,7 @@ fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(nav::imu_increments_from_samples, m)?)?;
     m.add_function(wrap_pyfunction!(nav::motion_from_samples, m)?)?;
     m.add_function(wrap_pyfunction!(nav::lever_arm_state, m)?)?;
+    m.add_function(wrap_pyfunction!(nav::run_strapdowns, m)?)?;
     m.add_class::<propagate::PyPropagation>()?;
     m.add_class::<propagate::PyDeflectionBudget>()?;
     m.add_class::<propagate::PyDrag>()?;

@@ -14,7 +14,7 @@ use rotaframe::linearise::{self, inertial};
 use rotaframe::nalgebra::{DMatrix, Matrix3, SMatrix, SVector, Vector3};
 use rotaframe::rotation::EulerZyx;
 
-use crate::broadcast::{Operand, map_elements_shaped, tuple_of};
+use crate::broadcast::{BatchArgs, Operand, map_elements_shaped, tuple_of};
 use crate::errors::ShapeError;
 use crate::geodesy::{python_error, python_name};
 
@@ -43,10 +43,11 @@ pub fn geodetic_to_ecef<'py>(
     ops: [Operand<'py>; 3],
     model: &EarthModel,
     degrees: bool,
+    threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let s = angle_scale(degrees);
     let rename = move |e, x: &[&[f64]; 3]| python_error(e, degrees, x[0][0]);
-    let (_, [xyz, j]) = map_elements_shaped(py, ops, [&[3], &[3, 3]], rename, |x, [o, oj]| {
+    let (_, [xyz, j]) = map_elements_shaped(py, ops, [&[3], &[3, 3]], BatchArgs { out: None, threads }, rename, |x, [o, oj]| {
         let (value, mut jac) = linearise::geodetic_to_ecef_jacobian(model, &Geodetic::new(x[0][0] * s, x[1][0] * s, x[2][0]))?;
         jac.column_mut(0).scale_mut(s);
         jac.column_mut(1).scale_mut(s);
@@ -64,12 +65,14 @@ pub fn ecef_to_geodetic<'py>(
     xyz: Operand<'py>,
     model: &EarthModel,
     degrees: bool,
+    threads: usize,
 ) -> PyResult<Bound<'py, PyTuple>> {
     let s = 1.0 / angle_scale(degrees);
     let (plan, [lat, lon, h, j]) = map_elements_shaped(
         py,
         [xyz],
         [&[], &[], &[], &[3, 3]],
+        BatchArgs { out: None, threads },
         |e, _| python_name(e),
         |x, [la, lo, hh, oj]| {
             let (g, mut jac) = linearise::ecef_to_geodetic_jacobian(model, &v3(x[0]))?;
@@ -91,15 +94,17 @@ pub fn local_rotation<'py>(
     ops: [Operand<'py>; 2],
     degrees: bool,
     f: fn(f64, f64) -> rotaframe::Result<Matrix3<f64>>,
+    threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let s = angle_scale(degrees);
     let rename = move |e, x: &[&[f64]; 2]| python_error(e, degrees, x[0][0]);
-    let (_, [c, j]) = map_elements_shaped(py, ops, [&[3, 3], &[3, 2]], rename, |x, [o, oj]| {
-        let (lat, lon) = (x[0][0] * s, x[1][0] * s);
-        put(o, &f(lat, lon)?);
-        put(oj, &(linearise::local_level_rotation_jacobian(lat, lon)? * s));
-        Ok(())
-    })?;
+    let (_, [c, j]) =
+        map_elements_shaped(py, ops, [&[3, 3], &[3, 2]], BatchArgs { out: None, threads }, rename, |x, [o, oj]| {
+            let (lat, lon) = (x[0][0] * s, x[1][0] * s);
+            put(o, &f(lat, lon)?);
+            put(oj, &(linearise::local_level_rotation_jacobian(lat, lon)? * s));
+            Ok(())
+        })?;
     Ok(PyTuple::new(py, [c.into_any(), j.into_any()])?.into_any())
 }
 
@@ -109,10 +114,11 @@ pub fn normal_gravity<'py>(
     ops: [Operand<'py>; 2],
     model: &EarthModel,
     degrees: bool,
+    threads: usize,
 ) -> PyResult<Bound<'py, PyTuple>> {
     let s = angle_scale(degrees);
     let rename = move |e, x: &[&[f64]; 2]| python_error(e, degrees, x[0][0]);
-    let (plan, [g, j]) = map_elements_shaped(py, ops, [&[], &[2]], rename, |x, [o, oj]| {
+    let (plan, [g, j]) = map_elements_shaped(py, ops, [&[], &[2]], BatchArgs { out: None, threads }, rename, |x, [o, oj]| {
         let (value, (per_latitude, per_height)) = linearise::normal_gravity_jacobian(model, x[0][0] * s, x[1][0])?;
         o[0] = value;
         (oj[0], oj[1]) = (per_latitude * s, per_height);
@@ -127,11 +133,13 @@ pub fn ecef_field<'py>(
     xyz: Operand<'py>,
     model: &EarthModel,
     f: crate::geodesy::FieldJacobian,
+    threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let (_, [g, j]) = map_elements_shaped(
         py,
         [xyz],
         [&[3], &[3, 3]],
+        BatchArgs { out: None, threads },
         |e, _| python_name(e),
         |x, [o, oj]| {
             let (value, jac) = f(model, &v3(x[0]))?;
@@ -145,12 +153,18 @@ pub fn ecef_field<'py>(
 
 /// `quat_from_euler(..., jacobian=True)`: `(q, J)`, J `(..., 3, 3)`: rows the small-angle
 /// rotation (local-level axes), columns yaw, pitch, roll.
-pub fn quat_from_euler<'py>(py: Python<'py>, ops: [Operand<'py>; 3], degrees: bool) -> PyResult<Bound<'py, PyAny>> {
+pub fn quat_from_euler<'py>(
+    py: Python<'py>,
+    ops: [Operand<'py>; 3],
+    degrees: bool,
+    threads: usize,
+) -> PyResult<Bound<'py, PyAny>> {
     let s = angle_scale(degrees);
     let (_, [q, j]) = map_elements_shaped(
         py,
         ops,
         [&[4], &[3, 3]],
+        BatchArgs { out: None, threads },
         |e, _| e,
         |x, [o, oj]| {
             let e = EulerZyx::new(x[0][0] * s, x[1][0] * s, x[2][0] * s);
@@ -170,12 +184,13 @@ pub fn quat_from_euler<'py>(py: Python<'py>, ops: [Operand<'py>; 3], degrees: bo
 
 /// `euler_from_quat(..., jacobian=True)`: `(yaw, pitch, roll, J)`, J `(..., 3, 3)`: rows yaw,
 /// pitch, roll, columns the small-angle rotation (local-level axes).
-pub fn euler_from_quat<'py>(py: Python<'py>, q: Operand<'py>, degrees: bool) -> PyResult<Bound<'py, PyTuple>> {
+pub fn euler_from_quat<'py>(py: Python<'py>, q: Operand<'py>, degrees: bool, threads: usize) -> PyResult<Bound<'py, PyTuple>> {
     let s = 1.0 / angle_scale(degrees);
     let (plan, [yaw, pitch, roll, j]) = map_elements_shaped(
         py,
         [q],
         [&[], &[], &[], &[3, 3]],
+        BatchArgs { out: None, threads },
         |e, _| e,
         |x, [y, p, r, oj]| {
             let (e, jac) = linearise::euler_from_quaternion_jacobian(&crate::rotations::quaternion(x[0], "q")?)?;
@@ -188,11 +203,12 @@ pub fn euler_from_quat<'py>(py: Python<'py>, q: Operand<'py>, degrees: bool) -> 
 }
 
 /// `quat_from_rotvec(v, jacobian=True)`: `(q, J)`, J the left Jacobian `(..., 3, 3)`.
-pub fn quat_from_rotvec<'py>(py: Python<'py>, v: Operand<'py>) -> PyResult<Bound<'py, PyAny>> {
+pub fn quat_from_rotvec<'py>(py: Python<'py>, v: Operand<'py>, threads: usize) -> PyResult<Bound<'py, PyAny>> {
     let (_, [q, j]) = map_elements_shaped(
         py,
         [v],
         [&[4], &[3, 3]],
+        BatchArgs { out: None, threads },
         |e, _| e.with_quantity("v"),
         |x, [o, oj]| {
             let (quaternion, jac) = linearise::quaternion_from_rotation_vector_jacobian(&v3(x[0]))?;
@@ -205,11 +221,12 @@ pub fn quat_from_rotvec<'py>(py: Python<'py>, v: Operand<'py>) -> PyResult<Bound
 }
 
 /// `quat_to_rotvec(q, jacobian=True)`: `(v, J)`, J `(..., 3, 3)` (the inverse left Jacobian).
-pub fn quat_to_rotvec<'py>(py: Python<'py>, q: Operand<'py>) -> PyResult<Bound<'py, PyAny>> {
+pub fn quat_to_rotvec<'py>(py: Python<'py>, q: Operand<'py>, threads: usize) -> PyResult<Bound<'py, PyAny>> {
     let (_, [v, j]) = map_elements_shaped(
         py,
         [q],
         [&[3], &[3, 3]],
+        BatchArgs { out: None, threads },
         |e, _| e,
         |x, [o, oj]| {
             let (vector, jac) = linearise::rotation_vector_from_quaternion_jacobian(&crate::rotations::quaternion(x[0], "q")?)?;
@@ -223,12 +240,13 @@ pub fn quat_to_rotvec<'py>(py: Python<'py>, q: Operand<'py>) -> PyResult<Bound<'
 
 /// The Jacobians of the total apparent acceleration, a dict of `(..., 3, 3)` arrays keyed by
 /// the argument differentiated.
-pub fn apparent_jacobians<'py>(py: Python<'py>, ops: [Operand<'py>; 5]) -> PyResult<Bound<'py, PyDict>> {
+pub fn apparent_jacobians<'py>(py: Python<'py>, ops: [Operand<'py>; 5], threads: usize) -> PyResult<Bound<'py, PyDict>> {
     let core: [&[usize]; 5] = [&[3, 3]; 5];
     let (_, [jr, jv, ja0, jw, jal]) = map_elements_shaped(
         py,
         ops,
         core,
+        BatchArgs { out: None, threads },
         |e, _| e,
         |x, [jr, jv, ja0, jw, jal]| {
             let dynamics =

@@ -163,7 +163,6 @@ impl PyEarthModel {
 
 /// Rebuilds a pickled `EarthModel` (presets come back as the preset).
 #[pyfunction]
-#[allow(clippy::too_many_arguments)]
 pub fn _earth_model_from_constants(
     #[pyo3(from_py_with = crate::args::a)] a: f64,
     #[pyo3(from_py_with = crate::args::f)] f: f64,

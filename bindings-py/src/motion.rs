@@ -11,7 +11,10 @@ use rotaframe::nalgebra::Vector3;
 
 use rotaframe::limits::{MAX_ACCELERATION, MAX_POSITION, MAX_VELOCITY, within};
 
-use crate::broadcast::{Access, Operand, Plan, RawOutput, failure_to_py, non_finite_flag, out_slice, run};
+use core::mem::MaybeUninit;
+
+use crate::batch::{self, Outputs};
+use crate::broadcast::{Access, BatchArgs, Failure, Operand, Plan, failure_to_py, non_finite_flag, out_slice, run};
 use crate::errors::{FrameMismatchError, OutOfRangeError, ShapeError};
 use crate::geodesy::python_error;
 use crate::model::{PyEarthModel, model_or_default};
@@ -196,7 +199,6 @@ pub fn rotation_operand<'py>(obj: &Bound<'py, PyAny>) -> PyResult<(Operand<'py>,
 impl PyFrameMotion {
     #[new]
     #[pyo3(signature = (*, rotation=None, position=None, velocity=None, acceleration=None, angular_velocity=None, angular_acceleration=None, parent=None, child=None))]
-    #[allow(clippy::too_many_arguments)]
     fn py_new<'py>(
         py: Python<'py>,
         rotation: Option<&Bound<'py, PyAny>>,
@@ -323,14 +325,17 @@ impl PyFrameMotion {
     /// With `jacobian=True`, `(motion, J_self, J_other)`: the Jacobians `(..., 18, 18)` of the
     /// composition's parts with respect to each motion's parts (order: small-angle rotation in
     /// the parent, position, velocity, acceleration, angular velocity, angular acceleration).
-    #[pyo3(signature = (other, *, jacobian=false))]
+    #[pyo3(signature = (other, *, jacobian=false, out=None, threads=1))]
     fn then<'py>(
         &self,
         py: Python<'py>,
         other: &Bound<'py, PyFrameMotion>,
         #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+        out: Option<&Bound<'py, PyAny>>,
+        #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
     ) -> PyResult<Bound<'py, PyAny>> {
-        let composed = self.compose(py, other)?;
+        BatchArgs { out, threads }.refuse_out("by `then` (it returns a FrameMotion)")?;
+        let composed = self.compose(py, other, threads)?;
         if !jacobian {
             return Ok(Bound::new(py, composed)?.into_any());
         }
@@ -379,7 +384,7 @@ impl PyFrameMotion {
     /// With `jacobian=True`, `(position, velocity, acceleration, J_point, J_motion)`: the
     /// Jacobians of the mapped state (position, velocity, acceleration: 9 rows) with respect to
     /// the point's state `(..., 9, 9)` and to the motion's 18 parts `(..., 9, 18)`.
-    #[pyo3(signature = (position, velocity=None, acceleration=None, *, jacobian=false))]
+    #[pyo3(signature = (position, velocity=None, acceleration=None, *, jacobian=false, out=None, threads=1))]
     fn map_point<'py>(
         &self,
         py: Python<'py>,
@@ -387,13 +392,16 @@ impl PyFrameMotion {
         velocity: Option<&Bound<'py, PyAny>>,
         acceleration: Option<&Bound<'py, PyAny>>,
         #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+        out: Option<&Bound<'py, PyAny>>,
+        #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
     ) -> PyResult<Bound<'py, PyTuple>> {
         let mut r = Operand::extract(position, "position", &[3])?;
         let mut v = Operand::optional(velocity, "velocity", &[3])?;
         let mut a = Operand::optional(acceleration, "acceleration", &[3])?;
         let plan = Plan::for_operands(&mut [&mut r, &mut v, &mut a], &[("motion", &self.shape)])?;
         if jacobian {
-            return self.map_point_jacobian(py, &plan, [&r, &v, &a]);
+            BatchArgs { out, threads }.refuse_out("with jacobian=True")?;
+            return self.map_point_jacobian(py, &plan, [&r, &v, &a], threads);
         }
         let n = plan.n;
         let (ra, va, aa) = (r.access(&plan), v.access(&plan), a.access(&plan));
@@ -405,47 +413,93 @@ impl PyFrameMotion {
             expanded = (0..n).map(|i| self.motions.get(index(i))).collect::<MotionBatch>();
             &expanded
         };
-        // One output buffer `(..., 3, 3)` (position, velocity, acceleration per element),
-        // returned as three views: one write stream is markedly faster than three.
-        let mut out = RawOutput::<9>::new(py, &plan, &[3, 3]);
-        let slots = out.slots();
-        // One pass writes every slot, folding in without branching a check of each point
-        // against its supported range (bit 0) and of the outputs for overflow (bit 1, possible
-        // only for a motion composed beyond the ranges); only a flagged batch is scanned
-        // again, to name the first bad element.
-        let flags = py.detach(|| rotaframe::fast_call!(map_points_fast, map_points, (motions, slots, ra, va, aa, n)));
+        // Without `out`, one output buffer `(..., 3, 3)` (position, velocity, acceleration per
+        // element), returned as three views: one write stream is markedly faster than three.
+        // With `out`, the caller's three arrays.
+        let ranges = batch::chunk_ranges(n, threads);
+        let mut guards = Vec::new();
+        let (flags, outputs) = if out.is_some_and(|o| !o.is_none()) {
+            let mut outs = Outputs::<3>::uninit(py, out, &plan.shape, [&[3]; 3])?;
+            let [p, v, a] = outs.slots::<3>(&mut guards)?;
+            let work: Vec<_> = ranges
+                .iter()
+                .cloned()
+                .zip(batch::split(p, &ranges, 1))
+                .zip(batch::split(v, &ranges, 1))
+                .zip(batch::split(a, &ranges, 1))
+                .map(|(((r, p), v), a)| (r, Dest::Three(p, v, a)))
+                .collect();
+            (py.detach(|| map_points_parallel(threads, motions, work, ra, va, aa, n))?, Err(outs))
+        } else {
+            let mut one = Outputs::<1>::uninit(py, None, &plan.shape, [&[3, 3]])?;
+            let [all] = one.slots::<9>(&mut guards)?;
+            let work: Vec<_> =
+                ranges.iter().cloned().zip(batch::split(all, &ranges, 1)).map(|(r, s)| (r, Dest::One(s))).collect();
+            (py.detach(|| map_points_parallel(threads, motions, work, ra, va, aa, n))?, Ok(one))
+        };
+        drop(guards);
+        // Each pass folds in, without branching, a check of each point against its supported
+        // range (bit 0) and of the outputs for overflow (bit 1, possible only for a motion
+        // composed beyond the ranges); only a flagged batch is scanned again, to name the
+        // first bad element.
         if flags != 0 {
+            if let Err(outs) = &outputs {
+                outs.poison();
+            }
             let result = run(py, n, |i| PointKinematics::<AnyFrame>::try_new(ra.vec3(i), va.vec3(i), aa.vec3(i)).map(|_| ()));
             result.map_err(|f| failure_to_py(&f, &plan, &[&r, &v, &a]))?;
             return Err(OutOfRangeError::new_err(
                 "the motion maps these points beyond the supported range (it was composed from motions at the edge of the supported ranges; see rotaframe's input ranges)",
             ));
         }
-        let all = out.into_array();
-        let ellipsis = py.Ellipsis().into_bound(py);
-        let views: PyResult<Vec<Bound<'py, PyAny>>> =
-            (0..3).map(|k| all.get_item((ellipsis.clone(), k, PySlice::full(py)))).collect();
-        PyTuple::new(py, views?)
+        match outputs {
+            Err(outs) => PyTuple::new(py, outs.arrays),
+            Ok(one) => {
+                let [all] = one.arrays;
+                let ellipsis = py.Ellipsis().into_bound(py);
+                let views: PyResult<Vec<Bound<'py, PyAny>>> =
+                    (0..3).map(|k| all.get_item((ellipsis.clone(), k, PySlice::full(py)))).collect();
+                PyTuple::new(py, views?)
+            }
+        }
     }
 
     /// Rotates free vectors `(..., 3)` from child axes into parent axes.
-    fn map_vector<'py>(&self, py: Python<'py>, v: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyAny>> {
+    #[pyo3(signature = (v, *, out=None, threads=1))]
+    fn map_vector<'py>(
+        &self,
+        py: Python<'py>,
+        v: &Bound<'py, PyAny>,
+        out: Option<&Bound<'py, PyAny>>,
+        #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    ) -> PyResult<Bound<'py, PyAny>> {
         let mut v = Operand::extract(v, "v", &[3])?;
         let plan = Plan::for_operands(&mut [&mut v], &[("motion", &self.shape)])?;
-        let out = plan.output(py, &[3]);
+        let outputs = Outputs::new(py, out, &plan.shape, [&[3]])?;
         {
             let va = v.access(&plan);
             let index = self.indexer(&plan);
-            let mut guard = out.readwrite();
-            let o = out_slice(&mut guard);
+            let mut guard = outputs.arrays[0].readwrite();
+            let ranges = batch::chunk_ranges(plan.n, threads);
+            let work: Vec<_> = ranges.iter().cloned().zip(batch::split(out_slice(&mut guard), &ranges, 3)).collect();
             let motions = &self.motions;
-            let result = run(py, plan.n, |i| {
-                let vec = rotaframe::frames::FreeVector::<AnyFrame>::try_from_vector(va.vec3(i), "v")?;
-                o[3 * i..3 * i + 3].copy_from_slice(motions.get(index(i)).map_vector(&vec).vector.as_slice());
-                Ok(())
-            });
-            result.map_err(|f| failure_to_py(&f, &plan, &[&v]))?;
+            let results = py.detach(|| {
+                batch::parallel(threads, work, |(range, o)| {
+                    for (l, i) in range.enumerate() {
+                        let vec = rotaframe::frames::FreeVector::<AnyFrame>::try_from_vector(va.vec3(i), "v")
+                            .map_err(|error| Failure { index: i, error })?;
+                        o[3 * l..3 * l + 3].copy_from_slice(motions.get(index(i)).map_vector(&vec).vector.as_slice());
+                    }
+                    Ok(())
+                })
+            })?;
+            drop(guard);
+            batch::first_failure(results, |f: &Failure| f.index).map_err(|f| {
+                outputs.poison();
+                failure_to_py(&f, &plan, &[&v])
+            })?;
         }
+        let [out] = outputs.arrays;
         Ok(out.into_any())
     }
 
@@ -561,7 +615,6 @@ impl PyFrameMotion {
 
 /// Rebuilds a pickled `FrameMotion`.
 #[pyfunction]
-#[allow(clippy::too_many_arguments)]
 pub fn _frame_motion_from_parts<'py>(
     py: Python<'py>,
     rotation: &Bound<'py, PyAny>,
@@ -617,7 +670,6 @@ pub fn earth_motion<'py>(
 /// velocities and Earth-relative accelerations. Labels: parent "ecef", child "ned".
 #[pyfunction]
 #[pyo3(signature = (lat, lon, h, v_ned=None, a_ned=None, *, model=None, degrees=false))]
-#[allow(clippy::too_many_arguments)]
 pub fn local_level_motion<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
@@ -659,28 +711,104 @@ pub fn local_level_motion<'py>(
     Ok(PyFrameMotion::new_batch(motions, plan.shape, Some("ecef".into()), Some("ned".into())))
 }
 
-/// The branch-free loop of `FrameMotion.map_point`: maps every point, writes its slot and
-/// returns the flags (bit 0: a point beyond its supported range; bit 1: an output that
-/// overflowed). Compiled for both CPU code paths.
-#[inline(always)]
-fn map_points(
+/// Where `FrameMotion.map_point` writes one chunk of elements: one `(3, 3)` slot per element,
+/// or three `(3,)` slots (the caller's `out`).
+enum Dest<'a> {
+    One(&'a mut [MaybeUninit<[f64; 9]>]),
+    Three(&'a mut [MaybeUninit<[f64; 3]>], &'a mut [MaybeUninit<[f64; 3]>], &'a mut [MaybeUninit<[f64; 3]>]),
+}
+
+type Chunk<'a> = (core::ops::Range<usize>, Dest<'a>);
+
+/// The points' position, velocity and acceleration readers, and the batch size.
+type PointInputs<'a> = (Access<'a>, Access<'a>, Access<'a>, usize);
+
+/// Runs [`map_points`] over the chunks on `threads` threads; returns the OR of their flags.
+fn map_points_parallel(
+    threads: usize,
     motions: &MotionBatch,
-    slots: &mut [core::mem::MaybeUninit<[f64; 9]>],
+    work: Vec<Chunk<'_>>,
     ra: Access<'_>,
     va: Access<'_>,
     aa: Access<'_>,
     n: usize,
+) -> PyResult<u64> {
+    let flags = batch::parallel(threads, work, |(range, dest)| match dest {
+        Dest::One(s) => rotaframe::fast_call!(map_points_one_fast, map_points_one, (motions, range, s, (ra, va, aa, n))),
+        Dest::Three(p, v, a) => {
+            rotaframe::fast_call!(map_points_three_fast, map_points_three, (motions, range, [p, v, a], (ra, va, aa, n)))
+        }
+    })?;
+    Ok(flags.into_iter().fold(0, |a, b| a | b))
+}
+
+#[inline(always)]
+fn map_points_one(
+    motions: &MotionBatch,
+    range: core::ops::Range<usize>,
+    slots: &mut [MaybeUninit<[f64; 9]>],
+    points: PointInputs<'_>,
+) -> u64 {
+    map_points(
+        motions,
+        range,
+        slots.iter_mut(),
+        |s, k| {
+            s.write(k);
+        },
+        points,
+    )
+}
+
+#[inline(always)]
+fn map_points_three(
+    motions: &MotionBatch,
+    range: core::ops::Range<usize>,
+    [p, v, a]: [&mut [MaybeUninit<[f64; 3]>]; 3],
+    points: PointInputs<'_>,
+) -> u64 {
+    map_points(
+        motions,
+        range,
+        p.iter_mut().zip(v.iter_mut()).zip(a.iter_mut()),
+        |((p, v), a), k| {
+            p.write([k[0], k[1], k[2]]);
+            v.write([k[3], k[4], k[5]]);
+            a.write([k[6], k[7], k[8]]);
+        },
+        points,
+    )
+}
+
+rotaframe::fast_twin!(fn map_points_one_fast(motions: &MotionBatch, range: core::ops::Range<usize>, slots: &mut [MaybeUninit<[f64; 9]>], points: PointInputs<'_>) -> u64 = map_points_one);
+rotaframe::fast_twin!(fn map_points_three_fast(motions: &MotionBatch, range: core::ops::Range<usize>, slots: [&mut [MaybeUninit<[f64; 3]>]; 3], points: PointInputs<'_>) -> u64 = map_points_three);
+
+/// The branch-free loop of `FrameMotion.map_point` over the elements of `range`: maps every
+/// point, hands its nine values (position, velocity, acceleration) to `write` with its slot,
+/// and returns the flags (bit 0: a point beyond its supported range; bit 1: an output that
+/// overflowed). Compiled for both CPU code paths.
+#[inline(always)]
+fn map_points<S>(
+    motions: &MotionBatch,
+    range: core::ops::Range<usize>,
+    slots: impl Iterator<Item = S>,
+    mut write: impl FnMut(S, [f64; 9]),
+    (ra, va, aa, n): PointInputs<'_>,
 ) -> u64 {
     let mut bad = 0u64;
     let [mp, mv, ma, mw, mal] = &motions.vectors;
-    let slots = slots.iter_mut().zip(&motions.rotation).zip(mp).zip(mv).zip(ma).zip(mw).zip(mal);
+    let k = range.clone();
+    let slots = slots
+        .zip(&motions.rotation[k.clone()])
+        .zip(&mp[k.clone()])
+        .zip(&mv[k.clone()])
+        .zip(&ma[k.clone()])
+        .zip(&mw[k.clone()])
+        .zip(&mal[k]);
     // Inputs arrive as references, read straight into registers (copying them through a stack
     // array first caused store-forwarding stalls).
-    type Parts<'a> = (
-        (((((&'a mut core::mem::MaybeUninit<[f64; 9]>, &'a [f64; 4]), &'a [f64; 3]), &'a [f64; 3]), &'a [f64; 3]), &'a [f64; 3]),
-        &'a [f64; 3],
-    );
-    let mut element = |((((((slot, q), p), v), a), w), al): Parts<'_>, r: &[f64; 3], vel: &[f64; 3], acc: &[f64; 3]| {
+    type Parts<'a, S> = ((((((S, &'a [f64; 4]), &'a [f64; 3]), &'a [f64; 3]), &'a [f64; 3]), &'a [f64; 3]), &'a [f64; 3]);
+    let mut element = |((((((slot, q), p), v), a), w), al): Parts<'_, S>, r: &[f64; 3], vel: &[f64; 3], acc: &[f64; 3]| {
         let vector = |x: &[f64; 3]| rotaframe::nalgebra::Vector3::new(x[0], x[1], x[2]);
         let m = MotionBatch::assemble(q, [p, v, a, w, al]);
         let point = PointKinematics::new(vector(r), vector(vel), vector(acc));
@@ -691,19 +819,27 @@ fn map_points(
                 & within(&point.acceleration, MAX_ACCELERATION)),
         ) | (non_finite_flag(&[k.position, k.velocity, k.acceleration]) << 1);
         let (p, v, a) = (k.position, k.velocity, k.acceleration);
-        slot.write([p.x, p.y, p.z, v.x, v.y, v.z, a.x, a.y, a.z]);
+        write(slot, [p.x, p.y, p.z, v.x, v.y, v.z, a.x, a.y, a.z]);
     };
     match (ra.full_vec3(n), va.full_vec3(n), aa.full_vec3(n)) {
-        (Some(r), Some(v), Some(a)) => slots.zip(r.iter().zip(v).zip(a)).for_each(|(s, ((r, v), a))| element(s, r, v, a)),
-        _ => slots.enumerate().for_each(|(i, s)| element(s, &ra.vec3(i).into(), &va.vec3(i).into(), &aa.vec3(i).into())),
+        (Some(r), Some(v), Some(a)) => {
+            let k = range.clone();
+            slots.zip(r[k.clone()].iter().zip(&v[k.clone()]).zip(&a[k])).for_each(|(s, ((r, v), a))| element(s, r, v, a));
+        }
+        _ => slots.zip(range).for_each(|(s, i)| element(s, &ra.vec3(i).into(), &va.vec3(i).into(), &aa.vec3(i).into())),
     }
     bad
 }
-rotaframe::fast_twin!(fn map_points_fast(motions: &MotionBatch, slots: &mut [core::mem::MaybeUninit<[f64; 9]>], ra: Access<'_>, va: Access<'_>, aa: Access<'_>, n: usize) -> u64 = map_points);
 
 impl PyFrameMotion {
     /// `map_point(..., jacobian=True)`.
-    fn map_point_jacobian<'py>(&self, py: Python<'py>, plan: &Plan, ops: [&Operand<'py>; 3]) -> PyResult<Bound<'py, PyTuple>> {
+    fn map_point_jacobian<'py>(
+        &self,
+        py: Python<'py>,
+        plan: &Plan,
+        ops: [&Operand<'py>; 3],
+        threads: usize,
+    ) -> PyResult<Bound<'py, PyTuple>> {
         let (ra, va, aa) = (ops[0].access(plan), ops[1].access(plan), ops[2].access(plan));
         let index = self.indexer(plan);
         let outs = [
@@ -717,24 +853,40 @@ impl PyFrameMotion {
             let mut guards: Vec<_> = outs.iter().map(|o| o.readwrite()).collect();
             let mut slices = guards.iter_mut().map(out_slice);
             let [p, v, a, jp, jm]: [&mut [f64]; 5] = core::array::from_fn(|_| slices.next().expect("five outputs"));
+            let ranges = batch::chunk_ranges(plan.n, threads);
+            let work: Vec<_> = ranges
+                .iter()
+                .cloned()
+                .zip(batch::split(p, &ranges, 3))
+                .zip(batch::split(v, &ranges, 3))
+                .zip(batch::split(a, &ranges, 3))
+                .zip(batch::split(jp, &ranges, 81))
+                .zip(batch::split(jm, &ranges, 162))
+                .collect();
             let motions = &self.motions;
-            let result = run(py, plan.n, |i| {
-                let point = PointKinematics::<AnyFrame>::try_new(ra.vec3(i), va.vec3(i), aa.vec3(i))?;
-                let (mapped, j_point, j_motion) = rotaframe::linearise::map_point_jacobian(&motions.get(index(i)), &point);
-                p[3 * i..3 * i + 3].copy_from_slice(mapped.position.as_slice());
-                v[3 * i..3 * i + 3].copy_from_slice(mapped.velocity.as_slice());
-                a[3 * i..3 * i + 3].copy_from_slice(mapped.acceleration.as_slice());
-                put_row_major(&mut jp[81 * i..81 * (i + 1)], &j_point);
-                put_row_major(&mut jm[162 * i..162 * (i + 1)], &j_motion);
-                Ok(())
-            });
-            result.map_err(|f| failure_to_py(&f, plan, &ops))?;
+            let results = py.detach(|| {
+                batch::parallel(threads, work, |(((((range, p), v), a), jp), jm)| {
+                    for (l, i) in range.enumerate() {
+                        let point = PointKinematics::<AnyFrame>::try_new(ra.vec3(i), va.vec3(i), aa.vec3(i))
+                            .map_err(|error| Failure { index: i, error })?;
+                        let (mapped, j_point, j_motion) =
+                            rotaframe::linearise::map_point_jacobian(&motions.get(index(i)), &point);
+                        p[3 * l..3 * l + 3].copy_from_slice(mapped.position.as_slice());
+                        v[3 * l..3 * l + 3].copy_from_slice(mapped.velocity.as_slice());
+                        a[3 * l..3 * l + 3].copy_from_slice(mapped.acceleration.as_slice());
+                        put_row_major(&mut jp[81 * l..81 * (l + 1)], &j_point);
+                        put_row_major(&mut jm[162 * l..162 * (l + 1)], &j_motion);
+                    }
+                    Ok(())
+                })
+            })?;
+            batch::first_failure(results, |f: &Failure| f.index).map_err(|f| failure_to_py(&f, plan, &ops))?;
         }
         PyTuple::new(py, outs)
     }
 
     /// `self.then(other)` with the label check.
-    fn compose(&self, py: Python<'_>, other: &Bound<'_, PyFrameMotion>) -> PyResult<PyFrameMotion> {
+    fn compose(&self, py: Python<'_>, other: &Bound<'_, PyFrameMotion>, threads: usize) -> PyResult<PyFrameMotion> {
         let other = other.get();
         if let (Some(c), Some(p)) = (&self.child, &other.parent)
             && c != p
@@ -745,8 +897,14 @@ impl PyFrameMotion {
         }
         let plan = Plan::new(&[("self", &self.shape), ("other", &other.shape)])?;
         let (a, b) = (self.indexer(&plan), other.indexer(&plan));
+        let ranges = batch::chunk_ranges(plan.n, threads);
+        let chunks = py.detach(|| {
+            batch::parallel(threads, ranges, |r| {
+                r.map(|i| self.motions.get(a(i)).then(&other.motions.get(b(i)))).collect::<Vec<_>>()
+            })
+        })?;
         let motions: Vec<Motion> =
-            py.detach(|| (0..plan.n).map(|i| self.motions.get(a(i)).then(&other.motions.get(b(i)))).collect());
+            if chunks.len() == 1 { chunks.into_iter().next().unwrap_or_default() } else { chunks.concat() };
         Ok(PyFrameMotion::new_batch(motions, plan.shape.clone(), self.parent.clone(), other.child.clone()))
     }
 }

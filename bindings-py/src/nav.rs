@@ -14,7 +14,9 @@ use rotaframe::nav::{
 };
 use rotaframe::rotation::quaternion_to_wxyz;
 
-use crate::broadcast::{Failure, Operand, Plan, failure_to_py, out_slice, run};
+use numpy::PyUntypedArrayMethods;
+
+use crate::broadcast::{Access, BatchArgs, Failure, Operand, Plan, failure_to_py, map_elements_shaped, out_slice, run, tuple_of};
 use crate::errors::{ConcurrentUseError, FrameMismatchError, RotaframeError, ShapeError, to_py};
 use crate::geodesy::python_error;
 use crate::model::{PyEarthModel, model_or_default};
@@ -249,7 +251,6 @@ impl SampleSource for Log {
 }
 
 /// Reads and checks a log `(t, lat, lon, h, attitude)` into a recorded trajectory.
-#[allow(clippy::too_many_arguments)]
 fn recorded<'py>(
     t: &Bound<'py, PyAny>,
     lat: &Bound<'py, PyAny>,
@@ -297,7 +298,6 @@ fn recorded<'py>(
 /// which must lie within the log.
 #[pyfunction]
 #[pyo3(signature = (t, lat, lon, h, attitude, *, times=None, model=None, gravity="normal", degrees=false))]
-#[allow(clippy::too_many_arguments)]
 pub fn imu_increments_from_samples<'py>(
     py: Python<'py>,
     t: &Bound<'py, PyAny>,
@@ -331,7 +331,6 @@ pub fn imu_increments_from_samples<'py>(
 /// velocity and angular acceleration, as `imu_increments_from_samples` uses them.
 #[pyfunction]
 #[pyo3(signature = (t, lat, lon, h, attitude, times, *, model=None, degrees=false))]
-#[allow(clippy::too_many_arguments)]
 pub fn motion_from_samples<'py>(
     py: Python<'py>,
     t: &Bound<'py, PyAny>,
@@ -537,7 +536,6 @@ impl PyStrapdown {
 impl PyStrapdown {
     #[new]
     #[pyo3(signature = (lat, lon, h, v_ned, attitude, *, frame="ned", model=None, degrees=false, gravity="normal", vertical="free", height_time_constant=None))]
-    #[allow(clippy::too_many_arguments)]
     fn py_new(
         py: Python<'_>,
         #[pyo3(from_py_with = crate::args::lat)] lat: f64,
@@ -600,7 +598,10 @@ impl PyStrapdown {
     ///
     /// The states are written straight into the returned arrays and the increments are read
     /// in chunks, so the call needs little memory beyond its result (88 bytes per step).
-    #[pyo3(signature = (dtheta, dv, dt, *, height_reference=None))]
+    /// `progress`, if given, is called as `progress(steps_done, steps_total)` every 65536
+    /// steps and at the end (nothing is printed otherwise); an exception it raises stops the
+    /// run, which then leaves the stepper where it started.
+    #[pyo3(signature = (dtheta, dv, dt, *, height_reference=None, progress=None))]
     fn run<'py>(
         &self,
         py: Python<'py>,
@@ -608,89 +609,26 @@ impl PyStrapdown {
         dv: &Bound<'py, PyAny>,
         dt: &Bound<'py, PyAny>,
         height_reference: Option<&Bound<'py, PyAny>>,
+        progress: Option<&Bound<'py, PyAny>>,
     ) -> PyResult<PyStrapdownHistory> {
-        let mut a = Operand::extract(dtheta, "dtheta", &[3])?;
-        let mut v = Operand::extract(dv, "dv", &[3])?;
-        let mut t = Operand::extract(dt, "dt", &[])?;
-        let mut href = match height_reference {
-            Some(obj) if !obj.is_none() => Some(Operand::extract(obj, "height_reference", &[])?),
-            _ => None,
-        };
-        let plan = match href.as_mut() {
-            Some(h) => Plan::for_operands(&mut [&mut a, &mut v, &mut t, h], &[])?,
-            None => Plan::for_operands(&mut [&mut a, &mut v, &mut t], &[])?,
-        };
-        if plan.shape.len() != 1 {
-            return Err(ShapeError::new_err(format!(
-                "`run` takes one increment per row, `dtheta` and `dv` of shape (N, 3); got batch shape {:?}",
-                plan.shape
-            )));
-        }
-        let n = plan.n;
-        let (aa, va, ta) = (a.access(&plan), v.access(&plan), t.access(&plan));
-        let ha = href.as_ref().map(|h| h.access(&plan));
-        let outputs =
-            [vec![n], vec![n], vec![n], vec![n, 3], vec![n, 4], vec![n]].map(|dims| PyArrayDyn::<f64>::zeros(py, dims, false));
-        let mut guards: Vec<numpy::PyReadwriteArrayDyn<'py, f64>> = outputs.iter().map(|o| o.readwrite()).collect();
-        let [lat, lon, hh, vel, att, time]: [&mut [f64]; 6] = {
-            let mut slices = guards.iter_mut().map(out_slice);
-            core::array::from_fn(|_| slices.next().expect("six outputs"))
-        };
-        let scale = if self.degrees { 180.0 / core::f64::consts::PI } else { 1.0 };
+        let inputs = RunInputs::new(dtheta, dv, dt, height_reference)?;
         let mut stepper = self.lock()?;
-        let start = *stepper;
-        let inner = &mut *stepper;
-        let result = py.detach(|| {
-            let mut increments = Vec::with_capacity(RUN_CHUNK.min(n));
-            let mut heights = Vec::with_capacity(if ha.is_some() { RUN_CHUNK.min(n) } else { 0 });
-            for first in (0..n).step_by(RUN_CHUNK) {
-                let last = (first + RUN_CHUNK).min(n);
-                increments.clear();
-                increments.extend((first..last).map(|i| ImuIncrement::new(aa.vec3(i), va.vec3(i), ta.scalar(i))));
-                if let Some(h) = &ha {
-                    heights.clear();
-                    heights.extend((first..last).map(|i| h.scalar(i)));
-                }
-                let chunk_heights = ha.as_ref().map(|_| heights.as_slice());
-                inner
-                    .run_each(&increments, chunk_heights, |j, s| {
-                        let k = first + j;
-                        let state = s.state();
-                        lat[k] = state.position.latitude * scale;
-                        lon[k] = state.position.longitude * scale;
-                        hh[k] = state.position.height;
-                        vel[3 * k..3 * k + 3].copy_from_slice(state.velocity_ned.as_slice());
-                        att[4 * k..4 * k + 4].copy_from_slice(&quaternion_to_wxyz(&state.attitude));
-                        time[k] = s.elapsed();
-                    })
-                    .map_err(|e| rotaframe::BatchError { index: first + e.index, error: e.error })?;
-            }
-            Ok::<(), rotaframe::BatchError>(())
-        });
-        if let Err(e) = result {
-            *stepper = start;
-            let lat_before = if e.index == 0 { self.angle_out(start.state().position.latitude) } else { lat[e.index - 1] };
-            let (error, context) = self.step_error(e.error, Some(e.index), lat_before);
-            if let Some(context) = context {
-                return Err(to_py(&error, &context));
-            }
-            let mut refs: Vec<&Operand<'_>> = vec![&a, &v, &t];
-            if let Some(h) = &href {
-                refs.push(h);
-            }
-            return Err(failure_to_py(&Failure { index: e.index, error }, &plan, &refs));
-        }
-        drop(guards);
-        let [lat, lon, h, v_ned, attitude, t] = outputs.map(Bound::unbind);
-        let replay = Replay {
-            start,
-            end: *stepper,
-            dtheta: dtheta.clone().unbind(),
-            dv: dv.clone().unbind(),
-            dt: dt.clone().unbind(),
-            height_reference: height_reference.filter(|h| !h.is_none()).map(|h| h.clone().unbind()),
+        let mut job = RunJob::new(py, &inputs, *stepper, self.degrees);
+        let progress: Option<Py<PyAny>> = progress.filter(|p| !p.is_none()).map(|p| p.clone().unbind());
+        let result = {
+            let mut slices = job.slices();
+            let access = inputs.access();
+            py.detach(|| {
+                RunJob::execute(&access, &mut slices, |done, total| match &progress {
+                    None => Ok(()),
+                    Some(callback) => Python::attach(|py| callback.bind(py).call1((done, total)).map(|_| ())),
+                })
+                .map(|()| slices.stepper)
+            })
         };
-        Ok(PyStrapdownHistory { lat, lon, h, v_ned, attitude, t, len: n, replay: Some(replay) })
+        let end = self.finish(&inputs, &mut job, result)?;
+        *stepper = end;
+        Ok(job.into_history(&inputs, end))
     }
 
     /// The continuous-time error-state model `(F, G)` at the current state: `F` `(n, n)` and
@@ -897,9 +835,266 @@ impl PyStrapdown {
     }
 }
 
+/// The checked arguments of one strapdown run.
+struct RunInputs<'py> {
+    operands: Vec<Operand<'py>>,
+    plan: Plan,
+    objects: [Bound<'py, PyAny>; 3],
+    height_object: Option<Bound<'py, PyAny>>,
+}
+
+impl<'py> RunInputs<'py> {
+    fn new(
+        dtheta: &Bound<'py, PyAny>,
+        dv: &Bound<'py, PyAny>,
+        dt: &Bound<'py, PyAny>,
+        height_reference: Option<&Bound<'py, PyAny>>,
+    ) -> PyResult<Self> {
+        let mut operands =
+            vec![Operand::extract(dtheta, "dtheta", &[3])?, Operand::extract(dv, "dv", &[3])?, Operand::extract(dt, "dt", &[])?];
+        let height_object = height_reference.filter(|h| !h.is_none()).cloned();
+        if let Some(h) = &height_object {
+            operands.push(Operand::extract(h, "height_reference", &[])?);
+        }
+        let plan = {
+            let mut refs: Vec<&mut Operand<'py>> = operands.iter_mut().collect();
+            Plan::for_operands(&mut refs, &[])?
+        };
+        if plan.shape.len() != 1 {
+            return Err(ShapeError::new_err(format!(
+                "`run` takes one increment per row, `dtheta` and `dv` of shape (N, 3); got batch shape {:?}",
+                plan.shape
+            )));
+        }
+        Ok(Self { operands, plan, objects: [dtheta.clone(), dv.clone(), dt.clone()], height_object })
+    }
+
+    /// Element readers of the operands (dtheta, dv, dt, then the height reference if given).
+    fn access(&self) -> Vec<Access<'_>> {
+        self.operands.iter().map(|o| o.access(&self.plan)).collect()
+    }
+}
+
+/// One run's start and its output arrays (allocated with the GIL, written without it).
+struct RunJob<'py> {
+    start: Strapdown,
+    scale: f64,
+    outputs: [Bound<'py, PyArrayDyn<f64>>; 6],
+    guards: Vec<numpy::PyReadwriteArrayDyn<'py, f64>>,
+}
+
+/// A run's output slices and its stepper while it runs.
+struct RunSlices<'a> {
+    stepper: Strapdown,
+    scale: f64,
+    columns: [&'a mut [f64]; 6],
+}
+
+impl<'py> RunJob<'py> {
+    fn new(py: Python<'py>, inputs: &RunInputs<'py>, start: Strapdown, degrees: bool) -> Self {
+        let n = inputs.plan.n;
+        let outputs =
+            [vec![n], vec![n], vec![n], vec![n, 3], vec![n, 4], vec![n]].map(|dims| PyArrayDyn::<f64>::zeros(py, dims, false));
+        let guards = outputs.iter().map(|o| o.readwrite()).collect();
+        Self { start, scale: if degrees { 180.0 / core::f64::consts::PI } else { 1.0 }, outputs, guards }
+    }
+
+    fn slices(&mut self) -> RunSlices<'_> {
+        let mut slices = self.guards.iter_mut().map(out_slice);
+        RunSlices {
+            stepper: self.start,
+            scale: self.scale,
+            columns: core::array::from_fn(|_| slices.next().expect("six outputs")),
+        }
+    }
+
+    /// Steps through every increment (read through `access`: dtheta, dv, dt and optionally
+    /// the height reference), writing the states; `progress(done, total)`
+    /// runs after each chunk and stops the run by failing. Call without the GIL.
+    fn execute(
+        access: &[Access<'_>],
+        out: &mut RunSlices<'_>,
+        progress: impl Fn(usize, usize) -> PyResult<()>,
+    ) -> Result<(), RunFailure> {
+        let n = out.columns[0].len();
+        let (aa, va, ta, ha) = (access[0], access[1], access[2], access.get(3).copied());
+        let scale = out.scale;
+        let [lat, lon, hh, vel, att, time] = &mut out.columns;
+        let inner = &mut out.stepper;
+        let mut increments = Vec::with_capacity(RUN_CHUNK.min(n));
+        let mut heights = Vec::with_capacity(if ha.is_some() { RUN_CHUNK.min(n) } else { 0 });
+        for first in (0..n).step_by(RUN_CHUNK) {
+            let last = (first + RUN_CHUNK).min(n);
+            increments.clear();
+            increments.extend((first..last).map(|i| ImuIncrement::new(aa.vec3(i), va.vec3(i), ta.scalar(i))));
+            if let Some(h) = &ha {
+                heights.clear();
+                heights.extend((first..last).map(|i| h.scalar(i)));
+            }
+            let chunk_heights = ha.as_ref().map(|_| heights.as_slice());
+            inner
+                .run_each(&increments, chunk_heights, |j, s| {
+                    let k = first + j;
+                    let state = s.state();
+                    lat[k] = state.position.latitude * scale;
+                    lon[k] = state.position.longitude * scale;
+                    hh[k] = state.position.height;
+                    vel[3 * k..3 * k + 3].copy_from_slice(state.velocity_ned.as_slice());
+                    att[4 * k..4 * k + 4].copy_from_slice(&quaternion_to_wxyz(&state.attitude));
+                    time[k] = s.elapsed();
+                })
+                .map_err(|e| RunFailure::Step(rotaframe::BatchError { index: first + e.index, error: e.error }))?;
+            progress(last, n).map_err(RunFailure::Stopped)?;
+        }
+        Ok(())
+    }
+
+    /// The history of a finished run ending at `end`.
+    fn into_history(self, inputs: &RunInputs<'py>, end: Strapdown) -> PyStrapdownHistory {
+        let Self { start, outputs, guards, .. } = self;
+        drop(guards);
+        let [lat, lon, h, v_ned, attitude, t] = outputs.map(Bound::unbind);
+        let [dtheta, dv, dt] = inputs.objects.clone().map(Bound::unbind);
+        let height_reference = inputs.height_object.clone().map(Bound::unbind);
+        let replay = Replay { start, end, dtheta, dv, dt, height_reference };
+        PyStrapdownHistory { lat, lon, h, v_ned, attitude, t, len: inputs.plan.n, replay: Some(replay) }
+    }
+
+    /// The latitude output after step `index` (as returned: radians or degrees).
+    fn latitude_after(&mut self, index: usize) -> f64 {
+        out_slice(&mut self.guards[0])[index]
+    }
+}
+
+/// Why a run stopped early.
+enum RunFailure {
+    /// A step failed (an increment out of range, say).
+    Step(rotaframe::BatchError),
+    /// The progress callback raised.
+    Stopped(PyErr),
+}
+
+impl PyStrapdown {
+    /// The end state of a run, or its error as Python sees it (named after the argument, with
+    /// the step located).
+    fn finish(&self, inputs: &RunInputs<'_>, job: &mut RunJob<'_>, result: Result<Strapdown, RunFailure>) -> PyResult<Strapdown> {
+        let e = match result {
+            Ok(end) => return Ok(end),
+            Err(RunFailure::Stopped(error)) => return Err(error),
+            Err(RunFailure::Step(e)) => e,
+        };
+        let lat_before =
+            if e.index == 0 { self.angle_out(job.start.state().position.latitude) } else { job.latitude_after(e.index - 1) };
+        let (error, context) = self.step_error(e.error, Some(e.index), lat_before);
+        if let Some(context) = context {
+            return Err(to_py(&error, &context));
+        }
+        let refs: Vec<&Operand<'_>> = inputs.operands.iter().collect();
+        Err(failure_to_py(&Failure { index: e.index, error }, &inputs.plan, &refs))
+    }
+}
+
+/// Runs many independent strapdown runs, one per stepper, split across `threads` threads:
+/// run `r` steps `strapdowns[r]` through `dtheta[r]`, `dv[r]` (each `(R, N, 3)`), `dt`
+/// (a number, `(N,)` or `(R, N)`) and `height_reference` (None, a number, `(N,)` or `(R, N)`),
+/// exactly as `strapdowns[r].run(...)` would (the same bits whatever `threads`). Returns the
+/// list of histories. On error no stepper moves, and the error names the run.
+///
+/// `progress`, if given, is called as `progress(runs_done, runs_total)` as runs finish.
+#[pyfunction]
+#[pyo3(signature = (strapdowns, dtheta, dv, dt, *, height_reference=None, threads=1, progress=None))]
+pub fn run_strapdowns<'py>(
+    py: Python<'py>,
+    strapdowns: Vec<Bound<'py, PyStrapdown>>,
+    dtheta: &Bound<'py, PyAny>,
+    dv: &Bound<'py, PyAny>,
+    dt: &Bound<'py, PyAny>,
+    height_reference: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    progress: Option<&Bound<'py, PyAny>>,
+) -> PyResult<Vec<PyStrapdownHistory>> {
+    let runs = strapdowns.len();
+    // Per-run views of the arguments (numpy indexing: views, not copies).
+    let row = |obj: &Bound<'py, PyAny>, name: &str, run_axes: usize| -> PyResult<Vec<Bound<'py, PyAny>>> {
+        let array = crate::broadcast::real_array(obj, name)?;
+        let shape = array.shape().to_vec();
+        if shape.len() < run_axes || (shape.len() == run_axes && run_axes == 0) {
+            return Ok(vec![obj.clone(); runs]);
+        }
+        if shape.len() == run_axes + 1 && shape[0] == runs {
+            return (0..runs).map(|r| array.get_item(r)).collect();
+        }
+        Ok(vec![obj.clone(); runs])
+    };
+    let check = |obj: &Bound<'py, PyAny>, name: &str| -> PyResult<()> {
+        let shape = crate::broadcast::real_array(obj, name)?.shape().to_vec();
+        if shape.len() != 3 || shape[0] != runs || shape[2] != 3 {
+            return Err(ShapeError::new_err(format!("`{name}` must have shape (R, N, 3) with R = {runs} runs, got {shape:?}")));
+        }
+        Ok(())
+    };
+    check(dtheta, "dtheta")?;
+    check(dv, "dv")?;
+    let (a, v) = (row(dtheta, "dtheta", 2)?, row(dv, "dv", 2)?);
+    let t = row(dt, "dt", 1)?;
+    let h = match height_reference.filter(|h| !h.is_none()) {
+        Some(obj) => row(obj, "height_reference", 1)?.into_iter().map(Some).collect(),
+        None => vec![None; runs],
+    };
+    let run_error = |r: usize, e: PyErr| -> PyErr {
+        let message = format!("run {r}: {}", e.value(py));
+        PyErr::from_type(e.get_type(py), message)
+    };
+    let mut inputs = Vec::with_capacity(runs);
+    for r in 0..runs {
+        inputs.push(RunInputs::new(&a[r], &v[r], &t[r], h[r].as_ref()).map_err(|e| run_error(r, e))?);
+    }
+    let refs: Vec<PyRef<'py, PyStrapdown>> = strapdowns.iter().map(Bound::borrow).collect();
+    let mut guards = Vec::with_capacity(runs);
+    for s in &refs {
+        guards.push(s.lock()?);
+    }
+    let mut jobs: Vec<RunJob<'py>> =
+        inputs.iter().zip(&guards).zip(&refs).map(|((i, g), s)| RunJob::new(py, i, **g, s.degrees)).collect();
+    let progress = progress.filter(|p| !p.is_none());
+    let access: Vec<Vec<Access<'_>>> = inputs.iter().map(RunInputs::access).collect();
+    // Runs go in groups of `threads` (the progress callback needs the GIL between groups).
+    let mut results: Vec<Result<Strapdown, RunFailure>> = Vec::with_capacity(runs);
+    {
+        let mut slices: Vec<RunSlices<'_>> = jobs.iter_mut().map(RunJob::slices).collect();
+        let mut done = 0;
+        let group = if progress.is_some() { threads.max(1) } else { runs.max(1) };
+        for chunk in slices.chunks_mut(group) {
+            let work: Vec<(usize, &mut RunSlices<'_>)> = chunk.iter_mut().enumerate().map(|(k, s)| (done + k, s)).collect();
+            let access = &access;
+            let finished = py.detach(|| {
+                crate::batch::parallel(threads, work, |(r, s)| RunJob::execute(&access[r], s, |_, _| Ok(())).map(|()| s.stepper))
+            })?;
+            done += finished.len();
+            let failed = finished.iter().any(Result::is_err);
+            results.extend(finished);
+            if failed {
+                break;
+            }
+            if let Some(callback) = progress {
+                callback.call1((done, runs))?;
+            }
+        }
+    }
+    if let Some(r) = results.iter().position(Result::is_err) {
+        let failure = results.swap_remove(r);
+        return Err(run_error(r, refs[r].finish(&inputs[r], &mut jobs[r], failure).expect_err("a failed run")));
+    }
+    let ends: Vec<Strapdown> = results.into_iter().map(|r| r.unwrap_or_else(|_| unreachable!("checked"))).collect();
+    for (g, end) in guards.iter_mut().zip(&ends) {
+        **g = *end;
+    }
+    drop(guards);
+    Ok(jobs.into_iter().zip(&inputs).zip(ends).map(|((j, i), end)| j.into_history(i, end)).collect())
+}
+
 /// Rebuilds a pickled `Strapdown`.
 #[pyfunction]
-#[allow(clippy::too_many_arguments)]
 pub fn _strapdown_from_parts(
     model: Bound<'_, PyEarthModel>,
     #[pyo3(from_py_with = crate::args::frame)] frame: &str,
@@ -977,7 +1172,6 @@ impl PyImuErrors {
 impl PyImuErrors {
     #[new]
     #[pyo3(signature = (*, gyro_bias=None, gyro_scale_factor=None, gyro_misalignment=None, gyro_arw_deg_per_sqrt_h=None, gyro_markov_sigma=None, gyro_markov_time=None, accel_bias=None, accel_scale_factor=None, accel_misalignment=None, accel_vrw_mps_per_sqrt_h=None, accel_markov_sigma=None, accel_markov_time=None, seed=0))]
-    #[allow(clippy::too_many_arguments)]
     fn py_new(
         gyro_bias: Option<&Bound<'_, PyAny>>,
         gyro_scale_factor: Option<&Bound<'_, PyAny>>,
@@ -1089,8 +1283,7 @@ impl PyImuErrors {
 /// and gyro readings `angular_rate` (rad/s, body relative to inertial space, in body axes).
 /// Broadcasts over leading axes.
 #[pyfunction]
-#[pyo3(signature = (lat, lon, h, v_ned, attitude, angular_rate, lever_arm, *, model=None, degrees=false))]
-#[allow(clippy::too_many_arguments)]
+#[pyo3(signature = (lat, lon, h, v_ned, attitude, angular_rate, lever_arm, *, model=None, degrees=false, out=None, threads=1))]
 pub fn lever_arm_state<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
@@ -1102,9 +1295,11 @@ pub fn lever_arm_state<'py>(
     lever_arm: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
     #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyTuple>> {
     let model = model_or_default(model.as_ref());
-    let mut ops = [
+    let ops = [
         Operand::extract(lat, "lat", &[])?,
         Operand::extract(lon, "lon", &[])?,
         Operand::extract(h, "h", &[])?,
@@ -1113,38 +1308,17 @@ pub fn lever_arm_state<'py>(
         Operand::extract(angular_rate, "angular_rate", &[3])?,
         Operand::extract(lever_arm, "lever_arm", &[3])?,
     ];
-    let plan = {
-        let mut refs: Vec<&mut Operand<'py>> = ops.iter_mut().collect();
-        Plan::for_operands(&mut refs, &[])?
-    };
-    let n = plan.n;
     let s = angle_scale(degrees);
-    let acc: Vec<_> = ops.iter().map(|o| o.access(&plan)).collect();
-    let (mut la, mut lo, mut hh, mut vel) = (vec![0.0; n], vec![0.0; n], vec![0.0; n], vec![0.0; 3 * n]);
-    let result = run(py, n, |i| {
-        let lat_in = acc[0].scalar(i);
-        let q = quaternion(acc[4].slice(i), "attitude")?;
-        let state = NavState::new(Geodetic::new(lat_in * s, acc[1].scalar(i) * s, acc[2].scalar(i)), acc[3].vec3(i), q);
-        let (p, v) = nav::lever_arm_state(&model, &state, &acc[5].vec3(i), &acc[6].vec3(i))
-            .map_err(|e| python_error(e, degrees, lat_in))?;
-        la[i] = p.latitude / s;
-        lo[i] = p.longitude / s;
-        hh[i] = p.height;
-        vel[3 * i..3 * i + 3].copy_from_slice(v.as_slice());
-        Ok(())
-    });
-    result.map_err(|f| {
-        let refs: Vec<&Operand<'_>> = ops.iter().collect();
-        failure_to_py(&f, &plan, &refs)
-    })?;
-    let scalar = |v: &[f64]| -> PyResult<Bound<'py, PyAny>> {
-        if plan.shape.is_empty() {
-            Ok(pyo3::types::PyFloat::new(py, v[0]).into_any())
-        } else {
-            Ok(array_from(py, plan.shape.clone(), v).into_any())
-        }
-    };
-    let mut vdims = plan.shape.clone();
-    vdims.push(3);
-    PyTuple::new(py, [scalar(&la)?, scalar(&lo)?, scalar(&hh)?, array_from(py, vdims, &vel).into_any()])
+    let v3 = |x: &[f64]| Vector3::new(x[0], x[1], x[2]);
+    let rename = |e, x: &[&[f64]; 7]| python_error(e, degrees, x[0][0]);
+    let (plan, [la, lo, hh, vel]) =
+        map_elements_shaped(py, ops, [&[], &[], &[], &[3]], BatchArgs { out, threads }, rename, |x, [la, lo, hh, vel]| {
+            let q = quaternion(x[4], "attitude")?;
+            let state = NavState::new(Geodetic::new(x[0][0] * s, x[1][0] * s, x[2][0]), v3(x[3]), q);
+            let (p, v) = nav::lever_arm_state(&model, &state, &v3(x[5]), &v3(x[6]))?;
+            (la[0], lo[0], hh[0]) = (p.latitude / s, p.longitude / s, p.height);
+            vel.copy_from_slice(v.as_slice());
+            Ok(())
+        })?;
+    tuple_of(py, &plan, vec![la, lo, hh, vel])
 }

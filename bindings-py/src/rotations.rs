@@ -8,7 +8,7 @@ use rotaframe::rotation::{self, EulerZyx};
 
 use rotaframe::frames::{AnyFrame, FreeVector};
 
-use crate::broadcast::{Operand, map_elements, tuple_of};
+use crate::broadcast::{BatchArgs, Operand, map_elements, tuple_of};
 
 fn same<const N: usize>(error: rotaframe::Error, _inputs: &[&[f64]; N]) -> rotaframe::Error {
     error
@@ -42,7 +42,7 @@ pub fn put_matrix(o: &mut [f64], q: &UnitQuaternion<f64>) {
 /// with `jacobian=True`, `(q, J)` with `J` `(..., 3, 3)` (rows the small-angle rotation in
 /// local-level axes, columns yaw, pitch, roll).
 #[pyfunction]
-#[pyo3(signature = (yaw, pitch, roll, *, degrees=false, jacobian=false))]
+#[pyo3(signature = (yaw, pitch, roll, *, degrees=false, jacobian=false, out=None, threads=1))]
 pub fn quat_from_euler<'py>(
     py: Python<'py>,
     yaw: &Bound<'py, PyAny>,
@@ -50,13 +50,16 @@ pub fn quat_from_euler<'py>(
     roll: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
     #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let s = angle_scale(degrees);
     let ops = [Operand::extract(yaw, "yaw", &[])?, Operand::extract(pitch, "pitch", &[])?, Operand::extract(roll, "roll", &[])?];
     if jacobian {
-        return crate::linearise::quat_from_euler(py, ops, degrees);
+        BatchArgs { out, threads }.refuse_out("with jacobian=True")?;
+        return crate::linearise::quat_from_euler(py, ops, degrees, threads);
     }
-    let (_, [out]) = map_elements(py, ops, &[4], same, |x, [o]| {
+    let (_, [out]) = map_elements(py, ops, &[4], BatchArgs { out, threads }, same, |x, [o]| {
         let e = EulerZyx::new(x[0][0] * s, x[1][0] * s, x[2][0] * s);
         for (value, name) in [(e.yaw, "yaw"), (e.pitch, "pitch"), (e.roll, "roll")] {
             if !value.is_finite() {
@@ -73,29 +76,39 @@ pub fn quat_from_euler<'py>(
 /// with `jacobian=True`, `(yaw, pitch, roll, J)` with `J` `(..., 3, 3)` (columns the
 /// small-angle rotation in local-level axes; refused within 1e-9 rad of ±90° pitch).
 #[pyfunction]
-#[pyo3(signature = (q, *, degrees=false, jacobian=false))]
+#[pyo3(signature = (q, *, degrees=false, jacobian=false, out=None, threads=1))]
 pub fn euler_from_quat<'py>(
     py: Python<'py>,
     q: &Bound<'py, PyAny>,
     degrees: bool,
     #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyTuple>> {
     if jacobian {
-        return crate::linearise::euler_from_quat(py, Operand::extract(q, "q", &[4])?, degrees);
+        BatchArgs { out, threads }.refuse_out("with jacobian=True")?;
+        return crate::linearise::euler_from_quat(py, Operand::extract(q, "q", &[4])?, degrees, threads);
     }
     let s = 1.0 / angle_scale(degrees);
-    let (plan, [yaw, pitch, roll]) = map_elements(py, [Operand::extract(q, "q", &[4])?], &[], same, |x, [yaw, pitch, roll]| {
-        let e = EulerZyx::from_quaternion(&quaternion(x[0], "q")?);
-        (yaw[0], pitch[0], roll[0]) = (e.yaw * s, e.pitch * s, e.roll * s);
-        Ok(())
-    })?;
+    let (plan, [yaw, pitch, roll]) =
+        map_elements(py, [Operand::extract(q, "q", &[4])?], &[], BatchArgs { out, threads }, same, |x, [yaw, pitch, roll]| {
+            let e = EulerZyx::from_quaternion(&quaternion(x[0], "q")?);
+            (yaw[0], pitch[0], roll[0]) = (e.yaw * s, e.pitch * s, e.roll * s);
+            Ok(())
+        })?;
     tuple_of(py, &plan, vec![yaw, pitch, roll])
 }
 
 /// Rotation matrices `(..., 3, 3)` of unit quaternions `(..., 4)`.
 #[pyfunction]
-pub fn quat_to_matrix<'py>(py: Python<'py>, q: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyAny>> {
-    let (_, [out]) = map_elements(py, [Operand::extract(q, "q", &[4])?], &[3, 3], same, |x, [o]| {
+#[pyo3(signature = (q, *, out=None, threads=1))]
+pub fn quat_to_matrix<'py>(
+    py: Python<'py>,
+    q: &Bound<'py, PyAny>,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+) -> PyResult<Bound<'py, PyAny>> {
+    let (_, [out]) = map_elements(py, [Operand::extract(q, "q", &[4])?], &[3, 3], BatchArgs { out, threads }, same, |x, [o]| {
         put_matrix(o, &quaternion(x[0], "q")?);
         Ok(())
     })?;
@@ -104,8 +117,14 @@ pub fn quat_to_matrix<'py>(py: Python<'py>, q: &Bound<'py, PyAny>) -> PyResult<B
 
 /// Unit quaternions `(..., 4)` of rotation matrices `(..., 3, 3)`.
 #[pyfunction]
-pub fn matrix_to_quat<'py>(py: Python<'py>, m: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyAny>> {
-    let (_, [out]) = map_elements(py, [Operand::extract(m, "m", &[3, 3])?], &[4], same, |x, [o]| {
+#[pyo3(signature = (m, *, out=None, threads=1))]
+pub fn matrix_to_quat<'py>(
+    py: Python<'py>,
+    m: &Bound<'py, PyAny>,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+) -> PyResult<Bound<'py, PyAny>> {
+    let (_, [out]) = map_elements(py, [Operand::extract(m, "m", &[3, 3])?], &[4], BatchArgs { out, threads }, same, |x, [o]| {
         put_quaternion(o, &matrix(x[0], "m")?);
         Ok(())
     })?;
@@ -114,9 +133,16 @@ pub fn matrix_to_quat<'py>(py: Python<'py>, m: &Bound<'py, PyAny>) -> PyResult<B
 
 /// Hamilton product `p ⊗ q` of unit quaternions `(..., 4)`: the rotation `q` followed by `p`.
 #[pyfunction]
-pub fn quat_multiply<'py>(py: Python<'py>, p: &Bound<'py, PyAny>, q: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyAny>> {
+#[pyo3(signature = (p, q, *, out=None, threads=1))]
+pub fn quat_multiply<'py>(
+    py: Python<'py>,
+    p: &Bound<'py, PyAny>,
+    q: &Bound<'py, PyAny>,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+) -> PyResult<Bound<'py, PyAny>> {
     let ops = [Operand::extract(p, "p", &[4])?, Operand::extract(q, "q", &[4])?];
-    let (_, [out]) = map_elements(py, ops, &[4], same, |x, [o]| {
+    let (_, [out]) = map_elements(py, ops, &[4], BatchArgs { out, threads }, same, |x, [o]| {
         put_quaternion(o, &(quaternion(x[0], "p")? * quaternion(x[1], "q")?));
         Ok(())
     })?;
@@ -125,8 +151,14 @@ pub fn quat_multiply<'py>(py: Python<'py>, p: &Bound<'py, PyAny>, q: &Bound<'py,
 
 /// The inverse (conjugate) of unit quaternions `(..., 4)`.
 #[pyfunction]
-pub fn quat_inverse<'py>(py: Python<'py>, q: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyAny>> {
-    let (_, [out]) = map_elements(py, [Operand::extract(q, "q", &[4])?], &[4], same, |x, [o]| {
+#[pyo3(signature = (q, *, out=None, threads=1))]
+pub fn quat_inverse<'py>(
+    py: Python<'py>,
+    q: &Bound<'py, PyAny>,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+) -> PyResult<Bound<'py, PyAny>> {
+    let (_, [out]) = map_elements(py, [Operand::extract(q, "q", &[4])?], &[4], BatchArgs { out, threads }, same, |x, [o]| {
         put_quaternion(o, &quaternion(x[0], "q")?.inverse());
         Ok(())
     })?;
@@ -135,9 +167,16 @@ pub fn quat_inverse<'py>(py: Python<'py>, q: &Bound<'py, PyAny>) -> PyResult<Bou
 
 /// Vectors `v` `(..., 3)` rotated by unit quaternions `q` `(..., 4)`: `q v q*`.
 #[pyfunction]
-pub fn quat_rotate<'py>(py: Python<'py>, q: &Bound<'py, PyAny>, v: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyAny>> {
+#[pyo3(signature = (q, v, *, out=None, threads=1))]
+pub fn quat_rotate<'py>(
+    py: Python<'py>,
+    q: &Bound<'py, PyAny>,
+    v: &Bound<'py, PyAny>,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+) -> PyResult<Bound<'py, PyAny>> {
     let ops = [Operand::extract(q, "q", &[4])?, Operand::extract(v, "v", &[3])?];
-    let (_, [out]) = map_elements(py, ops, &[3], same, |x, [o]| {
+    let (_, [out]) = map_elements(py, ops, &[3], BatchArgs { out, threads }, same, |x, [o]| {
         let v = FreeVector::<AnyFrame>::try_from_vector(Vector3::new(x[1][0], x[1][1], x[1][2]), "v")?;
         o.copy_from_slice((quaternion(x[0], "q")? * v.vector).as_slice());
         Ok(())
@@ -148,16 +187,19 @@ pub fn quat_rotate<'py>(py: Python<'py>, q: &Bound<'py, PyAny>, v: &Bound<'py, P
 /// Unit quaternions `(..., 4)` of rotation vectors `(..., 3)` (angle × axis, radians); with
 /// `jacobian=True`, `(q, J)` with the left Jacobian `J` `(..., 3, 3)`.
 #[pyfunction]
-#[pyo3(signature = (v, *, jacobian=false))]
+#[pyo3(signature = (v, *, jacobian=false, out=None, threads=1))]
 pub fn quat_from_rotvec<'py>(
     py: Python<'py>,
     v: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     if jacobian {
-        return crate::linearise::quat_from_rotvec(py, Operand::extract(v, "v", &[3])?);
+        BatchArgs { out, threads }.refuse_out("with jacobian=True")?;
+        return crate::linearise::quat_from_rotvec(py, Operand::extract(v, "v", &[3])?, threads);
     }
-    let (_, [out]) = map_elements(py, [Operand::extract(v, "v", &[3])?], &[4], same, |x, [o]| {
+    let (_, [out]) = map_elements(py, [Operand::extract(v, "v", &[3])?], &[4], BatchArgs { out, threads }, same, |x, [o]| {
         put_quaternion(o, &rotation::quaternion_from_rotation_vector(&Vector3::new(x[0][0], x[0][1], x[0][2]), "v")?);
         Ok(())
     })?;
@@ -167,16 +209,19 @@ pub fn quat_from_rotvec<'py>(
 /// Rotation vectors `(..., 3)` (angle in [0, π] × axis) of unit quaternions `(..., 4)`; with
 /// `jacobian=True`, `(v, J)` with `J` `(..., 3, 3)` (refused within 1e-6 rad of a half turn).
 #[pyfunction]
-#[pyo3(signature = (q, *, jacobian=false))]
+#[pyo3(signature = (q, *, jacobian=false, out=None, threads=1))]
 pub fn quat_to_rotvec<'py>(
     py: Python<'py>,
     q: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     if jacobian {
-        return crate::linearise::quat_to_rotvec(py, Operand::extract(q, "q", &[4])?);
+        BatchArgs { out, threads }.refuse_out("with jacobian=True")?;
+        return crate::linearise::quat_to_rotvec(py, Operand::extract(q, "q", &[4])?, threads);
     }
-    let (_, [out]) = map_elements(py, [Operand::extract(q, "q", &[4])?], &[3], same, |x, [o]| {
+    let (_, [out]) = map_elements(py, [Operand::extract(q, "q", &[4])?], &[3], BatchArgs { out, threads }, same, |x, [o]| {
         o.copy_from_slice(rotation::rotation_vector_from_quaternion(&quaternion(x[0], "q")?).as_slice());
         Ok(())
     })?;

@@ -79,3 +79,16 @@ def predicted_drift() -> float:
     t, p = rf.predict_covariance(history, imu, np.eye(15) * 1e-12, every=5)
     _ = (lat, lon, h, ji, j, terms.total, jacobians["position"], motion, j1, j2, phi, qd, jq, t)
     return float(p[-1, 0, 0])
+
+
+def preallocated_and_threaded() -> float:
+    xyz = np.empty((4, 3))
+    got: NDArray[np.float64] = rf.geodetic_to_ecef(np.zeros(4), np.zeros(4), np.zeros(4), out=xyz, threads=2)
+    lat, lon, h = rf.ecef_to_geodetic(got, out=(np.empty(4), np.empty(4), np.empty(4)), threads=0)
+    s = rf.Strapdown(0.7, 0.1, 100.0, [0.0, 0.0, 0.0], [1.0, 0.0, 0.0, 0.0])
+    seen: list[tuple[int, int]] = []
+    histories = rf.run_strapdowns(
+        [s], np.zeros((1, 10, 3)), np.zeros((1, 10, 3)), 0.01, threads=2, progress=lambda d, t: seen.append((d, t))
+    )
+    _ = (lat, lon, histories[0].lat)
+    return float(h if isinstance(h, float) else h[0])

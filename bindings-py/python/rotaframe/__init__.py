@@ -15,7 +15,10 @@ Conventions (the same in Rust, C and Python):
 * ``FrameMotion`` describes a child frame *relative to* a parent frame; its rotation maps
   child coordinates to parent coordinates and its vectors are *resolved in* the parent.
 * Quaternions are Hamilton, scalar first: ``(w, x, y, z)``.
-* Every array function broadcasts over leading axes and returns float64 arrays.
+* Every array function broadcasts over leading axes and returns float64 arrays; it takes
+  ``out=`` (the caller's preallocated output array, or a tuple of them for several outputs,
+  checked before anything is written) and ``threads=`` (default 1; 0 means one per core;
+  the same bits whatever the count).
 
 Not certified for safety-of-life navigation or guidance: validate against your own requirements, the standards
 that apply to you and licensed engineering practice.
@@ -69,6 +72,7 @@ from ._native import (
     imu_increments,
     imu_increments_from_samples,
     lever_arm_state,
+    run_strapdowns,
     local_level_motion,
     matrix_to_quat,
     motion_from_samples,
@@ -137,6 +141,7 @@ __all__ = [
     "imu_increments",
     "imu_increments_from_samples",
     "lever_arm_state",
+    "run_strapdowns",
     "local_level_motion",
     "matrix_to_quat",
     "motion_from_samples",
