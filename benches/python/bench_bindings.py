@@ -36,17 +36,18 @@ B = A * (1 - F)
 EP2 = E2 / (1 - E2)
 
 
-def floor(inputs, outputs_like):
+def floor(inputs, outputs_like, preallocated=None):
     """Reads every input byte once and writes every byte of fresh outputs of the given shapes
-    once: the outputs are filled by copying the inputs' values in order (cycling if the
-    outputs are larger); inputs left over are read by a reduction."""
+    once (or of the `preallocated` arrays, the floor of a call with `out=`): the outputs are
+    filled by copying the inputs' values in order (cycling if the outputs are larger); inputs
+    left over are read by a reduction."""
     flat_inputs = [a.reshape(-1) for a in inputs]
 
     def run():
         src, pos = 0, 0
         keep = []  # all outputs stay alive together, as a function's results do
-        for shape in outputs_like:
-            out = np.empty(shape).reshape(-1)
+        for k, shape in enumerate(outputs_like):
+            out = (np.empty(shape) if preallocated is None else preallocated[k]).reshape(-1)
             keep.append(out)
             filled = 0
             while filled < out.size:
@@ -189,8 +190,15 @@ def make_case(function, n, rng):
             "numpy": lambda: np_apparent(w, r, v, al, a0),
             "floor": floor([w, r, v, al, a0], [(n, 3)] * 5),
         }
+        outs = tuple(np.empty((n, 3)) for _ in range(5))
+        calls["rotaframe out="] = lambda: rf.apparent_acceleration(w, r, v, angular_acceleration=al, origin_acceleration=a0, out=outs)
+        calls["rotaframe out= threads=2"] = lambda: rf.apparent_acceleration(
+            w, r, v, angular_acceleration=al, origin_acceleration=a0, out=outs, threads=2
+        )
+        calls["floor out="] = floor([w, r, v, al, a0], [(n, 3)] * 5, outs)
         if numba is not None:
             calls["numba"] = lambda: nb_apparent(w, r, v, al, a0, *[np.empty((n, 3)) for _ in range(5)])
+            calls["numba out="] = lambda: nb_apparent(w, r, v, al, a0, *outs)
         return calls
     if function == "map_point":
         q = rng.normal(size=(n, 4))
@@ -204,24 +212,50 @@ def make_case(function, n, rng):
             "numpy": lambda: np_map_point(q, *parts, pr, pv, pa),
             "floor": floor([pr, pv, pa, motion_bytes], [(n, 3)] * 3),
         }
+        outs = tuple(np.empty((n, 3)) for _ in range(3))
+        calls["rotaframe out="] = lambda: motion.map_point(pr, pv, pa, out=outs)
+        calls["rotaframe out= threads=2"] = lambda: motion.map_point(pr, pv, pa, out=outs, threads=2)
+        calls["floor out="] = floor([pr, pv, pa, motion_bytes], [(n, 3)] * 3, outs)
         if numba is not None:
             calls["numba"] = lambda: nb_map_point(q, *parts, pr, pv, pa, *[np.empty((n, 3)) for _ in range(3)])
+            calls["numba out="] = lambda: nb_map_point(q, *parts, pr, pv, pa, *outs)
         return calls
     lat, lon, h = rng.uniform(-1.5, 1.5, n), rng.uniform(-3.1, 3.1, n), rng.uniform(-1e4, 1e4, n)
     if function == "geodetic_to_ecef":
-        calls = {"rotaframe": lambda: rf.geodetic_to_ecef(lat, lon, h), "numpy": lambda: np_forward(lat, lon, h), "floor": floor([lat, lon, h], [(n, 3)])}
+        out = np.empty((n, 3))
+        calls = {
+            "rotaframe": lambda: rf.geodetic_to_ecef(lat, lon, h),
+            "numpy": lambda: np_forward(lat, lon, h),
+            "floor": floor([lat, lon, h], [(n, 3)]),
+            "rotaframe out=": lambda: rf.geodetic_to_ecef(lat, lon, h, out=out),
+            "rotaframe out= threads=2": lambda: rf.geodetic_to_ecef(lat, lon, h, out=out, threads=2),
+            "floor out=": floor([lat, lon, h], [(n, 3)], (out,)),
+        }
         if numba is not None:
             calls["numba"] = lambda: nb_forward(lat, lon, h, np.empty((n, 3)))
+            calls["numba out="] = lambda: nb_forward(lat, lon, h, out)
         return calls
     xyz = rf.geodetic_to_ecef(lat, lon, h)
-    calls = {"rotaframe": lambda: rf.ecef_to_geodetic(xyz), "numpy": lambda: np_inverse(xyz), "floor": floor([xyz], [(n,)] * 3)}
+    outs = (np.empty(n), np.empty(n), np.empty(n))
+    calls = {
+        "rotaframe": lambda: rf.ecef_to_geodetic(xyz),
+        "numpy": lambda: np_inverse(xyz),
+        "floor": floor([xyz], [(n,)] * 3),
+        "rotaframe out=": lambda: rf.ecef_to_geodetic(xyz, out=outs),
+        "rotaframe out= threads=2": lambda: rf.ecef_to_geodetic(xyz, out=outs, threads=2),
+        "floor out=": floor([xyz], [(n,)] * 3, outs),
+    }
     if numba is not None:
         calls["numba"] = lambda: nb_inverse(xyz, np.empty(n), np.empty(n), np.empty(n))
+        calls["numba out="] = lambda: nb_inverse(xyz, *outs)
     return calls
 
 
 FUNCTIONS = ["apparent", "map_point", "geodetic_to_ecef", "ecef_to_geodetic"]
 CONTENDERS = ["rotaframe", "numpy", "numba", "floor"]
+# With preallocated outputs (each call writes the same arrays; the first, untimed warm-up call
+# of `best` faults their pages in).
+OUT_CONTENDERS = ["rotaframe out=", "rotaframe out= threads=2", "numba out=", "floor out="]
 
 
 def measure_one(function, n, contender, repeat):
@@ -256,6 +290,21 @@ def main():
             nb_ratio = f"{t['numba'] / t['rotaframe']:7.1f}x" if t["numba"] is not None else "     n/a"
             print(f"{function:<18} {n:>9} {t['rotaframe']:9.1f} {t['numpy']:9.1f} {nb} {t['floor']:9.1f} "
                   f"{t['numpy'] / t['rotaframe']:8.1f}x {nb_ratio} {t['rotaframe'] / t['floor']:8.2f}")
+
+    print("\nwith preallocated outputs (out=): ns per sample; 'vs floor' over the out= memory floor (read the inputs,")
+    print("write the preallocated outputs), 'vs numba' numba's preallocated loop over rotaframe's, 'threads' 1-thread/2-thread")
+    print(f"{'function':<18} {'N':>9} {'out=':>9} {'2 thr':>9} {'numba':>9} {'floor':>9} {'vs floor':>8} {'2thr/fl':>8} {'vs numba':>8} {'threads':>8}")
+    for function in FUNCTIONS:
+        for n in args.sizes:
+            t = {}
+            for contender in OUT_CONTENDERS:
+                out = subprocess.run([sys.executable, __file__, "--repeat", str(args.repeat), "--one", function, str(n), contender],
+                                     capture_output=True, text=True, check=True).stdout.strip().splitlines()[-1]
+                t[contender] = None if out == "none" else float(out)
+            one, two, fl = t["rotaframe out="], t["rotaframe out= threads=2"], t["floor out="]
+            nb = f"{t['numba out=']:9.1f}" if t["numba out="] is not None else "      n/a"
+            nb_ratio = f"{t['numba out='] / one:7.2f}x" if t["numba out="] is not None else "     n/a"
+            print(f"{function:<18} {n:>9} {one:9.1f} {two:9.1f} {nb} {fl:9.1f} {one / fl:8.2f} {two / fl:8.2f} {nb_ratio} {one / two:7.2f}x")
 
     w1, r1 = np.array([0.0, 0.0, 1.0]), np.array([1.0, 2.0, 3.0])
     k = 20000

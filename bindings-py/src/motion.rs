@@ -749,15 +749,7 @@ fn map_points_one(
     slots: &mut [MaybeUninit<[f64; 9]>],
     points: PointInputs<'_>,
 ) -> u64 {
-    map_points(
-        motions,
-        range,
-        slots.iter_mut(),
-        |s, k| {
-            s.write(k);
-        },
-        points,
-    )
+    map_points(motions, range, slots.iter_mut(), points)
 }
 
 #[inline(always)]
@@ -767,37 +759,69 @@ fn map_points_three(
     [p, v, a]: [&mut [MaybeUninit<[f64; 3]>]; 3],
     points: PointInputs<'_>,
 ) -> u64 {
-    map_points(
-        motions,
-        range,
-        p.iter_mut().zip(v.iter_mut()).zip(a.iter_mut()),
-        |((p, v), a), k| {
-            p.write([k[0], k[1], k[2]]);
-            v.write([k[3], k[4], k[5]]);
-            a.write([k[6], k[7], k[8]]);
-        },
-        points,
-    )
+    map_points(motions, range, p.iter_mut().zip(v.iter_mut()).zip(a.iter_mut()), points)
 }
 
 rotaframe::fast_twin!(fn map_points_one_fast(motions: &MotionBatch, range: core::ops::Range<usize>, slots: &mut [MaybeUninit<[f64; 9]>], points: PointInputs<'_>) -> u64 = map_points_one);
 rotaframe::fast_twin!(fn map_points_three_fast(motions: &MotionBatch, range: core::ops::Range<usize>, slots: [&mut [MaybeUninit<[f64; 3]>]; 3], points: PointInputs<'_>) -> u64 = map_points_three);
 
-/// The branch-free loop of `FrameMotion.map_point` over the elements of `range`: maps every
-/// point, hands its nine values (position, velocity, acceleration) to `write` with its slot,
-/// and returns the flags (bit 0: a point beyond its supported range; bit 1: an output that
-/// overflowed). Compiled for both CPU code paths.
+/// Where one mapped point's nine values (position, velocity, acceleration) go.
+trait PointSlot {
+    fn put(self, values: [f64; 9]);
+}
+
+impl PointSlot for &mut MaybeUninit<[f64; 9]> {
+    #[inline(always)]
+    fn put(self, values: [f64; 9]) {
+        self.write(values);
+    }
+}
+
+type ThreeSlots<'a> = ((&'a mut MaybeUninit<[f64; 3]>, &'a mut MaybeUninit<[f64; 3]>), &'a mut MaybeUninit<[f64; 3]>);
+
+impl PointSlot for ThreeSlots<'_> {
+    #[inline(always)]
+    fn put(self, k: [f64; 9]) {
+        let ((p, v), a) = self;
+        p.write([k[0], k[1], k[2]]);
+        v.write([k[3], k[4], k[5]]);
+        a.write([k[6], k[7], k[8]]);
+    }
+}
+
+/// Maps one point with the motion given by its parts and writes it; returns its flags (bit 0:
+/// the point beyond its supported range; bit 1: an output that overflowed). A function, not a
+/// closure, so that it is inlined into each CPU path's loop (see `dispatch`).
 #[inline(always)]
-fn map_points<S>(
+fn map_one(slot: impl PointSlot, q: &[f64; 4], parts: [&[f64; 3]; 5], r: &[f64; 3], vel: &[f64; 3], acc: &[f64; 3]) -> u64 {
+    let vector = |x: &[f64; 3]| rotaframe::nalgebra::Vector3::new(x[0], x[1], x[2]);
+    let m = MotionBatch::assemble(q, parts);
+    let point = PointKinematics::new(vector(r), vector(vel), vector(acc));
+    let k = m.map_point(&point);
+    let (p, v, a) = (k.position, k.velocity, k.acceleration);
+    slot.put([p.x, p.y, p.z, v.x, v.y, v.z, a.x, a.y, a.z]);
+    u64::from(
+        !(within(&point.position, MAX_POSITION)
+            & within(&point.velocity, MAX_VELOCITY)
+            & within(&point.acceleration, MAX_ACCELERATION)),
+    ) | (non_finite_flag(&[k.position, k.velocity, k.acceleration]) << 1)
+}
+
+/// The branch-free loop of `FrameMotion.map_point` over the elements of `range`: maps every
+/// point into its slot and returns the OR of the flags of [`map_one`]. Compiled for both CPU
+/// code paths.
+#[inline(always)]
+fn map_points<S: PointSlot>(
     motions: &MotionBatch,
     range: core::ops::Range<usize>,
     slots: impl Iterator<Item = S>,
-    mut write: impl FnMut(S, [f64; 9]),
     (ra, va, aa, n): PointInputs<'_>,
 ) -> u64 {
     let mut bad = 0u64;
     let [mp, mv, ma, mw, mal] = &motions.vectors;
     let k = range.clone();
+    // Inputs arrive as references, read straight into registers (copying them through a stack
+    // array first caused store-forwarding stalls).
     let slots = slots
         .zip(&motions.rotation[k.clone()])
         .zip(&mp[k.clone()])
@@ -805,28 +829,20 @@ fn map_points<S>(
         .zip(&ma[k.clone()])
         .zip(&mw[k.clone()])
         .zip(&mal[k]);
-    // Inputs arrive as references, read straight into registers (copying them through a stack
-    // array first caused store-forwarding stalls).
-    type Parts<'a, S> = ((((((S, &'a [f64; 4]), &'a [f64; 3]), &'a [f64; 3]), &'a [f64; 3]), &'a [f64; 3]), &'a [f64; 3]);
-    let mut element = |((((((slot, q), p), v), a), w), al): Parts<'_, S>, r: &[f64; 3], vel: &[f64; 3], acc: &[f64; 3]| {
-        let vector = |x: &[f64; 3]| rotaframe::nalgebra::Vector3::new(x[0], x[1], x[2]);
-        let m = MotionBatch::assemble(q, [p, v, a, w, al]);
-        let point = PointKinematics::new(vector(r), vector(vel), vector(acc));
-        let k = m.map_point(&point);
-        bad |= u64::from(
-            !(within(&point.position, MAX_POSITION)
-                & within(&point.velocity, MAX_VELOCITY)
-                & within(&point.acceleration, MAX_ACCELERATION)),
-        ) | (non_finite_flag(&[k.position, k.velocity, k.acceleration]) << 1);
-        let (p, v, a) = (k.position, k.velocity, k.acceleration);
-        write(slot, [p.x, p.y, p.z, v.x, v.y, v.z, a.x, a.y, a.z]);
-    };
     match (ra.full_vec3(n), va.full_vec3(n), aa.full_vec3(n)) {
         (Some(r), Some(v), Some(a)) => {
             let k = range.clone();
-            slots.zip(r[k.clone()].iter().zip(&v[k.clone()]).zip(&a[k])).for_each(|(s, ((r, v), a))| element(s, r, v, a));
+            for (((((((slot, q), p), mv), ma), w), al), ((r, v), a)) in
+                slots.zip(r[k.clone()].iter().zip(&v[k.clone()]).zip(&a[k]))
+            {
+                bad |= map_one(slot, q, [p, mv, ma, w, al], r, v, a);
+            }
         }
-        _ => slots.zip(range).for_each(|(s, i)| element(s, &ra.vec3(i).into(), &va.vec3(i).into(), &aa.vec3(i).into())),
+        _ => {
+            for (((((((slot, q), p), mv), ma), w), al), i) in slots.zip(range) {
+                bad |= map_one(slot, q, [p, mv, ma, w, al], &ra.vec3(i).into(), &va.vec3(i).into(), &aa.vec3(i).into());
+            }
+        }
     }
     bad
 }
