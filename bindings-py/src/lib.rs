@@ -59,6 +59,7 @@ fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(nav::motion_from_samples, m)?)?;
     m.add_function(wrap_pyfunction!(nav::lever_arm_state, m)?)?;
     m.add_function(wrap_pyfunction!(nav::run_strapdowns, m)?)?;
+    m.add_function(wrap_pyfunction!(nav::_imu_errors_from_parts, m)?)?;
     m.add_class::<propagate::PyPropagation>()?;
     m.add_class::<propagate::PyDeflectionBudget>()?;
     m.add_class::<propagate::PyDrag>()?;

@@ -1276,6 +1276,77 @@ impl PyImuErrors {
     fn __repr__(&self) -> String {
         format!("ImuErrors(seed={})", self.seed)
     }
+
+    /// Pickles the whole generator: the model, the random stream's position and the
+    /// Gauss–Markov states, so that a copy continues exactly where this one is (on another
+    /// process, say).
+    fn __reduce__<'py>(&self, py: Python<'py>) -> PyResult<(Bound<'py, PyAny>, Bound<'py, PyTuple>)> {
+        let (model, rng, gyro_markov, accelerometer_markov) = self.lock()?.parts();
+        let sensor = |m: &SensorErrorModel| -> Vec<f64> {
+            [m.bias.as_slice(), m.scale_factor.as_slice(), m.misalignment.as_slice(), m.noise_density.as_slice()]
+                .concat()
+                .into_iter()
+                .chain(m.markov_sigma.iter().copied())
+                .chain(m.markov_time.iter().copied())
+                .collect()
+        };
+        let stream =
+            serde_json::to_string(&rng).map_err(|e| RotaframeError::new_err(format!("cannot save the random stream: {e}")))?;
+        let args = (
+            sensor(&model.gyro),
+            sensor(&model.accelerometer),
+            stream,
+            gyro_markov.as_slice().to_vec(),
+            accelerometer_markov.as_slice().to_vec(),
+            self.seed,
+        );
+        let rebuild = py.import("rotaframe._native")?.getattr("_imu_errors_from_parts")?;
+        Ok((rebuild, args.into_pyobject(py)?))
+    }
+}
+
+/// Rebuilds a pickled `ImuErrors`: per sensor 24 numbers (bias, scale factor, misalignment
+/// column-major, noise density, Markov σ and τ, SI units), the random stream's saved state,
+/// the Markov states and the seed it was made with.
+#[pyfunction]
+pub fn _imu_errors_from_parts(
+    gyro: Vec<f64>,
+    accelerometer: Vec<f64>,
+    stream: &str,
+    gyro_markov: Vec<f64>,
+    accelerometer_markov: Vec<f64>,
+    seed: u64,
+) -> PyResult<PyImuErrors> {
+    let sensor = |v: &[f64], name: &str| -> PyResult<SensorErrorModel> {
+        if v.len() != 24 {
+            return Err(ShapeError::new_err(format!("`{name}` must hold 24 numbers, got {}", v.len())));
+        }
+        Ok(SensorErrorModel {
+            bias: Vector3::from_column_slice(&v[0..3]),
+            scale_factor: Vector3::from_column_slice(&v[3..6]),
+            misalignment: Matrix3::from_column_slice(&v[6..15]),
+            noise_density: Vector3::from_column_slice(&v[15..18]),
+            markov_sigma: Vector3::from_column_slice(&v[18..21]),
+            markov_time: Vector3::from_column_slice(&v[21..24]),
+        })
+    };
+    let three = |v: &[f64], name: &str| -> PyResult<Vector3<f64>> {
+        if v.len() != 3 {
+            return Err(ShapeError::new_err(format!("`{name}` must hold 3 numbers, got {}", v.len())));
+        }
+        Ok(Vector3::from_column_slice(v))
+    };
+    let model = ImuErrorModel { gyro: sensor(&gyro, "gyro")?, accelerometer: sensor(&accelerometer, "accelerometer")? };
+    let rng: nav::Xoshiro256PlusPlus = serde_json::from_str(stream)
+        .map_err(|e| RotaframeError::new_err(format!("`stream` is not a saved random stream: {e}")))?;
+    let inner = ImuErrorGenerator::from_parts(
+        model,
+        rng,
+        three(&gyro_markov, "gyro_markov")?,
+        three(&accelerometer_markov, "accelerometer_markov")?,
+    )
+    .map_err(|e| to_py(&nav_name(e), ""))?;
+    Ok(PyImuErrors { inner: std::sync::Mutex::new(inner), seed })
 }
 
 /// Geodetic position and NED velocity `(lat, lon, h, v_ned)` of the point at `lever_arm` (m,

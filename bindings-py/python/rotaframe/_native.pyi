@@ -39,6 +39,7 @@ __all__ = [
     "_frame_graph_from_parts",
     "_frame_motion_from_parts",
     "_strapdown_from_parts",
+    "_imu_errors_from_parts",
     "apparent_acceleration",
     "centripetal_acceleration_ecef",
     "coriolis_ned",
@@ -605,6 +606,16 @@ class ImuErrors:
     def seed(self) -> int: ...
     @property
     def markov_states(self) -> tuple[_Array, _Array]: ...
+    def __reduce__(self) -> tuple[Any, tuple[Any, ...]]: ...
+
+def _imu_errors_from_parts(
+    gyro: Sequence[float],
+    accelerometer: Sequence[float],
+    stream: str,
+    gyro_markov: Sequence[float],
+    accelerometer_markov: Sequence[float],
+    seed: int,
+) -> ImuErrors: ...
 
 @final
 class FrameGraph:
