@@ -46,25 +46,35 @@ fn linearise(c: &mut Criterion) {
     let (_, state, _) = initial.parts();
     let psd = noise_psd(&model);
     let times = (&model.accelerometer.markov_time, &model.gyro.markov_time);
-    group.bench_function("phi_qd_15", |b| {
-        b.iter(|| {
-            let mut sum = 0.0;
-            for inc in &incs {
-                let t = inc.interval;
-                let (f, g) = error_model::<15>(
-                    initial.config(),
-                    black_box(&state),
-                    &(inc.delta_velocity / t),
-                    &(inc.delta_angle / t),
-                    times,
-                )
-                .unwrap();
-                let (phi, qd) = rotaframe::linearise::inertial::discretise(&f, &g, &psd, t).unwrap();
-                sum += phi[(3, 7)] + qd[(3, 3)];
-            }
-            black_box(sum)
-        })
-    });
+    type Discretiser = fn(
+        &SMatrix<f64, 15, 15>,
+        &SMatrix<f64, 15, 12>,
+        &rotaframe::nalgebra::SVector<f64, 12>,
+        f64,
+    ) -> rotaframe::Result<(SMatrix<f64, 15, 15>, SMatrix<f64, 15, 15>)>;
+    let exact: Discretiser = rotaframe::linearise::inertial::discretise;
+    let second_order: Discretiser = rotaframe::linearise::inertial::discretise_second_order;
+    for (name, discretise) in [("phi_qd_15", exact), ("phi_qd_15_second_order", second_order)] {
+        group.bench_function(name, |b| {
+            b.iter(|| {
+                let mut sum = 0.0;
+                for inc in &incs {
+                    let t = inc.interval;
+                    let (f, g) = error_model::<15>(
+                        initial.config(),
+                        black_box(&state),
+                        &(inc.delta_velocity / t),
+                        &(inc.delta_angle / t),
+                        times,
+                    )
+                    .unwrap();
+                    let (phi, qd) = discretise(&f, &g, &psd, t).unwrap();
+                    sum += phi[(3, 7)] + qd[(3, 3)];
+                }
+                black_box(sum)
+            })
+        });
+    }
     let p0: SMatrix<f64, 15, 15> = bias_covariance(&model);
     group.bench_function("covariance_step_15", |b| {
         b.iter(|| {

@@ -1292,9 +1292,17 @@ rf_status rf_strapdown_error_model(const struct rf_strapdown *strapdown, const s
 
 /**
  * `Φ` and `Q_d` (`out_phi[states²]`, `out_qd[states²]`) over `interval` (s) of `f[states²]`,
- * `g[states·12]` and the 12 densities `psd` (see `rf_noise_psd`).
+ * `g[states·12]` and the 12 densities `psd` (see `rf_noise_psd`): the series summed to
+ * rounding.
  */
 rf_status rf_discrete_error_model(size_t states, const double *f, const double *g, const double *psd, double interval, double *out_phi, double *out_qd);
+
+/**
+ * As `rf_discrete_error_model`, truncated at second order: `Φ = I + F T + F² T²/2`,
+ * `Q_d = Q_c T + (F Q_c + Q_c Fᵀ) T²/2` (what real-time filters use at IMU rates; each entry's
+ * error is of order `(‖F T‖∞)³` of the largest, see the core's `linearise::inertial`).
+ */
+rf_status rf_discrete_error_model_second_order(size_t states, const double *f, const double *g, const double *psd, double interval, double *out_phi, double *out_qd);
 
 /**
  * The number of covariances `rf_predict_covariance` writes for `count` increments kept

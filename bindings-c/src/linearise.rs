@@ -374,7 +374,8 @@ fn square<const N: usize>(values: &[f64]) -> SMatrix<f64, N, N> {
 }
 
 /// `Φ` and `Q_d` (`out_phi[states²]`, `out_qd[states²]`) over `interval` (s) of `f[states²]`,
-/// `g[states·12]` and the 12 densities `psd` (see `rf_noise_psd`).
+/// `g[states·12]` and the 12 densities `psd` (see `rf_noise_psd`): the series summed to
+/// rounding.
 #[unsafe(no_mangle)]
 pub unsafe extern "C" fn rf_discrete_error_model(
     states: usize,
@@ -384,6 +385,39 @@ pub unsafe extern "C" fn rf_discrete_error_model(
     interval: f64,
     out_phi: *mut f64,
     out_qd: *mut f64,
+) -> rf_status {
+    // SAFETY: the caller's pointers, as documented; checked by `discrete`.
+    unsafe { discrete(states, [f, g, psd], interval, [out_phi, out_qd], false) }
+}
+
+/// As `rf_discrete_error_model`, truncated at second order: `Φ = I + F T + F² T²/2`,
+/// `Q_d = Q_c T + (F Q_c + Q_c Fᵀ) T²/2` (what real-time filters use at IMU rates; each entry's
+/// error is of order `(‖F T‖∞)³` of the largest, see the core's `linearise::inertial`).
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn rf_discrete_error_model_second_order(
+    states: usize,
+    f: *const f64,
+    g: *const f64,
+    psd: *const f64,
+    interval: f64,
+    out_phi: *mut f64,
+    out_qd: *mut f64,
+) -> rf_status {
+    // SAFETY: the caller's pointers, as documented; checked by `discrete`.
+    unsafe { discrete(states, [f, g, psd], interval, [out_phi, out_qd], true) }
+}
+
+/// The two discretisations behind one set of checks.
+///
+/// # Safety
+/// `f`, `g` and `psd` hold `states²`, `12 states` and 12 values (or are NULL, refused);
+/// `out_phi` and `out_qd` have room for `states²` values each (or are NULL, refused).
+unsafe fn discrete(
+    states: usize,
+    [f, g, psd]: [*const f64; 3],
+    interval: f64,
+    [out_phi, out_qd]: [*mut f64; 2],
+    second_order: bool,
 ) -> rf_status {
     boundary(|| {
         states_ok(states)?;
@@ -395,8 +429,12 @@ pub unsafe extern "C" fn rf_discrete_error_model(
         disjoint(region(out_qd, n2), &[inputs[0], inputs[1], inputs[2], region(out_phi, n2)])?;
         macro_rules! sized {
             ($n:literal) => {{
-                let gm = SMatrix::<f64, $n, 12>::from_row_slice(gv);
-                let (phi, qd) = inertial::discretise(&square::<$n>(fv), &gm, &q, interval)?;
+                let (fm, gm) = (square::<$n>(fv), SMatrix::<f64, $n, 12>::from_row_slice(gv));
+                let (phi, qd) = if second_order {
+                    inertial::discretise_second_order(&fm, &gm, &q, interval)?
+                } else {
+                    inertial::discretise(&fm, &gm, &q, interval)?
+                };
                 let (op, oq) = (unsafe { matrix_out(out_phi, n2) }?, unsafe { matrix_out(out_qd, n2) }?);
                 put(op, &phi);
                 put(oq, &qd);

@@ -164,6 +164,7 @@ keywords!(
     vertical: ["free", "hold", "aided"],
     axes: ["ned", "enu"],
     position_kind: ["geodetic", "cartesian"],
+    method: ["exact", "second_order"],
 );
 
 /// A text argument (a name): a Python str.

@@ -317,14 +317,23 @@ pub fn discrete<'py>(
     g: &DMatrix<f64>,
     psd: &SVector<f64, 12>,
     dt: f64,
+    method: &str,
 ) -> PyResult<Bound<'py, PyTuple>> {
     let n = f.nrows();
+    let second_order = method == "second_order";
     macro_rules! sized {
         ($n:literal) => {{
             let f = SMatrix::<f64, $n, $n>::from_iterator(f.iter().copied());
             let g = SMatrix::<f64, $n, 12>::from_iterator(g.iter().copied());
-            let (phi, qd) =
-                py.detach(|| inertial::discretise(&f, &g, psd, dt)).map_err(|e| crate::errors::to_py(&discrete_name(e), ""))?;
+            let (phi, qd) = py
+                .detach(|| {
+                    if second_order {
+                        inertial::discretise_second_order(&f, &g, psd, dt)
+                    } else {
+                        inertial::discretise(&f, &g, psd, dt)
+                    }
+                })
+                .map_err(|e| crate::errors::to_py(&discrete_name(e), ""))?;
             (DMatrix::from_column_slice(n, n, phi.as_slice()), DMatrix::from_column_slice(n, n, qd.as_slice()))
         }};
     }
@@ -352,8 +361,12 @@ fn discrete_name(e: rotaframe::Error) -> rotaframe::Error {
 /// returned by `Strapdown.error_model`, with the noise densities of `noise`: an `ImuErrors`
 /// (its white noise and Gauss–Markov drives) or 12 spectral densities `(N_a² ×3, N_g² ×3,
 /// accelerometer bias drive ×3, gyro bias drive ×3)`.
+///
+/// `method="exact"` (the default) sums the series to rounding; `method="second_order"` keeps
+/// their first three terms, `Φ = I + F dt + F² dt²/2`, `Q_d = Q_c dt + (F Q_c + Q_c Fᵀ) dt²/2`
+/// (what real-time filters use at IMU rates; errors of order `(‖F dt‖)³`, see the README).
 #[pyfunction]
-#[pyo3(signature = (F, G, noise, dt))]
+#[pyo3(signature = (F, G, noise, dt, *, method="exact"))]
 #[allow(non_snake_case)]
 pub fn discrete_error_model<'py>(
     py: Python<'py>,
@@ -361,6 +374,7 @@ pub fn discrete_error_model<'py>(
     G: &Bound<'py, PyAny>,
     noise: &Bound<'py, PyAny>,
     dt: &Bound<'py, PyAny>,
+    #[pyo3(from_py_with = crate::args::method)] method: &str,
 ) -> PyResult<Bound<'py, PyTuple>> {
     let f = matrix_arg(F, "F", None, None)?;
     if f.nrows() != f.ncols() {
@@ -369,7 +383,7 @@ pub fn discrete_error_model<'py>(
     let g = matrix_arg(G, "G", Some(f.nrows()), Some(12))?;
     let psd = noise_densities(noise)?;
     let dt = crate::args::number(dt, "dt")?;
-    discrete(py, &f, &g, &psd, dt)
+    discrete(py, &f, &g, &psd, dt, method)
 }
 
 /// The 12 noise densities of an `ImuErrors` or an array.

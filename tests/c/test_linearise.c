@@ -143,6 +143,21 @@ int main(void) {
                 CHECK(qd[k] == qd[j * N + i], "Q_d symmetric at (%d, %d)", i, j);
                 CLOSE(qd[k], q3, pow(2 * norm, 3) / 24 * qmax * t + 1e-30, "Q_d against its series");
             }
+        { /* The second-order form is the series' first three terms, built here from the same
+             products: equal to rounding (4e-16 of Phi's unit diagonal; 1e-15 of the largest
+             Q_c T for Q_d). */
+            static double phi2[N * N], qd2[N * N];
+            OK(rf_discrete_error_model_second_order(N, F, G, psd, t, phi2, qd2));
+            for (i = 0; i < N; ++i)
+                for (j = 0; j < N; ++j) {
+                    int k = i * N + j;
+                    CLOSE(phi2[k], (i == j ? 1.0 : 0.0) + ft[k] + ft2[k] / 2, 4e-16, "second-order Phi");
+                    CLOSE(qd2[k], qc[k] * t + l1[k] * t * t / 2, 1e-15 * qmax * t, "second-order Q_d");
+                    CHECK(qd2[k] == qd2[j * N + i], "second-order Q_d symmetric at (%d, %d)", i, j);
+                }
+            CHECK(rf_discrete_error_model_second_order(N, F, G, psd, t, NULL, qd2) == RF_STATUS_NULL_POINTER, "NULL output refused");
+            CHECK(rf_discrete_error_model_second_order(N, F, G, psd, -1.0, phi2, qd2) == RF_STATUS_NOT_POSITIVE, "negative interval refused");
+        }
         CHECK(rf_strapdown_error_model(&sd, &f, &w, &model, 16, F, G) == RF_STATUS_INVALID_ARGUMENT, "16 states refused");
         CHECK(rf_discrete_error_model(N, F, G, psd, 0.0, phi, qd) == RF_STATUS_NOT_POSITIVE, "zero interval refused");
 

@@ -204,6 +204,28 @@ def test_discrete_error_model_matches_scipy_expm_van_loan(states):
         np.testing.assert_allclose(qd2, qd, rtol=1e-12, atol=0)
 
 
+@pytest.mark.parametrize("states", [15, 21])
+def test_second_order_discretisation_is_the_three_term_series_and_close_to_expm(states):
+    # method="second_order" is I + F dt + F² dt²/2 and Q_c dt + (F Q_c + Q_c Fᵀ) dt²/2, written
+    # here in numpy (rounding: 1e-15 of the largest entry); against scipy's expm it misses the
+    # terms of order (‖F dt‖∞)³, bounded by n³ eⁿ / 6 for Φ and ‖Q_c‖ dt (2n)² e²ⁿ / 6 for Q_d
+    # (the tail of the exponential series; common practice).
+    s = strapdown()
+    f, g = s.error_model([0.3, -0.1, -9.7], [1e-3, 2e-3, -5e-4], states=states, imu_errors=imu())
+    dt = 0.01
+    phi2, qd2 = rf.discrete_error_model(f, g, imu(), dt, method="second_order")
+    qc = g @ np.diag(psd(imu())) @ g.T
+    np.testing.assert_allclose(phi2, np.eye(states) + f * dt + f @ f * dt**2 / 2, rtol=0, atol=1e-15)
+    np.testing.assert_allclose(qd2, qc * dt + (f @ qc + qc @ f.T) * dt**2 / 2, rtol=0, atol=1e-15 * np.abs(qc).max() * dt)
+    assert np.array_equal(qd2, qd2.T)
+    phi_ref, qd_ref = van_loan(f, g, psd(imu()), dt)
+    n = np.abs(f * dt).sum(axis=1).max()
+    assert np.abs(phi2 - phi_ref).max() <= n**3 * np.exp(n) / 6
+    assert np.abs(qd2 - qd_ref).max() <= np.abs(qc).sum(axis=1).max() * dt * (2 * n) ** 2 * np.exp(2 * n) / 6
+    with pytest.raises(rf.RotaframeError, match="method"):
+        rf.discrete_error_model(f, g, imu(), dt, method="first_order")
+
+
 def test_predict_covariance_equals_the_numpy_recursion_along_the_run():
     s0 = strapdown()
     n, dt = 300, 0.01

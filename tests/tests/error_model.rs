@@ -266,14 +266,11 @@ fn discretisation_matches_closed_forms() {
     let _ = WGS84;
 }
 
-#[test]
-fn covariance_propagation_equals_phi_p_phi_transpose_plus_qd() {
-    // `propagate_covariance` solves Ṗ = F P + P Fᵀ + Q_c by its own series; it must agree with
-    // Φ P Φᵀ + Q_d from `discretise_covariance` (Van Loan 1978: both are the exact solution)
-    // entry by entry within 1e-13 of each entry's scale |P_ij| + √(P_ii P_jj) (rounding of
-    // two different sums of ~10 terms), from a full covariance and from one with zero
-    // navigation variances, at 100 Hz and over 2 s (the long-interval path).
-    let config = StrapdownConfig { vertical: VerticalChannel::Aided { time_constant: 80.0 }, ..StrapdownConfig::default() };
+/// The 15-state model `(F, G)` of the stepper at the start state in the turning, accelerating
+/// increment at 100 Hz, invented noise densities and the resulting `Q_c`.
+fn manoeuvre_model(
+    config: StrapdownConfig,
+) -> (SMatrix<f64, 15, 15>, SMatrix<f64, 15, 12>, SVector<f64, 12>, SMatrix<f64, 15, 15>) {
     let ins = Strapdown::new(config, &start_state()).unwrap();
     let (_, state, _) = ins.parts();
     let inc = increment(0.01);
@@ -285,6 +282,18 @@ fn covariance_propagation_equals_phi_p_phi_transpose_plus_qd() {
         [2.5e-7, 2.5e-7, 2.5e-7, 1e-10, 1e-10, 1e-10, 6e-9, 6e-9, 6e-9, 6e-15, 6e-15, 6e-15][i]
     });
     let qc = g * SMatrix::<f64, 12, 12>::from_diagonal(&psd) * g.transpose();
+    (f, g, psd, qc)
+}
+
+#[test]
+fn covariance_propagation_equals_phi_p_phi_transpose_plus_qd() {
+    // `propagate_covariance` solves Ṗ = F P + P Fᵀ + Q_c by its own series; it must agree with
+    // Φ P Φᵀ + Q_d from `discretise_covariance` (Van Loan 1978: both are the exact solution)
+    // entry by entry within 1e-13 of each entry's scale |P_ij| + √(P_ii P_jj) (rounding of
+    // two different sums of ~10 terms), from a full covariance and from one with zero
+    // navigation variances, at 100 Hz and over 2 s (the long-interval path).
+    let config = StrapdownConfig { vertical: VerticalChannel::Aided { time_constant: 80.0 }, ..StrapdownConfig::default() };
+    let (f, _, _, qc) = manoeuvre_model(config);
     let mut rng = rotaframe_tests::Seeded(3);
     let sd = [1e-6, 1e-6, 5.0, 0.1, 0.1, 0.1, 1e-3, 1e-3, 1e-2, 1e-3, 1e-3, 1e-3, 1e-6, 1e-6, 1e-6];
     let a = SMatrix::<f64, 15, 15>::from_fn(|i, _| sd[i] * rng.next_signed());
@@ -313,5 +322,35 @@ fn covariance_propagation_equals_phi_p_phi_transpose_plus_qd() {
                 }
             }
         }
+    }
+}
+
+#[test]
+fn second_order_discretisation_is_the_truncated_series_within_its_remainder_bound() {
+    // Φ₂ = I + F T + F² T²/2 and Q₂ = Q_c T + (F Q_c + Q_c Fᵀ) T²/2 miss the series' terms
+    // k ≥ 3. With n = ‖F T‖∞ the missing part of Φ is bounded entry-wise by n³ eⁿ / 6 and
+    // that of Q_d by ‖Q_c‖∞ T (2n)² e²ⁿ / 6 (the tail of the exponential series, since
+    // ‖Q_{k+1}‖ ≤ 2 ‖F‖ ‖Q_k‖; common practice bounds). The errors must also shrink as T³
+    // (halving T divides them by 8, within [6, 10] for the next terms' share), which a
+    // first-order form (T² scaling) or a wrong coefficient would fail.
+    let (f, g, psd, qc) = manoeuvre_model(StrapdownConfig::default());
+    let inf_norm = |m: &SMatrix<f64, 15, 15>| (0..15).map(|i| m.row(i).iter().map(|x| x.abs()).sum::<f64>()).fold(0.0, f64::max);
+    let mut previous: Option<(f64, f64)> = None;
+    for t in [0.04, 0.02, 0.01] {
+        let (phi2, q2) = inertial::discretise_second_order(&f, &g, &psd, t).unwrap();
+        let (phi, qd) = discretise(&f, &g, &psd, t).unwrap();
+        let n = inf_norm(&f) * t;
+        let phi_bound = n.powi(3) * n.exp() / 6.0;
+        let q_bound = inf_norm(&qc) * t * (2.0 * n).powi(2) * (2.0 * n).exp() / 6.0;
+        let (dphi, dq) = ((phi2 - phi).abs().max(), (q2 - qd).abs().max());
+        assert!(dphi <= phi_bound, "T = {t}: Φ error {dphi:e} above {phi_bound:e}");
+        assert!(dq <= q_bound, "T = {t}: Q_d error {dq:e} above {q_bound:e}");
+        assert_eq!(q2, q2.transpose(), "Q_d is symmetric to the bit");
+        if let Some((p_phi, p_q)) = previous {
+            for (ratio, what) in [(p_phi / dphi, "Φ"), (p_q / dq, "Q_d")] {
+                assert!((6.0..=10.0).contains(&ratio), "{what}: halving T divided the error by {ratio}, not about 8");
+            }
+        }
+        previous = Some((dphi, dq));
     }
 }
