@@ -8,7 +8,7 @@ use rotaframe::frames::{AnyFrame, PointKinematics};
 use rotaframe::limits::{MAX_ACCELERATION, MAX_ANGULAR_ACCELERATION, MAX_ANGULAR_VELOCITY, MAX_POSITION, MAX_VELOCITY, within};
 
 use crate::batch::{self, Outputs};
-use crate::broadcast::{BatchArgs, Operand, Plan, Slot, failure_to_py, run};
+use crate::broadcast::{Access, BatchArgs, Operand, Plan, Slot, failure_to_py, run};
 
 /// The apparent accelerations in a rotating frame, each an array `(..., 3)` resolved in that
 /// frame (m/s²): `translational` (−a₀), `coriolis` (−2 ω × v), `centrifugal` (−ω × (ω × r)),
@@ -108,56 +108,10 @@ pub fn apparent_terms_of<'py>(
     // One pass writes every slot and folds a check of every input against its supported
     // range in without branching (inside the ranges the terms cannot overflow); only a batch
     // with a bad input is scanned again, to name the first one.
+    let accesses = [wa, ala, a0a, ra, va];
     let flags = py.detach(|| {
         batch::parallel(batch.threads, work, |(((((range, s0), s1), s2), s3), s4)| {
-            let mut bad = 0u64;
-            let slots = s0.iter_mut().zip(s1.iter_mut()).zip(s2.iter_mut()).zip(s3.iter_mut()).zip(s4.iter_mut());
-            type Vectors<'a> = (&'a [f64; 3], &'a [f64; 3], &'a [f64; 3], &'a [f64; 3], &'a [f64; 3]);
-            let vector = |x: &[f64; 3]| rotaframe::nalgebra::Vector3::new(x[0], x[1], x[2]);
-            type Slots<'a> = ((((Slot<'a>, Slot<'a>), Slot<'a>), Slot<'a>), Slot<'a>);
-            let mut element = |(((((t, c), f), e), s), (w, al, a0, r, v)): (Slots<'_>, Vectors<'_>)| {
-                let dynamics = FrameDynamics {
-                    angular_velocity: vector(w),
-                    angular_acceleration: vector(al),
-                    origin_acceleration: vector(a0),
-                };
-                let (position, velocity) = (vector(r), vector(v));
-                let terms = apparent_terms(&dynamics, &position, &velocity);
-                bad |= u64::from(
-                    !(within(&dynamics.angular_velocity, MAX_ANGULAR_VELOCITY)
-                        & within(&dynamics.angular_acceleration, MAX_ANGULAR_ACCELERATION)
-                        & within(&dynamics.origin_acceleration, MAX_ACCELERATION)
-                        & within(&position, MAX_POSITION)
-                        & within(&velocity, MAX_VELOCITY)),
-                );
-                t.write(terms.translational.into());
-                c.write(terms.coriolis.into());
-                f.write(terms.centrifugal.into());
-                e.write(terms.euler.into());
-                s.write(terms.total.into());
-            };
-            match (wa.full_vec3(n), ala.full_vec3(n), a0a.full_vec3(n), ra.full_vec3(n), va.full_vec3(n)) {
-                // Every argument has one vector per element: iterate the slices directly.
-                (Some(w), Some(al), Some(a0), Some(r), Some(v)) => {
-                    let k = range.clone();
-                    let inputs = w[k.clone()]
-                        .iter()
-                        .zip(&al[k.clone()])
-                        .zip(&a0[k.clone()])
-                        .zip(&r[k.clone()])
-                        .zip(&v[k])
-                        .map(|((((w, al), a0), r), v)| (w, al, a0, r, v));
-                    slots.zip(inputs).for_each(&mut element);
-                }
-                _ => {
-                    for (i, slot) in range.zip(slots) {
-                        let x: [[f64; 3]; 5] =
-                            [wa.vec3(i).into(), ala.vec3(i).into(), a0a.vec3(i).into(), ra.vec3(i).into(), va.vec3(i).into()];
-                        element((slot, (&x[0], &x[1], &x[2], &x[3], &x[4])));
-                    }
-                }
-            }
-            bad
+            rotaframe::fast_call!(apparent_chunk_fast, apparent_chunk, (range, [s0, s1, s2, s3, s4], accesses, n))
         })
     })?;
     drop(guards);
@@ -173,3 +127,61 @@ pub fn apparent_terms_of<'py>(
     let [translational, coriolis, centrifugal, euler, total] = outs.arrays.map(Bound::unbind);
     Ok(PyApparentAcceleration { translational, coriolis, centrifugal, euler, total })
 }
+
+/// The five output slots of a chunk of `apparent_acceleration` (translational, Coriolis,
+/// centrifugal, Euler, total).
+type TermSlots<'a> = [&'a mut [core::mem::MaybeUninit<[f64; 3]>]; 5];
+
+/// One element: writes its five terms and returns 1 if an input lies beyond its supported
+/// range (inside the ranges the terms cannot overflow), without branching. A function, not a
+/// closure, so that each CPU path inlines it (see `dispatch`).
+#[inline(always)]
+fn apparent_one(slots: [Slot<'_>; 5], [w, al, a0, r, v]: [&[f64; 3]; 5]) -> u64 {
+    let vector = |x: &[f64; 3]| rotaframe::nalgebra::Vector3::new(x[0], x[1], x[2]);
+    let dynamics =
+        FrameDynamics { angular_velocity: vector(w), angular_acceleration: vector(al), origin_acceleration: vector(a0) };
+    let (position, velocity) = (vector(r), vector(v));
+    let terms = apparent_terms(&dynamics, &position, &velocity);
+    let [t, c, f, e, s] = slots;
+    t.write(terms.translational.into());
+    c.write(terms.coriolis.into());
+    f.write(terms.centrifugal.into());
+    e.write(terms.euler.into());
+    s.write(terms.total.into());
+    u64::from(
+        !(within(&dynamics.angular_velocity, MAX_ANGULAR_VELOCITY)
+            & within(&dynamics.angular_acceleration, MAX_ANGULAR_ACCELERATION)
+            & within(&dynamics.origin_acceleration, MAX_ACCELERATION)
+            & within(&position, MAX_POSITION)
+            & within(&velocity, MAX_VELOCITY)),
+    )
+}
+
+/// The elements of `range` (the slots hold that range), inputs read through `access`
+/// (angular velocity, angular acceleration, origin acceleration, position, velocity); returns
+/// the OR of the range flags. Compiled for both CPU code paths.
+#[inline(always)]
+fn apparent_chunk(range: core::ops::Range<usize>, [s0, s1, s2, s3, s4]: TermSlots<'_>, access: [Access<'_>; 5], n: usize) -> u64 {
+    let mut bad = 0u64;
+    let count = range.len().min(s0.len()).min(s1.len()).min(s2.len()).min(s3.len()).min(s4.len());
+    let full: [Option<&[[f64; 3]]>; 5] = core::array::from_fn(|j| access[j].full_vec3(n));
+    if let [Some(w), Some(al), Some(a0), Some(r), Some(v)] = full {
+        // Every argument has one vector per element: plain indexed slices of one length.
+        let k = range.start..range.start + count;
+        let (w, al, a0, r, v) = (&w[k.clone()], &al[k.clone()], &a0[k.clone()], &r[k.clone()], &v[k]);
+        for i in 0..count {
+            let slots = [&mut s0[i], &mut s1[i], &mut s2[i], &mut s3[i], &mut s4[i]];
+            bad |= apparent_one(slots, [&w[i], &al[i], &a0[i], &r[i], &v[i]]);
+        }
+    } else {
+        for i in 0..count {
+            let e = range.start + i;
+            let x: [[f64; 3]; 5] = access.map(|a| a.vec3(e).into());
+            let slots = [&mut s0[i], &mut s1[i], &mut s2[i], &mut s3[i], &mut s4[i]];
+            bad |= apparent_one(slots, [&x[0], &x[1], &x[2], &x[3], &x[4]]);
+        }
+    }
+    bad
+}
+
+rotaframe::fast_twin!(fn apparent_chunk_fast(range: core::ops::Range<usize>, slots: TermSlots<'_>, access: [Access<'_>; 5], n: usize) -> u64 = apparent_chunk);
