@@ -266,6 +266,16 @@ def measure_one(function, n, contender, repeat):
     return best(calls[contender], repeat) / n * 1e9
 
 
+def measure_fresh(function, n, contenders, repeat):
+    """ns per sample of each contender, each measured in a fresh process (None: not available)."""
+    t = {}
+    for contender in contenders:
+        out = subprocess.run([sys.executable, __file__, "--repeat", str(repeat), "--one", function, str(n), contender],
+                             capture_output=True, text=True, check=True).stdout.strip().splitlines()[-1]
+        t[contender] = None if out == "none" else float(out)
+    return t
+
+
 def main():
     ap = argparse.ArgumentParser()
     ap.add_argument("--sizes", type=int, nargs="+", default=[1000, 100_000, 1_000_000])
@@ -281,11 +291,7 @@ def main():
     print(f"{'function':<18} {'N':>9} {'rotaframe':>9} {'numpy':>9} {'numba':>9} {'floor':>9} {'vs numpy':>9} {'vs numba':>8} {'vs floor':>8}")
     for function in FUNCTIONS:
         for n in args.sizes:
-            t = {}
-            for contender in CONTENDERS:
-                out = subprocess.run([sys.executable, __file__, "--repeat", str(args.repeat), "--one", function, str(n), contender],
-                                     capture_output=True, text=True, check=True).stdout.strip().splitlines()[-1]
-                t[contender] = None if out == "none" else float(out)
+            t = measure_fresh(function, n, CONTENDERS, args.repeat)
             nb = f"{t['numba']:9.1f}" if t["numba"] is not None else "      n/a"
             nb_ratio = f"{t['numba'] / t['rotaframe']:7.1f}x" if t["numba"] is not None else "     n/a"
             print(f"{function:<18} {n:>9} {t['rotaframe']:9.1f} {t['numpy']:9.1f} {nb} {t['floor']:9.1f} "
@@ -296,11 +302,7 @@ def main():
     print(f"{'function':<18} {'N':>9} {'out=':>9} {'2 thr':>9} {'numba':>9} {'floor':>9} {'vs floor':>8} {'2thr/fl':>8} {'vs numba':>8} {'threads':>8}")
     for function in FUNCTIONS:
         for n in args.sizes:
-            t = {}
-            for contender in OUT_CONTENDERS:
-                out = subprocess.run([sys.executable, __file__, "--repeat", str(args.repeat), "--one", function, str(n), contender],
-                                     capture_output=True, text=True, check=True).stdout.strip().splitlines()[-1]
-                t[contender] = None if out == "none" else float(out)
+            t = measure_fresh(function, n, OUT_CONTENDERS, args.repeat)
             one, two, fl = t["rotaframe out="], t["rotaframe out= threads=2"], t["floor out="]
             nb = f"{t['numba out=']:9.1f}" if t["numba out="] is not None else "      n/a"
             nb_ratio = f"{t['numba out='] / one:7.2f}x" if t["numba out="] is not None else "     n/a"
