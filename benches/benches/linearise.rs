@@ -4,8 +4,10 @@
 //! Run with `cargo bench -p rotaframe-benches --bench linearise`.
 //!
 //! * `strapdown_step_ned`: the baseline, one NED strapdown step.
-//! * `phi_qd_15`: `F`, `G` at the state and `Φ`, `Q_d` over the interval for 15 states (the
-//!   goal: below ten strapdown steps).
+//! * `phi_qd_15`, `phi_qd_15_second_order`: `F`, `G` at the state and `Φ`, `Q_d` over the
+//!   interval for 15 states, exact and second order (the goal: below ten strapdown steps);
+//! * `phi_qd_15_given_f`, `phi_qd_15_second_order_given_f`: the same discretisations alone,
+//!   on models built beforehand.
 //! * `covariance_step_15`: one step of `predict_covariance` (the model, the covariance
 //!   propagated by its own series without forming `Φ` and `Q_d`, and the strapdown step).
 
@@ -69,6 +71,26 @@ fn linearise(c: &mut Criterion) {
                     )
                     .unwrap();
                     let (phi, qd) = discretise(&f, &g, &psd, t).unwrap();
+                    sum += phi[(3, 7)] + qd[(3, 3)];
+                }
+                black_box(sum)
+            })
+        });
+    }
+    // The discretisations alone, on models built beforehand (one per increment).
+    let models: Vec<_> = incs
+        .iter()
+        .map(|inc| {
+            let t = inc.interval;
+            error_model::<15>(initial.config(), &state, &(inc.delta_velocity / t), &(inc.delta_angle / t), times).unwrap()
+        })
+        .collect();
+    for (name, discretise) in [("phi_qd_15_given_f", exact), ("phi_qd_15_second_order_given_f", second_order)] {
+        group.bench_function(name, |b| {
+            b.iter(|| {
+                let mut sum = 0.0;
+                for (f, g) in &models {
+                    let (phi, qd) = discretise(black_box(f), g, &psd, 0.01).unwrap();
                     sum += phi[(3, 7)] + qd[(3, 3)];
                 }
                 black_box(sum)

@@ -165,6 +165,7 @@ pub fn bias_covariance<const N: usize>(model: &ImuErrorModel) -> SMatrix<f64, N,
 /// assert!((f[(3, 7)] + 9.8).abs() < 1e-12);
 /// assert_eq!(g.ncols(), 12);
 /// ```
+#[inline]
 pub fn error_model<const N: usize>(
     config: &StrapdownConfig,
     state: &MechanizationState,
@@ -361,14 +362,22 @@ fn apply_vertical_channel<const N: usize>(
 /// let (phi, qd) = discretise(&f, &g, &SVector::<f64, 1>::new(2.0), 0.5).unwrap();
 /// assert_eq!((phi[(0, 0)], qd[(0, 0)]), (1.0, 1.0));
 /// ```
+#[inline]
 pub fn discretise<const N: usize, const M: usize>(
     f: &SMatrix<f64, N, N>,
     g: &SMatrix<f64, N, M>,
     psd: &SVector<f64, M>,
     interval: f64,
 ) -> Result<(SMatrix<f64, N, N>, SMatrix<f64, N, N>)> {
-    let qc = checked_noise_covariance(f, g, psd, interval)?;
-    Ok(discretise_covariance(f, &qc, interval))
+    check_discretisation(f, g, psd, interval)?;
+    let (mut phi, mut q) = (SMatrix::<f64, N, N>::zeros(), SMatrix::<f64, N, N>::zeros());
+    padded_call!(
+        exact_15_fast,
+        exact_21_fast,
+        exact_from_noise_input,
+        (f.as_slice(), g.as_slice(), psd.as_slice(), interval, phi.as_mut_slice(), q.as_mut_slice())
+    );
+    Ok((phi, q))
 }
 
 /// [`discretise`] truncated at second order: `Φ = I + F T + F² T²/2`,
@@ -392,62 +401,70 @@ pub fn discretise<const N: usize, const M: usize>(
 /// assert_eq!(qd[(1, 1)], qd_exact[(1, 1)]); // q T; the position entries miss q T³/3
 /// assert!((qd[(0, 0)] - qd_exact[(0, 0)]).abs() <= 0.1f64.powi(3) / 3.0 + 1e-18);
 /// ```
+#[inline]
 pub fn discretise_second_order<const N: usize, const M: usize>(
     f: &SMatrix<f64, N, N>,
     g: &SMatrix<f64, N, M>,
     psd: &SVector<f64, M>,
     interval: f64,
 ) -> Result<(SMatrix<f64, N, N>, SMatrix<f64, N, N>)> {
-    let qc = checked_noise_covariance(f, g, psd, interval)?;
+    check_discretisation(f, g, psd, interval)?;
     let (mut phi, mut q) = (SMatrix::<f64, N, N>::zeros(), SMatrix::<f64, N, N>::zeros());
     padded_call!(
         second_order_15_fast,
         second_order_21_fast,
         second_order_body,
-        (f.as_slice(), qc.as_slice(), interval, phi.as_mut_slice(), q.as_mut_slice())
+        (f.as_slice(), g.as_slice(), psd.as_slice(), interval, phi.as_mut_slice(), q.as_mut_slice())
     );
     Ok((phi, q))
 }
 
-crate::fast_twin!(fn second_order_15_fast(f: &[f64], qc: &[f64], interval: f64, phi: &mut [f64], q: &mut [f64]) -> () = second_order_body::<15, 16>);
-crate::fast_twin!(fn second_order_21_fast(f: &[f64], qc: &[f64], interval: f64, phi: &mut [f64], q: &mut [f64]) -> () = second_order_body::<21, 24>);
+crate::fast_twin!(fn second_order_15_fast(f: &[f64], g: &[f64], psd: &[f64], interval: f64, phi: &mut [f64], q: &mut [f64]) -> () = second_order_body::<15, 16>);
+crate::fast_twin!(fn second_order_21_fast(f: &[f64], g: &[f64], psd: &[f64], interval: f64, phi: &mut [f64], q: &mut [f64]) -> () = second_order_body::<21, 24>);
 
-/// The second-order truncation on padded rows (as [`discretise_body`]).
+/// The second-order truncation, from `F` (column-major) and the noise input `G` (column-major)
+/// with its densities, into `phi` (column-major) and `q` (symmetric). It works on
+/// transposes, so that every product has a sparse left factor and the columns of `F` (its
+/// contiguous storage) as the rows it combines: `(F F)ᵀ = Fᵀ Fᵀ` and `(F Q_c)ᵀ = Q_c Fᵀ`.
 #[inline(always)]
-fn second_order_body<const N: usize, const W: usize>(f: &[f64], qc: &[f64], t: f64, phi_out: &mut [f64], q_out: &mut [f64]) {
-    let pattern = RowPattern::of(f);
-    // Φ = I + F T + F (F T) T/2.
-    let ft = Rows::<N, W>::from_columns(f, t);
-    let mut phi = Rows::<N, W>::zeros();
-    left_product(&pattern, &ft, 0.5 * t, &mut phi);
-    phi.add_assign(&ft);
-    // Q_d = Q_c T + S + Sᵀ with S = F (Q_c T) T/2.
-    let qt = Rows::<N, W>::from_columns(qc, t);
+fn second_order_body<const N: usize, const W: usize>(
+    f: &[f64],
+    g: &[f64],
+    psd: &[f64],
+    t: f64,
+    phi_out: &mut [f64],
+    q_out: &mut [f64],
+) {
+    let f_transposed = Rows::<N, W>::from_rows_of(f);
+    let half_t2 = 0.5 * t * t;
+    // Φ = I + F T + F F T²/2, written column by column (the rows of Φᵀ).
     let mut product = Rows::<N, W>::zeros();
-    left_product(&pattern, &qt, 0.5 * t, &mut product);
-    for i in 0..N {
-        phi.0[i][i] += 1.0;
-        for j in 0..N {
-            phi_out[j * N + i] = phi.0[i][j];
+    left_product(&RowPattern::<N>::of_rows(&f_transposed), &f_transposed, half_t2, &mut product);
+    for (j, ((out, p), c)) in phi_out.chunks_exact_mut(N).zip(&product.0).zip(&f_transposed.0).enumerate() {
+        for ((o, &p), &c) in out.iter_mut().zip(p).zip(c) {
+            *o = p + c * t;
         }
+        out[j] += 1.0;
     }
-    // Q symmetric to the last bit: entry (i, j) and (j, i) are the same sum.
-    for i in 0..N {
-        for j in 0..=i {
-            let v = qt.0[i][j] + (product.0[i][j] + product.0[j][i]);
-            q_out[j * N + i] = v;
-            q_out[i * N + j] = v;
+    // Q_d = Q_c T + S + Sᵀ with Sᵀ = Q_c Fᵀ T²/2.
+    let qc = noise_rows::<N, W>(g, psd);
+    left_product(&RowPattern::<N>::of_rows(&qc), &f_transposed, half_t2, &mut product);
+    let mut q = Rows::<N, W>::zeros();
+    symmetric_sum(&product, &mut q);
+    for ((out, q_row), qc_row) in q_out.chunks_exact_mut(N).zip(&q.0).zip(&qc.0) {
+        for ((o, &s), &c) in out.iter_mut().zip(q_row).zip(qc_row) {
+            *o = c * t + s;
         }
     }
 }
 
-/// `Q_c = G diag(psd) Gᵀ` after the checks of [`discretise`].
-fn checked_noise_covariance<const N: usize, const M: usize>(
+/// The checks of [`discretise`]: the interval, finite `F`, `G`, densities, none negative.
+fn check_discretisation<const N: usize, const M: usize>(
     f: &SMatrix<f64, N, N>,
     g: &SMatrix<f64, N, M>,
     psd: &SVector<f64, M>,
     interval: f64,
-) -> Result<SMatrix<f64, N, N>> {
+) -> Result<()> {
     ImuIncrement::new(Vector3::zeros(), Vector3::zeros(), interval).validate()?;
     crate::error::ensure_finite(f.as_slice(), "f")?;
     crate::error::ensure_finite(g.as_slice(), "g")?;
@@ -455,10 +472,11 @@ fn checked_noise_covariance<const N: usize, const M: usize>(
     if psd.iter().any(|&q| q < 0.0) {
         return Err(Error::Invalid { quantity: "psd", reason: "spectral densities must be non-negative" });
     }
-    Ok(noise_covariance(g, psd))
+    Ok(())
 }
 
-/// As [`discretise`] with the continuous noise covariance `Q_c = G Q Gᵀ` given (not checked).
+/// As [`discretise`] with the continuous noise covariance `Q_c = G Q Gᵀ` given (not checked;
+/// used through its lower triangle, as a symmetric matrix).
 ///
 /// The 15- and 21-state sizes run on rows padded to a multiple of four lanes, and with an
 /// AVX2 twin where the CPU has it (the same bits; see [`dispatch`](crate::dispatch)).
@@ -470,30 +488,58 @@ pub fn discretise_covariance<const N: usize>(
 ) -> (SMatrix<f64, N, N>, SMatrix<f64, N, N>) {
     let (mut phi, mut q) = (SMatrix::<f64, N, N>::zeros(), SMatrix::<f64, N, N>::zeros());
     padded_call!(
-        discretise_15_fast,
-        discretise_21_fast,
-        discretise_body,
+        exact_qc_15_fast,
+        exact_qc_21_fast,
+        exact_from_covariance,
         (f.as_slice(), qc.as_slice(), interval, phi.as_mut_slice(), q.as_mut_slice())
     );
     (phi, q)
 }
 
-crate::fast_twin!(fn discretise_15_fast(f: &[f64], qc: &[f64], interval: f64, phi: &mut [f64], q: &mut [f64]) -> () = discretise_body::<15, 16>);
-crate::fast_twin!(fn discretise_21_fast(f: &[f64], qc: &[f64], interval: f64, phi: &mut [f64], q: &mut [f64]) -> () = discretise_body::<21, 24>);
+crate::fast_twin!(fn exact_15_fast(f: &[f64], g: &[f64], psd: &[f64], interval: f64, phi: &mut [f64], q: &mut [f64]) -> () = exact_from_noise_input::<15, 16>);
+crate::fast_twin!(fn exact_21_fast(f: &[f64], g: &[f64], psd: &[f64], interval: f64, phi: &mut [f64], q: &mut [f64]) -> () = exact_from_noise_input::<21, 24>);
+crate::fast_twin!(fn exact_qc_15_fast(f: &[f64], qc: &[f64], interval: f64, phi: &mut [f64], q: &mut [f64]) -> () = exact_from_covariance::<15, 16>);
+crate::fast_twin!(fn exact_qc_21_fast(f: &[f64], qc: &[f64], interval: f64, phi: &mut [f64], q: &mut [f64]) -> () = exact_from_covariance::<21, 24>);
 
-/// The discretisation on `N` rows of `W ≥ N` entries (the padding stays zero), from `F` and
-/// `Q_c` given column-major (`N²` values each) into `phi` and `q` (column-major): slices, so
-/// that no layer copies the matrices.
 #[inline(always)]
-fn discretise_body<const N: usize, const W: usize>(f: &[f64], qc: &[f64], interval: f64, phi_out: &mut [f64], q_out: &mut [f64]) {
-    // Halve until ‖F t‖∞ ≤ 1/4 (at most 60 halvings: F is finite).
-    let mut row_sums = [0.0f64; N];
-    for column in f.chunks_exact(N) {
-        for (s, x) in row_sums.iter_mut().zip(column) {
-            *s += x.abs();
+fn exact_from_noise_input<const N: usize, const W: usize>(
+    f: &[f64],
+    g: &[f64],
+    psd: &[f64],
+    interval: f64,
+    phi: &mut [f64],
+    q: &mut [f64],
+) {
+    discretise_body::<N, W>(f, &noise_rows::<N, W>(g, psd), interval, phi, q);
+}
+
+#[inline(always)]
+fn exact_from_covariance<const N: usize, const W: usize>(f: &[f64], qc: &[f64], interval: f64, phi: &mut [f64], q: &mut [f64]) {
+    // The lower triangle, mirrored: the series keeps every term exactly symmetric.
+    let mut rows = Rows::<N, W>::zeros();
+    for (j, column) in qc.chunks_exact(N).enumerate() {
+        for (i, &x) in column.iter().enumerate().skip(j) {
+            rows.0[i][j] = x;
+            rows.0[j][i] = x;
         }
     }
-    let norm = row_sums.iter().fold(0.0f64, |a, &b| if b > a { b } else { a });
+    discretise_body::<N, W>(f, &rows, interval, phi, q);
+}
+
+/// The discretisation on rows padded to `W ≥ N` entries (the padding stays zero), from `F`
+/// (column-major, `N²` values) and `Q_c` into `phi` (column-major) and `q` (symmetric): slices,
+/// so that no layer copies the matrices.
+#[inline(always)]
+fn discretise_body<const N: usize, const W: usize>(
+    f: &[f64],
+    qc: &Rows<N, W>,
+    interval: f64,
+    phi_out: &mut [f64],
+    q_out: &mut [f64],
+) {
+    let pattern = RowPattern::<N>::of(f);
+    // Halve until ‖F t‖∞ ≤ 1/4 (at most 60 halvings: F is finite).
+    let norm = pattern.norm_inf();
     let mut halvings = 0;
     let mut t = interval;
     while norm * t > 0.25 && halvings < 60 {
@@ -502,14 +548,9 @@ fn discretise_body<const N: usize, const W: usize>(f: &[f64], qc: &[f64], interv
     }
     let mut phi = Rows::<N, W>::zeros();
     let mut q = Rows::<N, W>::zeros();
-    taylor::<N, W>(f, qc, t, &mut phi, &mut q);
-    // Write column-major; Q symmetric to the last bit (the mean of the two triangles).
-    for i in 0..N {
-        for j in 0..N {
-            phi_out[j * N + i] = phi.0[i][j];
-            q_out[j * N + i] = 0.5 * (q.0[i][j] + q.0[j][i]);
-        }
-    }
+    taylor::<N, W>(&pattern, qc, t, &mut phi, &mut q);
+    phi.write_transposed(phi_out);
+    q.write_symmetric(q_out);
     if halvings > 0 {
         let mut p = SMatrix::<f64, N, N>::from_column_slice(phi_out);
         let mut qm = SMatrix::<f64, N, N>::from_column_slice(q_out);
@@ -523,23 +564,29 @@ fn discretise_body<const N: usize, const W: usize>(f: &[f64], qc: &[f64], interv
     }
 }
 
-/// A square matrix stored by rows of `W ≥ N` entries, the padding zero: row updates run in
-/// whole vector lanes.
+/// A square matrix stored by rows: `W ≥ N` rows of `W` entries, of which the leading `N × N`
+/// block is used and the rest stays zero, so that row updates run in whole vector lanes and
+/// transposes in 4 × 4 blocks.
 #[derive(Clone, Copy)]
-struct Rows<const N: usize, const W: usize>([[f64; W]; N]);
+#[repr(C, align(32))]
+struct Rows<const N: usize, const W: usize>([[f64; W]; W]);
 
 impl<const N: usize, const W: usize> Rows<N, W> {
     #[inline(always)]
     fn zeros() -> Self {
-        Self([[0.0; W]; N])
+        Self([[0.0; W]; W])
     }
     #[inline(always)]
     fn identity() -> Self {
         let mut m = Self::zeros();
-        for i in 0..N {
-            m.0[i][i] = 1.0;
-        }
+        m.add_identity();
         m
+    }
+    #[inline(always)]
+    fn add_identity(&mut self) {
+        for i in 0..N {
+            self.0[i][i] += 1.0;
+        }
     }
     /// From `N²` values in column-major order, scaled.
     #[inline(always)]
@@ -552,9 +599,27 @@ impl<const N: usize, const W: usize> Rows<N, W> {
         }
         out
     }
+    /// The rows of this matrix are the `N` contiguous groups of `N` values of `m` (the
+    /// columns of a column-major matrix), padded.
+    #[inline(always)]
+    fn from_rows_of(m: &[f64]) -> Self {
+        let mut out = Self::zeros();
+        for (row, group) in out.0.iter_mut().zip(m.chunks_exact(N)) {
+            row[..N].copy_from_slice(group);
+        }
+        out
+    }
     #[inline(always)]
     fn matrix(&self) -> SMatrix<f64, N, N> {
         SMatrix::from_fn(|i, j| self.0[i][j])
+    }
+    #[inline(always)]
+    fn scale(&mut self, factor: f64) {
+        for row in &mut self.0 {
+            for x in row.iter_mut() {
+                *x *= factor;
+            }
+        }
     }
     #[inline(always)]
     fn add_assign(&mut self, other: &Self) {
@@ -576,6 +641,81 @@ impl<const N: usize, const W: usize> Rows<N, W> {
         }
         m.iter().fold(0.0, |a, &b| if b > a { b } else { a })
     }
+    /// Writes the `N × N` block in column-major order (its transpose by rows, in blocks).
+    #[inline(always)]
+    fn write_transposed(&self, out: &mut [f64]) {
+        let mut transposed = Self::zeros();
+        transpose_blocks(self, &mut transposed, false);
+        for (column, row) in out.chunks_exact_mut(N).zip(&transposed.0) {
+            column.copy_from_slice(&row[..N]);
+        }
+    }
+    /// Writes the `N × N` block of a symmetric matrix (its rows are its columns).
+    #[inline(always)]
+    fn write_symmetric(&self, out: &mut [f64]) {
+        for (column, row) in out.chunks_exact_mut(N).zip(&self.0) {
+            column.copy_from_slice(&row[..N]);
+        }
+    }
+}
+
+/// `out = a + aᵀ` (exactly symmetric: entries `(i, j)` and `(j, i)` are the same sum).
+#[inline(always)]
+fn symmetric_sum<const N: usize, const W: usize>(a: &Rows<N, W>, out: &mut Rows<N, W>) {
+    transpose_blocks(a, out, true);
+}
+
+/// `out = aᵀ`, or `a + aᵀ` with `add`, by 4 × 4 blocks when `W` is a multiple of four (each
+/// block read as four row vectors and rearranged in registers), else entry by entry.
+#[inline(always)]
+fn transpose_blocks<const N: usize, const W: usize>(a: &Rows<N, W>, out: &mut Rows<N, W>, add: bool) {
+    if !W.is_multiple_of(4) {
+        for i in 0..W {
+            for j in 0..W {
+                out.0[i][j] = if add { a.0[i][j] + a.0[j][i] } else { a.0[j][i] };
+            }
+        }
+        return;
+    }
+    for bi in (0..W).step_by(4) {
+        for bj in (0..=bi).step_by(4) {
+            // Blocks (bi, bj) and (bj, bi) of the result from blocks (bj, bi) and (bi, bj).
+            let (lower, upper) = (block4(a, bi, bj), block4(a, bj, bi));
+            let (mut new_lower, mut new_upper) = (transpose4(&upper), transpose4(&lower));
+            if add {
+                for r in 0..4 {
+                    for c in 0..4 {
+                        new_lower[r][c] += lower[r][c];
+                    }
+                }
+                new_upper = transpose4(&new_lower);
+            }
+            for r in 0..4 {
+                out.0[bi + r][bj..bj + 4].copy_from_slice(&new_lower[r]);
+                out.0[bj + r][bi..bi + 4].copy_from_slice(&new_upper[r]);
+            }
+        }
+    }
+}
+
+/// The 4 × 4 block of `a` at (`row`, `column`), as four row vectors. (Functions, not
+/// closures, so that they are inlined into each CPU path; see `dispatch`.)
+#[inline(always)]
+fn block4<const N: usize, const W: usize>(a: &Rows<N, W>, row: usize, column: usize) -> [[f64; 4]; 4] {
+    core::array::from_fn(|r| {
+        let lanes = &a.0[row + r][column..column + 4];
+        [lanes[0], lanes[1], lanes[2], lanes[3]]
+    })
+}
+
+#[inline(always)]
+fn transpose4(m: &[[f64; 4]; 4]) -> [[f64; 4]; 4] {
+    [
+        [m[0][0], m[1][0], m[2][0], m[3][0]],
+        [m[0][1], m[1][1], m[2][1], m[3][1]],
+        [m[0][2], m[1][2], m[2][2], m[3][2]],
+        [m[0][3], m[1][3], m[2][3], m[3][3]],
+    ]
 }
 
 /// The Taylor series of `Φ` and `Q_d` over a short interval.
@@ -584,8 +724,13 @@ impl<const N: usize, const W: usize> Rows<N, W> {
 /// 70 non-zero entries of 225): row `i` of `F X` is the sum over the non-zero `F[i, k]` of
 /// `F[i, k]` times row `k` of `X`, one vectorised row update per non-zero entry.
 #[inline(always)]
-fn taylor<const N: usize, const W: usize>(f: &[f64], qc: &[f64], t: f64, phi: &mut Rows<N, W>, q: &mut Rows<N, W>) {
-    let pattern = RowPattern::of(f);
+fn taylor<const N: usize, const W: usize>(
+    pattern: &RowPattern<N>,
+    qc: &Rows<N, W>,
+    t: f64,
+    phi: &mut Rows<N, W>,
+    q: &mut Rows<N, W>,
+) {
     // Φ = Σ (F T)ᵏ/k!: term ← F term T/k, in two buffers used in turn.
     *phi = Rows::<N, W>::identity();
     let mut terms = [Rows::<N, W>::identity(), Rows::<N, W>::zeros()];
@@ -595,7 +740,7 @@ fn taylor<const N: usize, const W: usize>(f: &[f64], qc: &[f64], t: f64, phi: &m
     for k in 1..30 {
         let [even, odd] = &mut terms;
         let (last, term) = if k % 2 == 1 { (&*even, odd) } else { (&*odd, even) };
-        left_product(&pattern, last, t / f64::from(k), term);
+        left_product(pattern, last, t / f64::from(k), term);
         phi.add_assign(term);
         if k == 1 {
             threshold = 1e-16 * phi.largest();
@@ -605,17 +750,14 @@ fn taylor<const N: usize, const W: usize>(f: &[f64], qc: &[f64], t: f64, phi: &m
         }
     }
     // Q_{k+1} = F Q_k + Q_k Fᵀ = S + Sᵀ with S = F Q_k (Q_k symmetric).
-    let mut q_term = Rows::<N, W>::from_columns(qc, t);
+    let mut q_term = *qc;
+    q_term.scale(t);
     *q = q_term;
     let product = &mut terms[0];
     let mut threshold = 1e-16 * q_term.largest();
     for k in 2..30 {
-        left_product(&pattern, &q_term, t / f64::from(k), product);
-        for i in 0..N {
-            for j in 0..N {
-                q_term.0[i][j] = product.0[i][j] + product.0[j][i];
-            }
-        }
+        left_product(pattern, &q_term, t / f64::from(k), product);
+        symmetric_sum(product, &mut q_term);
         q.add_assign(&q_term);
         if k == 2 {
             threshold = threshold.max(1e-16 * q.largest());
@@ -629,28 +771,54 @@ fn taylor<const N: usize, const W: usize>(f: &[f64], qc: &[f64], t: f64, phi: &m
 /// The columns and values of each row's non-zero entries.
 struct RowPattern<const N: usize> {
     count: [usize; N],
-    columns: [[usize; N]; N],
+    columns: [[u8; N]; N],
     values: [[f64; N]; N],
 }
 
 impl<const N: usize> RowPattern<N> {
-    /// The pattern of a matrix given column-major (`N²` values).
+    /// The pattern of a matrix given column-major (`N²` values; `N` below 256).
     #[inline(always)]
     fn of(a: &[f64]) -> Self {
         let mut pattern = Self { count: [0; N], columns: [[0; N]; N], values: [[0.0; N]; N] };
         for (k, column) in a.chunks_exact(N).enumerate() {
             for (i, &x) in column.iter().enumerate() {
                 let c = pattern.count[i];
-                pattern.columns[i][c] = k;
+                pattern.columns[i][c] = k as u8;
                 pattern.values[i][c] = x;
                 pattern.count[i] += usize::from(x != 0.0);
             }
         }
         pattern
     }
+    /// The pattern of the `N × N` block of padded rows.
+    #[inline(always)]
+    fn of_rows<const W: usize>(a: &Rows<N, W>) -> Self {
+        let mut pattern = Self { count: [0; N], columns: [[0; N]; N], values: [[0.0; N]; N] };
+        for (i, row) in a.0.iter().enumerate().take(N) {
+            let mut c = 0;
+            for (k, &x) in row[..N].iter().enumerate() {
+                pattern.columns[i][c] = k as u8;
+                pattern.values[i][c] = x;
+                c += usize::from(x != 0.0);
+            }
+            pattern.count[i] = c;
+        }
+        pattern
+    }
+    /// The largest row sum of magnitudes (the ∞-norm).
+    #[inline(always)]
+    fn norm_inf(&self) -> f64 {
+        let mut norm = 0.0f64;
+        for (values, &count) in self.values.iter().zip(&self.count) {
+            let sum = values[..count].iter().fold(0.0, |s, x| s + x.abs());
+            norm = if sum > norm { sum } else { norm };
+        }
+        norm
+    }
 }
 
-/// `out = scale A X` for `A` with the given pattern (its non-zero entries).
+/// `out = scale A X` for `A` with the given pattern (its non-zero entries); rows `N..W` of
+/// `out` are left as they are (zero).
 #[inline(always)]
 fn left_product<const N: usize, const W: usize>(pattern: &RowPattern<N>, x: &Rows<N, W>, scale: f64, out: &mut Rows<N, W>) {
     for i in 0..N {
@@ -659,7 +827,7 @@ fn left_product<const N: usize, const W: usize>(pattern: &RowPattern<N>, x: &Row
         let count = pattern.count[i];
         for (&k, &value) in pattern.columns[i][..count].iter().zip(&pattern.values[i][..count]) {
             let factor = value * scale;
-            for (r, v) in row.iter_mut().zip(&x.0[k]) {
+            for (r, v) in row.iter_mut().zip(&x.0[usize::from(k)]) {
                 *r += factor * v;
             }
         }
@@ -667,29 +835,47 @@ fn left_product<const N: usize, const W: usize>(pattern: &RowPattern<N>, x: &Row
     }
 }
 
-/// `G diag(psd) Gᵀ` as a sum of outer products over the non-zero entries of each column of
-/// `G` (an INS model's columns have at most three).
-fn noise_covariance<const N: usize, const M: usize>(g: &SMatrix<f64, N, M>, psd: &SVector<f64, M>) -> SMatrix<f64, N, N> {
-    let mut qc = SMatrix::<f64, N, N>::zeros();
-    for m in 0..M {
-        if psd[m] == 0.0 {
+/// Calls `add(i, j, value)` for the entries of `G diag(psd) Gᵀ` (`G` column-major, `N` rows),
+/// a sum of outer products over the non-zero entries of each column of `G` (an INS model's
+/// columns have at most three). Each off-diagonal value is given for `(i, j)` and `(j, i)`
+/// alike, so that the sum is exactly symmetric.
+#[inline(always)]
+fn noise_entries<const N: usize>(g: &[f64], psd: &[f64], mut add: impl FnMut(usize, usize, f64)) {
+    for (column, &density) in g.chunks_exact(N).zip(psd) {
+        if density == 0.0 {
             continue;
         }
-        // The column's non-zero entries (contiguous in column-major storage).
-        let column = &g.as_slice()[m * N..(m + 1) * N];
         let mut rows = [0usize; N];
         let mut count = 0;
         for (i, &x) in column.iter().enumerate() {
             rows[count] = i;
             count += usize::from(x != 0.0);
         }
-        for &i in &rows[..count] {
-            let scaled = psd[m] * column[i];
-            for &j in &rows[..count] {
-                qc[(i, j)] += scaled * column[j];
+        for (a, &i) in rows[..count].iter().enumerate() {
+            let scaled = density * column[i];
+            for &j in &rows[a..count] {
+                let value = scaled * column[j];
+                add(i, j, value);
+                if i != j {
+                    add(j, i, value);
+                }
             }
         }
     }
+}
+
+/// `G diag(psd) Gᵀ` by padded rows.
+#[inline(always)]
+fn noise_rows<const N: usize, const W: usize>(g: &[f64], psd: &[f64]) -> Rows<N, W> {
+    let mut qc = Rows::<N, W>::zeros();
+    noise_entries::<N>(g, psd, |i, j, v| qc.0[i][j] += v);
+    qc
+}
+
+/// `G diag(psd) Gᵀ`.
+fn noise_covariance<const N: usize, const M: usize>(g: &SMatrix<f64, N, M>, psd: &SVector<f64, M>) -> SMatrix<f64, N, N> {
+    let mut qc = SMatrix::<f64, N, N>::zeros();
+    noise_entries::<N>(g.as_slice(), psd.as_slice(), |i, j, v| qc[(i, j)] += v);
     qc
 }
 
@@ -746,7 +932,7 @@ crate::fast_twin!(fn lyapunov_21_fast(f: &Square<21>, qc: &Square<21>, p: &Squar
 
 #[inline(always)]
 fn lyapunov_series<const N: usize, const W: usize>(f: &Square<N>, qc: &Square<N>, p: &Square<N>, t: f64) -> Square<N> {
-    let pattern = RowPattern::of(f.as_slice());
+    let pattern = RowPattern::<N>::of(f.as_slice());
     let mut sum = Rows::<N, W>::from_columns(p.as_slice(), 1.0);
     let mut term = sum;
     let mut product = Rows::<N, W>::zeros();
@@ -759,11 +945,7 @@ fn lyapunov_series<const N: usize, const W: usize>(f: &Square<N>, qc: &Square<N>
         }
         // The term (the product plus its transpose), then one vectorised pass that adds it
         // and finds the largest excess of an entry over its tolerance.
-        for i in 0..N {
-            for j in 0..N {
-                term.0[i][j] = product.0[i][j] + product.0[j][i];
-            }
-        }
+        symmetric_sum(&product, &mut term);
         if k == 1 {
             for i in 0..N {
                 for j in 0..N {
