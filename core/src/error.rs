@@ -137,6 +137,17 @@ pub enum Error {
         /// Why it was rejected.
         reason: &'static str,
     },
+    /// Data that cannot determine some of the parameters asked of them (a calibration whose
+    /// positions leave parameters unobservable).
+    #[error("`{quantity}` cannot determine {parameters}: {reason}")]
+    Unobservable {
+        /// The rejected quantity.
+        quantity: &'static str,
+        /// The parameters it cannot determine (or separate from others).
+        parameters: crate::calibrate::ParameterSet,
+        /// Why, and what would help.
+        reason: &'static str,
+    },
 }
 
 impl Error {
@@ -159,7 +170,8 @@ impl Error {
             | Error::NearEarthCentre { quantity, .. }
             | Error::LengthMismatch { quantity, .. }
             | Error::BeyondLimit { quantity, .. }
-            | Error::Invalid { quantity, .. } => quantity,
+            | Error::Invalid { quantity, .. }
+            | Error::Unobservable { quantity, .. } => quantity,
         }
     }
 }
@@ -189,6 +201,7 @@ impl Error {
             Error::LengthMismatch { found, expected, .. } => Error::LengthMismatch { quantity, found, expected },
             Error::BeyondLimit { magnitude, limit, unit, .. } => Error::BeyondLimit { quantity, magnitude, limit, unit },
             Error::Invalid { reason, .. } => Error::Invalid { quantity, reason },
+            Error::Unobservable { parameters, reason, .. } => Error::Unobservable { quantity, parameters, reason },
         }
     }
 }
@@ -273,7 +286,7 @@ pub(crate) fn ensure_finite(values: &[f64], quantity: &'static str) -> Result<()
     const EXPONENT: u64 = 0x7ff0_0000_0000_0000;
     let bad = values.iter().fold(0u64, |acc, v| acc | u64::from(v.to_bits() & EXPONENT == EXPONENT));
     if bad == 0 { Ok(()) } else { Err(Error::NonFinite { quantity }) }
-
+}
 
 /// Checks that a 3-vector is finite.
 #[inline]

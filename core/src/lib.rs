@@ -20,7 +20,10 @@
 //! * [`propagate`]: free-body trajectories in moving frames, with the deflection budget of
 //!   the apparent terms;
 //! * [`nav`]: ideal IMU output and increments, strapdown mechanization (NED and ECEF), sensor
-//!   error models, lever arms.
+//!   error models, lever arms;
+//! * [`linearise`]: Jacobians of the transforms and the inertial error-state model;
+//! * [`calibrate`]: IMU calibration from multi-position and rate-table tests, Allan deviation
+//!   and noise terms.
 //!
 //! ## Conventions
 //!
@@ -70,6 +73,7 @@ mod dd_tables;
 mod math;
 
 pub mod apparent;
+pub mod calibrate;
 pub mod dispatch;
 pub mod earth;
 pub mod error;

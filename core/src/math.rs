@@ -153,6 +153,13 @@ mod imp {
 
 pub(crate) use imp::*;
 
+/// The complementary error function (the `libm` crate's, on every build: the standard library
+/// has none).
+#[inline(always)]
+pub(crate) fn erfc(x: f64) -> f64 {
+    libm::erfc(x)
+}
+
 /// Norms below this are treated as zero when a direction is needed (about the square root of
 /// the smallest normal f64, so that squaring the components cannot underflow to zero first).
 pub(crate) const TINY_NORM: f64 = 1.0e-150;

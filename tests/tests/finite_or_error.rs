@@ -382,4 +382,64 @@ proptest! {
             n
         }, "propagate");
     }
+
+    #[test]
+    fn calibrations_are_finite_or_refused(
+        quats in prop::collection::vec(quat4(), 12),
+        readings in prop::collection::vec(vec3(), 12),
+        site in prop::array::uniform2(finite()),
+        noise in vec3(),
+        table in prop::array::uniform3(finite()),
+        which in 0u8..3,
+    ) {
+        use rotaframe::calibrate::{self, AccelerometerPosition, CalibrationSite, GyroRecord, TriadParameters};
+        // Any finite readings, attitudes, sites and noise; half the cases near physical values
+        // (so that the fits run to the end), half from the whole range.
+        let physical = which == 0;
+        let site = CalibrationSite::new(if physical { site[0].tanh() } else { site[0] }, if physical { site[1].tanh() * 1e3 } else { site[1] });
+        let readings: Vec<Vector3<f64>> = readings.iter().map(|r| if physical { r.map(f64::tanh) * 10.0 } else { *r }).collect();
+        let estimate = [TriadParameters::Full, TriadParameters::BiasAndScale, TriadParameters::Bias][usize::from(which)];
+        let sigma = if which == 1 { Some(noise.abs()) } else { None };
+        let numbers = |c: &calibrate::TriadCalibration| -> Vec<f64> {
+            c.parameters().iter().chain(c.covariance.iter()).chain(c.residual_rms.iter()).chain(c.noise.iter()).copied().chain([c.condition_number]).collect()
+        };
+        let positions: Vec<_> = quats.iter().zip(&readings).map(|(q, f)| AccelerometerPosition { attitude: rotation(*q), specific_force: *f }).collect();
+        let mut residuals = vec![0.0; 36];
+        check(calibrate::calibrate_accelerometers(&site, positions.iter().copied(), estimate, sigma.as_ref(), Some(&mut residuals)), numbers, "calibrate_accelerometers");
+        assert!(residuals.iter().all(|r| r.is_finite()));
+        let records: Vec<_> = quats.iter().zip(&readings).map(|(q, w)| GyroRecord {
+            attitude: rotation(*q), table_axis_ned: Vector3::new(table[0], 1.0, table[1]), table_rate: table[2], duration: table[0].abs(), angular_rate: *w,
+        }).collect();
+        check(calibrate::calibrate_gyros(&site, records.iter().copied(), estimate, sigma.as_ref(), None), numbers, "calibrate_gyros");
+        let mut magnitude = vec![0.0; 12];
+        if let Some(c) = check(calibrate::calibrate_accelerometers_by_magnitude(&site, readings.iter().copied(), sigma.as_ref(), Some(&mut magnitude)), numbers, "calibrate_accelerometers_by_magnitude") {
+            assert!(magnitude.iter().all(|r| r.is_finite()));
+            check(c.correct_increment(&readings[0], table[2]), v3, "correct_increment");
+        }
+        let mut perfect = calibrate::TriadCalibration::perfect();
+        perfect.bias = noise;
+        perfect.scale_factor = readings[1];
+        check(perfect.correct_increment(&readings[0], table[2]), v3, "correct_increment (any parameters)");
+    }
+
+    #[test]
+    fn allan_functions_are_finite_or_refused(samples in prop::collection::vec(finite(), 3..40), dt in finite(), confidence in finite(), taus in prop::array::uniform3(finite()), devs in prop::array::uniform3(finite()), dof in prop::array::uniform3(finite())) {
+        use rotaframe::calibrate::allan;
+        let mut sizes = [0usize; 64];
+        let count = allan::default_cluster_sizes(samples.len(), &mut sizes);
+        let mut scratch = vec![0.0; samples.len() + 1];
+        let mut points = vec![allan::AllanPoint::default(); count];
+        for (x, interval, level) in [(samples.clone(), dt, confidence), (samples.iter().map(|v| v.tanh()).collect::<Vec<_>>(), 0.01, 0.683)] {
+            check(allan::allan_deviation(&x, interval, &sizes[..count], level, &mut scratch, &mut points), |_| {
+                points.iter().flat_map(|p| [p.tau, p.deviation, p.lower, p.upper, p.degrees_of_freedom]).collect()
+            }, "allan_deviation");
+        }
+        let terms = |t: &allan::NoiseTerms| vec![t.white_noise, t.bias_instability, t.rate_random_walk];
+        check(allan::fit_noise_terms(&taus, &devs, Some(&dof)), terms, "fit_noise_terms");
+        let tame = |v: [f64; 3]| v.map(|x| 1e-3 + x.abs().min(1e3));
+        check(allan::fit_noise_terms(&tame(taus), &tame(devs), None), terms, "fit_noise_terms (tame)");
+        check(allan::gauss_markov_deviation(devs[0], taus[0], taus[1]), |d| vec![*d], "gauss_markov_deviation");
+        check(rotaframe::calibrate::chi_square_quantile(confidence, dof[0]), |q| vec![*q], "chi_square_quantile");
+        check(rotaframe::calibrate::chi_square_quantile(confidence.abs().fract().max(1e-300), dof[0].abs().max(1e-300)), |q| vec![*q], "chi_square_quantile (valid)");
+    }
 }
