@@ -36,6 +36,11 @@
 #include <stdint.h>
 
 /**
+ * The most cluster sizes one `rf_allan_deviation` call takes (the octaves of any record fit).
+ */
+#define RF_MAX_CLUSTER_SIZES 64
+
+/**
  * Bits of `rf_propagate_config.omit_terms`: apparent terms left out of the equations of
  * motion (for with/without studies). Zero keeps them all.
  */
@@ -117,6 +122,11 @@ enum rf_status
    * functions need disjoint buffers.
    */
   RF_STATUS_OVERLAPPING_BUFFERS = 12,
+  /**
+   * The data cannot determine the parameters asked of them (a calibration's positions
+   * leave some unobservable).
+   */
+  RF_STATUS_UNOBSERVABLE = 13,
 };
 #ifndef __cplusplus
 #if __STDC_VERSION__ >= 202311L
@@ -310,6 +320,68 @@ typedef uint32_t rf_gravitation;
 #endif // __cplusplus
 
 /**
+ * Which parameters a calibration with known attitudes estimates, for `parameters`.
+ */
+enum rf_triad_parameters
+#if defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+  : uint32_t
+#endif // defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+ {
+  /**
+   * Bias, scale factors and misalignments (12).
+   */
+  RF_TRIAD_FULL = 0,
+  /**
+   * Bias and scale factors (6).
+   */
+  RF_TRIAD_BIAS_SCALE = 1,
+  /**
+   * Bias only (3).
+   */
+  RF_TRIAD_BIAS = 2,
+};
+#ifndef __cplusplus
+#if __STDC_VERSION__ >= 202311L
+typedef enum rf_triad_parameters rf_triad_parameters;
+#else
+typedef uint32_t rf_triad_parameters;
+#endif // __STDC_VERSION__ >= 202311L
+#endif // __cplusplus
+
+/**
+ * The noise taken to dominate an Allan-deviation point, for `rf_allan_point.dominant`.
+ */
+enum rf_dominant_noise
+#if defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+  : uint32_t
+#endif // defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+ {
+  /**
+   * White noise of the integrated output (slope −1).
+   */
+  RF_NOISE_QUANTIZATION = 0,
+  /**
+   * White rate noise: angle or velocity random walk (slope −½).
+   */
+  RF_NOISE_WHITE = 1,
+  /**
+   * Flicker rate noise: bias instability (slope 0).
+   */
+  RF_NOISE_BIAS_INSTABILITY = 2,
+  /**
+   * Rate random walk (slope +½).
+   */
+  RF_NOISE_RATE_RANDOM_WALK = 3,
+};
+#ifndef __cplusplus
+#if __STDC_VERSION__ >= 202311L
+typedef enum rf_dominant_noise rf_dominant_noise;
+#else
+typedef uint32_t rf_dominant_noise;
+#endif // __STDC_VERSION__ >= 202311L
+#endif // __cplusplus
+
+/**
  * The constants of a reference ellipsoid with its normal gravity field. Obtain one from
  * `rf_earth_model_wgs84`, `rf_earth_model_grs80`, `rf_earth_model_from_defining_constants` or
  * `rf_earth_model_custom`; functions validate it on every call (ranges, and the plausibility
@@ -351,40 +423,27 @@ typedef struct rf_earth_model {
 } rf_earth_model;
 
 /**
- * Geodetic latitude and longitude (rad) and ellipsoidal height (m).
+ * Where a calibration test runs. All-zero is WGS 84, normal gravity, on the equator at zero
+ * height.
  */
-typedef struct rf_geodetic {
+typedef struct rf_calibration_site {
   /**
-   * Geodetic latitude (rad), in [−π/2, π/2].
+   * The Earth model.
+   */
+  struct rf_earth_model model;
+  /**
+   * An `rf_gravity_model` value (for the accelerometers' reference).
+   */
+  uint32_t gravity;
+  /**
+   * Geodetic latitude (rad).
    */
   double latitude;
   /**
-   * Longitude (rad), east positive.
-   */
-  double longitude;
-  /**
-   * Ellipsoidal height (m), positive above the ellipsoid.
+   * Ellipsoidal height (m).
    */
   double height;
-} rf_geodetic;
-
-/**
- * A 3-vector.
- */
-typedef struct rf_vec3 {
-  /**
-   * First component.
-   */
-  double x;
-  /**
-   * Second component.
-   */
-  double y;
-  /**
-   * Third component.
-   */
-  double z;
-} rf_vec3;
+} rf_calibration_site;
 
 /**
  * A Hamilton quaternion, scalar first.
@@ -407,6 +466,177 @@ typedef struct rf_quat {
    */
   double z;
 } rf_quat;
+
+/**
+ * A 3-vector.
+ */
+typedef struct rf_vec3 {
+  /**
+   * First component.
+   */
+  double x;
+  /**
+   * Second component.
+   */
+  double y;
+  /**
+   * Third component.
+   */
+  double z;
+} rf_vec3;
+
+/**
+ * One static position of an accelerometer test.
+ */
+typedef struct rf_accelerometer_position {
+  /**
+   * Body-to-NED attitude.
+   */
+  struct rf_quat attitude;
+  /**
+   * Mean accelerometer output (m/s², body axes).
+   */
+  struct rf_vec3 specific_force;
+} rf_accelerometer_position;
+
+/**
+ * The calibration of one triad.
+ */
+typedef struct rf_triad_calibration {
+  /**
+   * Bias (rad/s or m/s²).
+   */
+  struct rf_vec3 bias;
+  /**
+   * Scale-factor errors (dimensionless).
+   */
+  struct rf_vec3 scale_factor;
+  /**
+   * Misalignment, row-major, zero diagonal (dimensionless).
+   */
+  double misalignment[9];
+  /**
+   * Covariance of the 12 parameters, row-major.
+   */
+  double covariance[144];
+  /**
+   * RMS of the residuals per axis.
+   */
+  struct rf_vec3 residual_rms;
+  /**
+   * The per-axis noise of one position's mean behind the covariance.
+   */
+  struct rf_vec3 noise;
+  /**
+   * Condition number of the column-scaled design.
+   */
+  double condition_number;
+  /**
+   * Observations minus parameters (per axis for the fits with known attitudes).
+   */
+  uint64_t degrees_of_freedom;
+  /**
+   * Bit j set: parameter j was estimated.
+   */
+  uint64_t estimated;
+} rf_triad_calibration;
+
+/**
+ * One record of a gyro test: a static position (`table_rate` 0) or a rate-table run.
+ */
+typedef struct rf_gyro_record {
+  /**
+   * Body-to-NED attitude at the start of the record.
+   */
+  struct rf_quat attitude;
+  /**
+   * The table's spin axis, resolved in NED (ignored when `table_rate` is 0).
+   */
+  struct rf_vec3 table_axis_ned;
+  /**
+   * The table's rate about its axis (rad/s).
+   */
+  double table_rate;
+  /**
+   * The length of the record (s; ignored when `table_rate` is 0).
+   */
+  double duration;
+  /**
+   * Mean gyro output over the record (rad/s, body axes).
+   */
+  struct rf_vec3 angular_rate;
+} rf_gyro_record;
+
+/**
+ * One point of an Allan-deviation curve.
+ */
+typedef struct rf_allan_point {
+  /**
+   * Cluster time τ (s).
+   */
+  double tau;
+  /**
+   * Cluster size (samples).
+   */
+  uint64_t cluster_size;
+  /**
+   * Overlapping Allan deviation.
+   */
+  double deviation;
+  /**
+   * Lower confidence bound.
+   */
+  double lower;
+  /**
+   * Upper confidence bound.
+   */
+  double upper;
+  /**
+   * Equivalent degrees of freedom behind the bounds.
+   */
+  double degrees_of_freedom;
+  /**
+   * The noise taken to dominate (an `rf_dominant_noise` value), which sets the degrees of
+   * freedom.
+   */
+  uint32_t dominant;
+} rf_allan_point;
+
+/**
+ * Noise terms of a rate sensor (SI units of its output).
+ */
+typedef struct rf_noise_terms {
+  /**
+   * White rate noise density N (rad/√s or m/s/√s): the −½ slope at τ = 1 s.
+   */
+  double white_noise;
+  /**
+   * Bias instability B (rad/s or m/s²): the flat part over 0.664.
+   */
+  double bias_instability;
+  /**
+   * Rate random walk K (rad/s/√s or m/s²/√s): the +½ slope at τ = 3 s.
+   */
+  double rate_random_walk;
+} rf_noise_terms;
+
+/**
+ * Geodetic latitude and longitude (rad) and ellipsoidal height (m).
+ */
+typedef struct rf_geodetic {
+  /**
+   * Geodetic latitude (rad), in [−π/2, π/2].
+   */
+  double latitude;
+  /**
+   * Longitude (rad), east positive.
+   */
+  double longitude;
+  /**
+   * Ellipsoidal height (m), positive above the ellipsoid.
+   */
+  double height;
+} rf_geodetic;
 
 /**
  * The motion of a child frame C relative to a parent frame P: `rotation` maps C-coordinates
@@ -998,6 +1228,63 @@ typedef struct rf_drag {
 #ifdef __cplusplus
 extern "C" {
 #endif // __cplusplus
+
+/**
+ * Calibrates an accelerometer triad from `count` static positions with known attitudes
+ * (least squares against the site's plumb-line gravity). `parameters` is an
+ * `rf_triad_parameters` value; `noise` the standard deviation of a position's mean per axis
+ * (NULL: estimated from the residuals); `out_residuals` (NULL, or `3 count` values: x, y, z
+ * per position, measured minus model) receives the residuals. `RF_STATUS_UNOBSERVABLE` when
+ * the positions cannot determine the parameters asked for; `RF_STATUS_INVALID_ARGUMENT` for
+ * too few positions.
+ */
+rf_status rf_calibrate_accelerometers(const struct rf_calibration_site *calibration_site, const struct rf_accelerometer_position *positions, size_t count, uint32_t parameters_estimated, const struct rf_vec3 *noise_per_axis, struct rf_triad_calibration *out_calibration, double *out_residuals);
+
+/**
+ * Calibrates a gyro triad from `count` static positions and rate-table runs (see
+ * `rf_gyro_record`), as `rf_calibrate_accelerometers` otherwise. Static positions alone
+ * determine only the biases (`RF_TRIAD_BIAS`).
+ */
+rf_status rf_calibrate_gyros(const struct rf_calibration_site *calibration_site, const struct rf_gyro_record *records, size_t count, uint32_t parameters_estimated, const struct rf_vec3 *noise_per_axis, struct rf_triad_calibration *out_calibration, double *out_residuals);
+
+/**
+ * Calibrates an accelerometer triad from `count` static readings whose attitudes are not
+ * known, by fitting the corrected specific force's magnitude to the site's gravity (at least
+ * 9 positions with `noise`, 10 without, well spread). Nine parameters: bias, scale factors,
+ * `M_yx`, `M_zx`, `M_zy` (the calibrated frame has x along the x accelerometer and y in the
+ * plane of x and y). `out_residuals`: NULL or `count` magnitude residuals (m/s²).
+ */
+rf_status rf_calibrate_accelerometers_by_magnitude(const struct rf_calibration_site *calibration_site, const struct rf_vec3 *specific_force, size_t count, const struct rf_vec3 *noise_per_axis, struct rf_triad_calibration *out_calibration, double *out_residuals);
+
+/**
+ * Removes a triad's calibration from an increment measured over `interval` (s): the exact
+ * inverse of the error model without noise, `x = (I + diag(s) + M)⁻¹ (x̃ − b T)`. `out` may
+ * alias `measured`.
+ */
+rf_status rf_triad_correct_increment(const struct rf_triad_calibration *calibration, const struct rf_vec3 *measured, double interval, struct rf_vec3 *out_corrected);
+
+/**
+ * Writes the default cluster sizes (octaves 1, 2, 4, … up to `(samples − 1)/2`) for a record
+ * of `samples` into `out_sizes` (room for `capacity`; 64 always suffice) and their number
+ * into `out_count`.
+ */
+rf_status rf_allan_default_cluster_sizes(size_t samples, uint64_t *out_sizes, size_t capacity, size_t *out_count);
+
+/**
+ * The overlapping Allan deviation of `count` rate samples at `interval` (s), at each of the
+ * `size_count` cluster sizes (at most `RF_MAX_CLUSTER_SIZES`, 64), with bounds at
+ * `confidence` (0.683 for one sigma), into `out_points[size_count]`. `scratch` holds
+ * `count + 1` values (the integrated record). The sample buffer is read in place; nothing is
+ * allocated.
+ */
+rf_status rf_allan_deviation(const double *samples, size_t count, double interval, const uint64_t *cluster_sizes, size_t size_count, double confidence, double *scratch, struct rf_allan_point *out_points);
+
+/**
+ * Fits white noise, bias instability and rate random walk to `count` points of an Allan
+ * deviation curve (`taus` in s, `deviations`); `degrees_of_freedom` (NULL, or one per point)
+ * weights the points, else they are weighted by 1/τ.
+ */
+rf_status rf_fit_noise_terms(const double *taus, const double *deviations, size_t count, const double *degrees_of_freedom, struct rf_noise_terms *out_terms);
 
 /**
  * Writes the WGS 84 model (NIMA TR8350.2).

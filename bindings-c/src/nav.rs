@@ -228,7 +228,7 @@ impl rf_nav_state {
     }
 }
 
-fn gravity_model(value: u32) -> Fallible<GravityModel> {
+pub(crate) fn gravity_model(value: u32) -> Fallible<GravityModel> {
     match value {
         0 => Ok(GravityModel::Normal),
         1 => Ok(GravityModel::J2),

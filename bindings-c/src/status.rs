@@ -33,6 +33,9 @@ pub enum rf_status {
     /// An output array overlaps an input array (or the stepper) of the same call; array
     /// functions need disjoint buffers.
     RF_STATUS_OVERLAPPING_BUFFERS = 12,
+    /// The data cannot determine the parameters asked of them (a calibration's positions
+    /// leave some unobservable).
+    RF_STATUS_UNOBSERVABLE = 13,
 }
 
 pub use rf_status::*;
@@ -51,6 +54,7 @@ impl From<Error> for rf_status {
             Error::NotPositive { .. } => RF_STATUS_NOT_POSITIVE,
             Error::NearPole { .. } => RF_STATUS_NEAR_POLE,
             Error::NearEarthCentre { .. } => RF_STATUS_NEAR_EARTH_CENTRE,
+            Error::Unobservable { .. } => RF_STATUS_UNOBSERVABLE,
             _ => RF_STATUS_INVALID_ARGUMENT,
         }
     }
@@ -87,6 +91,7 @@ pub extern "C" fn rf_status_message(status: u32) -> *const core::ffi::c_char {
         10 => c"arguments are inconsistent",
         11 => c"internal error caught at the rotaframe boundary",
         12 => c"an output array overlaps an input array of the same call",
+        13 => c"the data cannot determine the parameters asked of them (positions leave some unobservable)",
         _ => c"unknown rotaframe status",
     };
     message.as_ptr()

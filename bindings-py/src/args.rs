@@ -145,7 +145,7 @@ extractors!(optional_number, Option<f64>: gamma_equator, gamma_pole, j2, height_
     opt_max_step = "max_step", opt_stop_height = "stop_height", opt_scale_height = "scale_height");
 extractors!(flag, bool: degrees, inertial, budget, jacobian);
 extractors!(count, u64: max_steps, seed, states, every);
-extractors!(number, f64: ballistic_coefficient, density);
+extractors!(number, f64: ballistic_coefficient, density, dt, confidence);
 /// Keyword arguments with their allowed values.
 macro_rules! keywords {
     ($($name:ident: [$($value:literal),*]),* $(,)?) => {
@@ -165,6 +165,7 @@ keywords!(
     axes: ["ned", "enu"],
     position_kind: ["geodetic", "cartesian"],
     method: ["exact", "second_order"],
+    parameters: ["full", "bias_scale", "bias"],
 );
 
 /// A text argument (a name): a Python str.

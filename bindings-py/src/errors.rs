@@ -62,6 +62,12 @@ pyo3::create_exception!(
 );
 pyo3::create_exception!(
     rotaframe,
+    UnobservableError,
+    RotaframeError,
+    "Data that cannot determine the parameters asked of them (a calibration whose positions leave parameters unobservable); the message names them."
+);
+pyo3::create_exception!(
+    rotaframe,
     ConcurrentUseError,
     RotaframeError,
     "A stateful object (a Strapdown, an ImuErrors) was used by two threads at once; give each thread its own copy."
@@ -108,6 +114,7 @@ pub fn to_py(error: &Error, context: &str) -> PyErr {
         Error::NearEarthCentre { .. } => NearEarthCentreError::new_err(message),
         Error::OutOfRange { .. } | Error::BeyondLimit { .. } => OutOfRangeError::new_err(message),
         Error::LengthMismatch { .. } => ShapeError::new_err(message),
+        Error::Unobservable { .. } => UnobservableError::new_err(message),
         _ => RotaframeError::new_err(message),
     }
 }
@@ -127,6 +134,7 @@ pub fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add("ShapeError", py.get_type::<ShapeError>())?;
     m.add("FrameMismatchError", py.get_type::<FrameMismatchError>())?;
     m.add("ConcurrentUseError", py.get_type::<ConcurrentUseError>())?;
+    m.add("UnobservableError", py.get_type::<UnobservableError>())?;
     m.add("FrameGraphError", py.get_type::<FrameGraphError>())?;
     m.add("InputTypeError", input_type_error_class(py)?.clone_ref(py))?;
     Ok(())

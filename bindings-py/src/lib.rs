@@ -13,6 +13,7 @@ mod apparent;
 mod args;
 mod batch;
 mod broadcast;
+mod calibrate;
 mod errors;
 mod geodesy;
 mod graph;
@@ -66,6 +67,14 @@ fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(propagate::propagate, m)?)?;
     m.add_function(wrap_pyfunction!(linearise::discrete_error_model, m)?)?;
     m.add_function(wrap_pyfunction!(linearise::predict_covariance, m)?)?;
+    m.add_class::<calibrate::PyCalibration>()?;
+    m.add_class::<calibrate::PyNoiseTerms>()?;
+    m.add_function(wrap_pyfunction!(calibrate::_calibration_from_parts, m)?)?;
+    m.add_function(wrap_pyfunction!(calibrate::calibrate_accelerometers, m)?)?;
+    m.add_function(wrap_pyfunction!(calibrate::calibrate_accelerometers_by_magnitude, m)?)?;
+    m.add_function(wrap_pyfunction!(calibrate::calibrate_gyros, m)?)?;
+    m.add_function(wrap_pyfunction!(calibrate::allan_deviation, m)?)?;
+    m.add_function(wrap_pyfunction!(calibrate::fit_noise_terms, m)?)?;
     for f in [
         wrap_pyfunction!(geodesy::geodetic_to_ecef, m)?,
         wrap_pyfunction!(geodesy::ecef_to_geodetic, m)?,

@@ -79,7 +79,7 @@ fn check_inertial(motion: &PyFrameMotion, argument: &str) -> PyResult<()> {
 }
 
 /// A new C-contiguous float64 array of shape `dims` filled from `values`.
-fn array_from<'py>(py: Python<'py>, dims: Vec<usize>, values: &[f64]) -> Bound<'py, PyArrayDyn<f64>> {
+pub(crate) fn array_from<'py>(py: Python<'py>, dims: Vec<usize>, values: &[f64]) -> Bound<'py, PyArrayDyn<f64>> {
     let out = PyArrayDyn::zeros(py, dims, false);
     {
         let mut w = out.readwrite();
@@ -1156,6 +1156,12 @@ pub struct PyImuErrors {
 }
 
 impl PyImuErrors {
+    /// A generator for a core model (errors named as the keyword arguments would be).
+    pub(crate) fn from_model(model: ImuErrorModel, seed: u64) -> PyResult<Self> {
+        let inner = ImuErrorGenerator::new(model, seed).map_err(|e| to_py(&nav_name(e), ""))?;
+        Ok(Self { inner: std::sync::Mutex::new(inner), seed })
+    }
+
     /// The generator, or `ConcurrentUseError` if another thread is using it.
     pub(crate) fn lock(&self) -> PyResult<std::sync::MutexGuard<'_, ImuErrorGenerator>> {
         match self.inner.try_lock() {

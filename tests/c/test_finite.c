@@ -302,5 +302,47 @@ int main(void) {
     }
     printf("finite-input sweep: %lu calls accepted, %lu refused\n", accepted, refused);
     CHECK(accepted > 100000 && refused > 100000, "both paths exercised");
+    for (round = 0; round < 3000; ++round) { /* calibration and Allan deviation */
+        rf_calibration_site site = {0};
+        rf_accelerometer_position positions[10];
+        rf_gyro_record records[10];
+        rf_vec3 forces[10], noise = vec(), out_v;
+        rf_triad_calibration cal;
+        double residuals[30], samples[9], scratch[10], taus[3], devs[3], dofs[3];
+        uint64_t sizes[RF_MAX_CLUSTER_SIZES];
+        size_t count = 0;
+        rf_allan_point points[RF_MAX_CLUSTER_SIZES];
+        rf_noise_terms terms;
+        int i, physical = (int)(next_u64() % 2);
+        site.model = model();
+        site.latitude = physical ? unit() - 0.5 : finite();
+        site.height = physical ? unit() * 100.0 : finite();
+        site.gravity = (uint32_t)(next_u64() % 3);
+        noise.x = fabs(noise.x), noise.y = fabs(noise.y), noise.z = fabs(noise.z);
+        for (i = 0; i < 10; ++i) {
+            rf_vec3 f = vec();
+            if (physical) f.x = 10.0 * (unit() - 0.5), f.y = 10.0 * (unit() - 0.5), f.z = 10.0 * (unit() - 0.5);
+            positions[i].attitude = quat();
+            positions[i].specific_force = f;
+            forces[i] = f;
+            records[i].attitude = positions[i].attitude;
+            records[i].table_axis_ned = vec();
+            records[i].table_rate = physical ? unit() : finite();
+            records[i].duration = finite();
+            records[i].angular_rate = f;
+        }
+        PROBE("rf_calibrate_accelerometers", rf_calibrate_accelerometers(&site, positions, 10, (uint32_t)(next_u64() % 4), (next_u64() % 2) ? &noise : NULL, &cal, NULL), &cal, sizeof cal);
+        PROBE("rf_calibrate_accelerometers residuals", rf_calibrate_accelerometers(&site, positions, 10, RF_TRIAD_FULL, NULL, &cal, residuals), residuals, sizeof residuals);
+        PROBE("rf_calibrate_gyros", rf_calibrate_gyros(&site, records, 10, (uint32_t)(next_u64() % 3), NULL, &cal, NULL), &cal, sizeof cal);
+        PROBE("rf_calibrate_accelerometers_by_magnitude", rf_calibrate_accelerometers_by_magnitude(&site, forces, 10, NULL, &cal, residuals), residuals, sizeof(double) * 10);
+        PROBE("rf_triad_correct_increment", rf_triad_correct_increment(&cal, &forces[0], finite(), &out_v), &out_v, sizeof out_v);
+        fill(samples, 9);
+        if (physical)
+            for (i = 0; i < 9; ++i) samples[i] = unit();
+        OK(rf_allan_default_cluster_sizes(9, sizes, RF_MAX_CLUSTER_SIZES, &count));
+        PROBE("rf_allan_deviation", rf_allan_deviation(samples, 9, physical ? 0.01 : finite(), sizes, count, physical ? 0.683 : finite(), scratch, points), points, sizeof(rf_allan_point) * count);
+        fill(taus, 3), fill(devs, 3), fill(dofs, 3);
+        PROBE("rf_fit_noise_terms", rf_fit_noise_terms(taus, devs, 3, (next_u64() % 2) ? dofs : NULL, &terms), &terms, sizeof terms);
+    }
     return check_report("test_finite");
 }

@@ -37,7 +37,7 @@ def finite_or_named(call, *args, **kwargs):
         return None
     values = result if isinstance(result, tuple) else (result,)
     for v in values:
-        if v is None or isinstance(v, (rf.ImuErrors, rf.Strapdown, rf.StrapdownHistory, rf.Propagation, rf.Drag)):
+        if v is None or isinstance(v, (rf.ImuErrors, rf.Strapdown, rf.StrapdownHistory, rf.Propagation, rf.Drag, rf.Calibration, rf.NoiseTerms)):
             continue
         if isinstance(v, rf.ApparentAcceleration):
             v = np.stack([v.translational, v.coriolis, v.centrifugal, v.euler, v.total])
@@ -288,3 +288,38 @@ def test_propagations_are_finite_or_refused(r, v, lat, t1, beta, rho, budget, gr
         assert np.all(np.isfinite(out.position)) and np.all(np.isfinite(out.velocity)) and np.all(np.isfinite(out.t))
         if budget:
             assert np.all(np.isfinite(out.budget.total))
+
+
+@settings(max_examples=80, deadline=None)
+@given(
+    quats=st.lists(QUAT, min_size=12, max_size=12),
+    forces=st.lists(VEC, min_size=12, max_size=12),
+    lat=FINITE,
+    h=FINITE,
+    noise=FINITE,
+    physical=st.booleans(),
+    samples=st.lists(FINITE, min_size=3, max_size=40),
+    dt=FINITE,
+    curve=st.lists(FINITE, min_size=6, max_size=6),
+)
+def test_calibration_and_allan_are_finite_or_refused(quats, forces, lat, h, noise, physical, samples, dt, curve):
+    f = np.tanh(np.array(forces)) * 10.0 if physical else np.array(forces)
+    q = np.array(quats)
+    if physical:
+        lat, h = math.tanh(lat), math.tanh(h) * 100.0
+    for parameters in ("full", "bias"):
+        cal = finite_or_named(rf.calibrate_accelerometers, q, f, lat=lat, h=h, parameters=parameters, noise=None if physical else abs(noise))
+        if cal is not None:
+            for value in (cal.parameters, cal.covariance, cal.residuals, cal.noise, cal.condition_number):
+                assert np.all(np.isfinite(value))
+    finite_or_named(rf.calibrate_gyros, q, f, lat=lat, h=h, table_rate=noise, duration=abs(dt) if physical else dt, parameters="bias")
+    mag = finite_or_named(rf.calibrate_accelerometers_by_magnitude, f, lat=lat, h=h)
+    if mag is not None:
+        assert np.all(np.isfinite(mag.covariance)) and np.all(np.isfinite(mag.residuals))
+        finite_or_named(mag.correct, f[:2], f[:2], 0.01)
+    x = np.tanh(np.array(samples)) if physical else np.array(samples)
+    finite_or_named(rf.allan_deviation, x, 0.01 if physical else dt)
+    taus, devs = np.array(curve[:3]), np.array(curve[3:])
+    terms = finite_or_named(rf.fit_noise_terms, np.abs(taus) + 1e-3 if physical else taus, np.abs(devs) + 1e-3 if physical else devs)
+    if terms is not None:
+        assert all(math.isfinite(v) for v in (terms.white_noise, terms.bias_instability, terms.rate_random_walk))

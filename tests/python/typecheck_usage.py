@@ -92,3 +92,16 @@ def preallocated_and_threaded() -> float:
     )
     _ = (lat, lon, histories[0].lat)
     return float(h if isinstance(h, float) else h[0])
+
+
+def calibration_and_allan() -> float:
+    attitude = np.zeros((6, 3))
+    force = np.zeros((6, 3))
+    cal: rf.Calibration = rf.calibrate_accelerometers(attitude, force, lat=48.0, h=300.0, degrees=True, parameters="bias")
+    gyro = rf.calibrate_gyros(attitude, force, lat=48.0, table_rate=[0.0] * 6, duration=10.0, parameters="bias")
+    errors: rf.ImuErrors = cal.to_imu_errors(gyro, seed=3)
+    dtheta, dv = cal.correct(np.zeros((2, 3)), np.zeros((2, 3)), 0.01, other=gyro)
+    taus, adev, lower, upper = rf.allan_deviation(np.zeros(100), 0.01, confidence=0.9)
+    terms: rf.NoiseTerms = rf.fit_noise_terms(taus, adev)
+    _ = (errors, dtheta, dv, lower, upper, cal.covariance, cal.estimated, terms.arw_deg_per_sqrt_h)
+    return float(cal.condition_number)

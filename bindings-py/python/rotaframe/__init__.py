@@ -6,8 +6,10 @@ translational) accelerations, Earth models, geodetic conversions, local-level fr
 Earth rotation and gravity; ideal IMU output and increments, strapdown inertial navigation
 in NED and ECEF form, IMU error simulation and lever arms; free-body trajectories in moving
 frames with the deflection budget of each apparent term; Jacobians of the transforms
-(``jacobian=True``) and the inertial error-state model with covariance prediction. The math is rotaframe's Rust core; this package converts,
-validates and batches.
+(``jacobian=True``) and the inertial error-state model with covariance prediction; IMU
+calibration from multi-position and rate-table tests, and Allan deviation with the noise
+terms read from it. The math is rotaframe's Rust core; this package converts, validates and
+batches.
 
 Conventions (the same in Rust, C and Python):
 
@@ -28,6 +30,7 @@ from ._native import (
     GRS80,
     WGS84,
     ApparentAcceleration,
+    Calibration,
     EarthModel,
     ConcurrentUseError,
     DeflectionBudget,
@@ -43,6 +46,7 @@ from ._native import (
     NonFiniteError,
     NotPositiveError,
     NotRotationMatrixError,
+    NoiseTerms,
     NotUnitQuaternionError,
     OutOfRangeError,
     Propagation,
@@ -50,8 +54,13 @@ from ._native import (
     ShapeError,
     Strapdown,
     StrapdownHistory,
+    UnobservableError,
     ZeroNormError,
+    allan_deviation,
     apparent_acceleration,
+    calibrate_accelerometers,
+    calibrate_accelerometers_by_magnitude,
+    calibrate_gyros,
     centripetal_acceleration_ecef,
     coriolis_ned,
     coriolis_parameter,
@@ -64,6 +73,7 @@ from ._native import (
     eotvos_correction,
     fast_kernels_active,
     euler_from_quat,
+    fit_noise_terms,
     geodetic_to_ecef,
     gravitation_ecef,
     gravity_ecef,
@@ -97,6 +107,7 @@ __all__ = [
     "GRS80",
     "WGS84",
     "ApparentAcceleration",
+    "Calibration",
     "EarthModel",
     "ConcurrentUseError",
     "DeflectionBudget",
@@ -112,6 +123,7 @@ __all__ = [
     "NonFiniteError",
     "NotPositiveError",
     "NotRotationMatrixError",
+    "NoiseTerms",
     "NotUnitQuaternionError",
     "OutOfRangeError",
     "Propagation",
@@ -119,8 +131,13 @@ __all__ = [
     "ShapeError",
     "Strapdown",
     "StrapdownHistory",
+    "UnobservableError",
     "ZeroNormError",
+    "allan_deviation",
     "apparent_acceleration",
+    "calibrate_accelerometers",
+    "calibrate_accelerometers_by_magnitude",
+    "calibrate_gyros",
     "centripetal_acceleration_ecef",
     "coriolis_ned",
     "coriolis_parameter",
@@ -133,6 +150,7 @@ __all__ = [
     "eotvos_correction",
     "fast_kernels_active",
     "euler_from_quat",
+    "fit_noise_terms",
     "geodetic_to_ecef",
     "gravitation_ecef",
     "gravity_ecef",

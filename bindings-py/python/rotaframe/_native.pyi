@@ -10,6 +10,15 @@ _FloatOrArray = Union[float, _Array]
 
 __all__ = [
     "ApparentAcceleration",
+    "Calibration",
+    "NoiseTerms",
+    "UnobservableError",
+    "_calibration_from_parts",
+    "allan_deviation",
+    "calibrate_accelerometers",
+    "calibrate_accelerometers_by_magnitude",
+    "calibrate_gyros",
+    "fit_noise_terms",
     "ConcurrentUseError",
     "DeflectionBudget",
     "Drag",
@@ -99,6 +108,7 @@ class FrameMismatchError(RotaframeError): ...
 class ConcurrentUseError(RotaframeError): ...
 class FrameGraphError(RotaframeError): ...
 class InputTypeError(RotaframeError, TypeError): ...
+class UnobservableError(RotaframeError): ...
 
 @final
 class EarthModel:
@@ -767,3 +777,109 @@ def propagate(
     apparent: Optional[Sequence[Literal["translational", "coriolis", "centrifugal", "euler"]]] = None,
     max_steps: int = 1000000,
 ) -> Propagation: ...
+
+@final
+class Calibration:
+    """The calibration of one sensor triad: bias, scale factors, misalignment, covariance, residuals."""
+
+    @property
+    def sensor(self) -> Literal["accelerometer", "gyro"]: ...
+    @property
+    def bias(self) -> _Array: ...
+    @property
+    def scale_factor(self) -> _Array: ...
+    @property
+    def misalignment(self) -> _Array: ...
+    @property
+    def covariance(self) -> _Array: ...
+    @property
+    def parameters(self) -> _Array: ...
+    @property
+    def standard_deviations(self) -> _Array: ...
+    @property
+    def parameter_names(self) -> list[str]: ...
+    @property
+    def estimated(self) -> list[str]: ...
+    @property
+    def residuals(self) -> _Array: ...
+    @property
+    def residual_rms(self) -> _Array: ...
+    @property
+    def noise(self) -> _Array: ...
+    @property
+    def degrees_of_freedom(self) -> int: ...
+    @property
+    def condition_number(self) -> float: ...
+    def to_imu_errors(self, other: Optional[Calibration] = None, *, seed: int = 0) -> ImuErrors: ...
+    def correct(self, dtheta: ArrayLike, dv: ArrayLike, dt: ArrayLike, other: Optional[Calibration] = None) -> tuple[_Array, _Array]: ...
+    def __reduce__(self) -> tuple[Any, tuple[Any, ...]]: ...
+
+def _calibration_from_parts(
+    sensor: str, numbers: Sequence[float], degrees_of_freedom: int, estimated: int, residuals: Sequence[float], residual_width: int
+) -> Calibration: ...
+
+def calibrate_accelerometers(
+    attitude: ArrayLike,
+    specific_force: ArrayLike,
+    *,
+    lat: float,
+    h: float,
+    degrees: bool = False,
+    model: Optional[EarthModel] = None,
+    noise: Optional[ArrayLike] = None,
+    parameters: Literal["full", "bias_scale", "bias"] = "full",
+    gravity: Literal["normal", "j2"] = "normal",
+) -> Calibration: ...
+def calibrate_accelerometers_by_magnitude(
+    specific_force: ArrayLike,
+    *,
+    lat: float,
+    h: float,
+    degrees: bool = False,
+    model: Optional[EarthModel] = None,
+    noise: Optional[ArrayLike] = None,
+    gravity: Literal["normal", "j2"] = "normal",
+) -> Calibration: ...
+def calibrate_gyros(
+    attitude: ArrayLike,
+    angular_rate: ArrayLike,
+    *,
+    lat: float,
+    h: float = 0.0,
+    table_rate: Optional[ArrayLike] = None,
+    table_axis: Optional[ArrayLike] = None,
+    duration: Optional[ArrayLike] = None,
+    degrees: bool = False,
+    model: Optional[EarthModel] = None,
+    noise: Optional[ArrayLike] = None,
+    parameters: Literal["full", "bias_scale", "bias"] = "full",
+) -> Calibration: ...
+def allan_deviation(
+    samples: ArrayLike, dt: float, *, taus: Optional[ArrayLike] = None, confidence: float = 0.683
+) -> tuple[_Array, _Array, _Array, _Array]: ...
+
+@final
+class NoiseTerms:
+    """White noise, bias instability and rate random walk fitted to an Allan-deviation curve."""
+
+    @property
+    def white_noise(self) -> _FloatOrArray: ...
+    @property
+    def bias_instability(self) -> _FloatOrArray: ...
+    @property
+    def rate_random_walk(self) -> _FloatOrArray: ...
+    @property
+    def arw_deg_per_sqrt_h(self) -> _FloatOrArray: ...
+    @property
+    def bias_instability_deg_per_h(self) -> _FloatOrArray: ...
+    @property
+    def rrw_deg_per_h_per_sqrt_h(self) -> _FloatOrArray: ...
+    @property
+    def vrw_mps_per_sqrt_h(self) -> _FloatOrArray: ...
+    @property
+    def bias_instability_ug(self) -> _FloatOrArray: ...
+    @property
+    def acceleration_random_walk_mps_per_h_per_sqrt_h(self) -> _FloatOrArray: ...
+    def deviation(self, tau: ArrayLike) -> _FloatOrArray: ...
+
+def fit_noise_terms(taus: ArrayLike, adev: ArrayLike, *, dof: Optional[ArrayLike] = None) -> NoiseTerms: ...
