@@ -423,9 +423,13 @@ crate::fast_twin!(fn second_order_15_fast(f: &[f64], g: &[f64], psd: &[f64], int
 crate::fast_twin!(fn second_order_21_fast(f: &[f64], g: &[f64], psd: &[f64], interval: f64, phi: &mut [f64], q: &mut [f64]) -> () = second_order_body::<21, 24>);
 
 /// The second-order truncation, from `F` (column-major) and the noise input `G` (column-major)
-/// with its densities, into `phi` (column-major) and `q` (symmetric). It works on
-/// transposes, so that every product has a sparse left factor and the columns of `F` (its
-/// contiguous storage) as the rows it combines: `(F F)ᵀ = Fᵀ Fᵀ` and `(F Q_c)ᵀ = Q_c Fᵀ`.
+/// with its densities, into `phi` (column-major) and `q` (symmetric), column by column:
+///
+/// * column `j` of `Φ` is `e_j + T F[:, j] + (T²/2) Σ_k F[k, j] F[:, k]`, one vectorised update
+///   per non-zero entry of column `j` (`F`'s columns are its contiguous storage);
+/// * `Q_d = B + Bᵀ` with `B = Σ_m q_m g_m w_mᵀ`, `w_m = F g_m T²/2 + g_m T/2` for the columns
+///   `g_m` of `G` (at most three non-zero entries each): `B = Q_c Fᵀ T²/2 + Q_c T/2`, so that
+///   `Q_c` and its products are never formed.
 #[inline(always)]
 fn second_order_body<const N: usize, const W: usize>(
     f: &[f64],
@@ -435,27 +439,37 @@ fn second_order_body<const N: usize, const W: usize>(
     phi_out: &mut [f64],
     q_out: &mut [f64],
 ) {
-    let f_transposed = Rows::<N, W>::from_rows_of(f);
+    let columns = Rows::<N, W>::from_rows_of(f);
     let half_t2 = 0.5 * t * t;
-    // Φ = I + F T + F F T²/2, written column by column (the rows of Φᵀ).
-    let mut product = Rows::<N, W>::zeros();
-    left_product(&RowPattern::<N>::of_rows(&f_transposed), &f_transposed, half_t2, &mut product);
-    for (j, ((out, p), c)) in phi_out.chunks_exact_mut(N).zip(&product.0).zip(&f_transposed.0).enumerate() {
-        for ((o, &p), &c) in out.iter_mut().zip(p).zip(c) {
-            *o = p + c * t;
+    for (j, out) in phi_out.chunks_exact_mut(N).enumerate() {
+        let column = &columns.0[j];
+        let sum = columns.combine(&column[..N], half_t2);
+        for ((o, &s), &c) in out.iter_mut().zip(&sum).zip(column) {
+            *o = s + c * t;
         }
         out[j] += 1.0;
     }
-    // Q_d = Q_c T + S + Sᵀ with Sᵀ = Q_c Fᵀ T²/2.
-    let qc = noise_rows::<N, W>(g, psd);
-    left_product(&RowPattern::<N>::of_rows(&qc), &f_transposed, half_t2, &mut product);
-    let mut q = Rows::<N, W>::zeros();
-    symmetric_sum(&product, &mut q);
-    for ((out, q_row), qc_row) in q_out.chunks_exact_mut(N).zip(&q.0).zip(&qc.0) {
-        for ((o, &s), &c) in out.iter_mut().zip(q_row).zip(qc_row) {
-            *o = c * t + s;
+    let mut b = Rows::<N, W>::zeros();
+    for (g_column, &density) in g.chunks_exact(N).zip(psd) {
+        if density == 0.0 {
+            continue;
+        }
+        let mut w = columns.combine(g_column, half_t2);
+        for (x, &gi) in w.iter_mut().zip(g_column) {
+            *x += gi * (0.5 * t);
+        }
+        for (row, &gj) in b.0.iter_mut().zip(g_column) {
+            if gj != 0.0 {
+                let weight = density * gj;
+                for (r, &x) in row.iter_mut().zip(&w) {
+                    *r += weight * x;
+                }
+            }
         }
     }
+    let mut q = Rows::<N, W>::zeros();
+    symmetric_sum(&b, &mut q);
+    q.write_symmetric(q_out);
 }
 
 /// The checks of [`discretise`]: the interval, finite `F`, `G`, densities, none negative.
@@ -606,6 +620,21 @@ impl<const N: usize, const W: usize> Rows<N, W> {
         let mut out = Self::zeros();
         for (row, group) in out.0.iter_mut().zip(m.chunks_exact(N)) {
             row[..N].copy_from_slice(group);
+        }
+        out
+    }
+    /// With `self` holding a matrix `A` by columns (row `k` is column `k` of `A`): the column
+    /// `A x scale` for the column `x`, one vectorised update per non-zero entry of `x`.
+    #[inline(always)]
+    fn combine(&self, x: &[f64], scale: f64) -> [f64; W] {
+        let mut out = [0.0f64; W];
+        for (&xk, column) in x.iter().zip(&self.0) {
+            if xk != 0.0 {
+                let weight = xk * scale;
+                for (o, &c) in out.iter_mut().zip(column) {
+                    *o += weight * c;
+                }
+            }
         }
         out
     }
@@ -787,21 +816,6 @@ impl<const N: usize> RowPattern<N> {
                 pattern.values[i][c] = x;
                 pattern.count[i] += usize::from(x != 0.0);
             }
-        }
-        pattern
-    }
-    /// The pattern of the `N × N` block of padded rows.
-    #[inline(always)]
-    fn of_rows<const W: usize>(a: &Rows<N, W>) -> Self {
-        let mut pattern = Self { count: [0; N], columns: [[0; N]; N], values: [[0.0; N]; N] };
-        for (i, row) in a.0.iter().enumerate().take(N) {
-            let mut c = 0;
-            for (k, &x) in row[..N].iter().enumerate() {
-                pattern.columns[i][c] = k as u8;
-                pattern.values[i][c] = x;
-                c += usize::from(x != 0.0);
-            }
-            pattern.count[i] = c;
         }
         pattern
     }
