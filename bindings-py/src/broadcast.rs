@@ -404,14 +404,6 @@ impl Plan {
     }
 }
 
-/// Non-zero when some component is NaN or infinite. An integer, so that a batch loop can OR it
-/// into an accumulator: integer OR reductions vectorise, floating-point sums do not (their
-/// order of evaluation is fixed).
-#[inline(always)]
-pub fn non_finite_flag(vectors: &[rotaframe::nalgebra::Vector3<f64>]) -> u64 {
-    vectors.iter().fold(0, |acc, v| acc | u64::from(!v.x.is_finite()) | u64::from(!v.y.is_finite()) | u64::from(!v.z.is_finite()))
-}
-
 /// One uninitialised output slot of a `(..., 3)` output.
 pub type Slot<'a> = &'a mut core::mem::MaybeUninit<[f64; 3]>;
 

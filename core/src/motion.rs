@@ -393,15 +393,21 @@ impl<P: Frame, C: Frame> FrameMotion<P, C> {
         self.rotation.inverse_transform_vector(&self.acceleration)
     }
 
-    /// The transport theorem on vectors already rotated into P's axes (`R r`, `R v`, `R a`).
+    /// The transport theorem for a point's position, velocity and acceleration relative to C
+    /// (resolved in C), through [`map_point_values`].
     #[inline(always)]
-    fn transport(&self, rr: Vector3<f64>, rv: Vector3<f64>, ra: Vector3<f64>) -> (Vector3<f64>, Vector3<f64>, Vector3<f64>) {
-        let w = &self.angular_velocity;
-        let w_x_rr = w.cross(&rr);
-        let position = self.position + rr;
-        let velocity = self.velocity + rv + w_x_rr;
-        let acceleration = self.acceleration + ra + 2.0 * w.cross(&rv) + self.angular_acceleration.cross(&rr) + w.cross(&w_x_rr);
-        (position, velocity, acceleration)
+    fn transport(&self, r: &Vector3<f64>, v: &Vector3<f64>, a: &Vector3<f64>) -> (Vector3<f64>, Vector3<f64>, Vector3<f64>) {
+        let q = self.rotation.as_ref();
+        let array = |x: &Vector3<f64>| [x.x, x.y, x.z];
+        let parts = [
+            array(&self.position),
+            array(&self.velocity),
+            array(&self.acceleration),
+            array(&self.angular_velocity),
+            array(&self.angular_acceleration),
+        ];
+        let k = map_point_values([q.w, q.i, q.j, q.k], parts, array(r), array(v), array(a));
+        (Vector3::new(k[0], k[1], k[2]), Vector3::new(k[3], k[4], k[5]), Vector3::new(k[6], k[7], k[8]))
     }
 
     /// Maps a point given relative to C (resolved in C) to the same point relative to P
@@ -421,8 +427,7 @@ impl<P: Frame, C: Frame> FrameMotion<P, C> {
     #[must_use]
     #[inline]
     pub fn map_point(&self, point: &PointKinematics<C>) -> PointKinematics<P> {
-        let r = self.rotation.to_rotation_matrix();
-        let (position, velocity, acceleration) = self.transport(r * point.position, r * point.velocity, r * point.acceleration);
+        let (position, velocity, acceleration) = self.transport(&point.position, &point.velocity, &point.acceleration);
         PointKinematics::new(position, velocity, acceleration)
     }
 
@@ -469,7 +474,7 @@ impl<P: Frame, C: Frame> FrameMotion<P, C> {
     #[inline(always)]
     pub fn then<D: Frame>(&self, next: &FrameMotion<C, D>) -> FrameMotion<P, D> {
         let r1 = self.rotation.to_rotation_matrix();
-        let (position, velocity, acceleration) = self.transport(r1 * next.position, r1 * next.velocity, r1 * next.acceleration);
+        let (position, velocity, acceleration) = self.transport(&next.position, &next.velocity, &next.acceleration);
         let w2 = r1 * next.angular_velocity;
         FrameMotion::from_parts_unchecked(MotionParts {
             rotation: self.rotation * next.rotation,
@@ -579,4 +584,59 @@ impl<P: Frame, C: Frame> approx::RelativeEq for FrameMotion<P, C> {
             && self.angular_velocity.relative_eq(&other.angular_velocity, epsilon, max_relative)
             && self.angular_acceleration.relative_eq(&other.angular_acceleration, epsilon, max_relative)
     }
+}
+
+/// The transport theorem of [`FrameMotion::map_point`] on plain numbers, for batch loops that
+/// keep motions and points in arrays: the motion's rotation (`w, x, y, z`, unit), its
+/// position, velocity, acceleration, angular velocity and angular acceleration (resolved in
+/// the parent), and the point's position, velocity and acceleration relative to (and
+/// resolved in) the child; returns the point's position, velocity and acceleration relative
+/// to the parent, nine numbers. `map_point` itself runs on it (the same bits), written on
+/// scalars so that a loop over it keeps everything in registers.
+///
+/// ```
+/// use nalgebra::{UnitQuaternion, Vector3};
+/// use rotaframe::{frames::{AnyFrame, PointKinematics}, motion::{map_point_values, FrameMotion, MotionParts}};
+/// let q = UnitQuaternion::from_euler_angles(0.1, -0.2, 0.3);
+/// let parts = MotionParts { rotation: q, angular_velocity: Vector3::new(0.0, 0.0, 2.0), ..MotionParts::default() };
+/// let motion = FrameMotion::<AnyFrame, AnyFrame>::from_parts(parts).unwrap();
+/// let point = PointKinematics::new(Vector3::new(1.0, 0.0, 0.0), Vector3::zeros(), Vector3::zeros());
+/// let k = motion.map_point(&point);
+/// let z = [0.0; 3];
+/// let values = map_point_values([q.w, q.i, q.j, q.k], [z, z, z, [0.0, 0.0, 2.0], z], [1.0, 0.0, 0.0], z, z);
+/// assert_eq!(values[3..6], [k.velocity.x, k.velocity.y, k.velocity.z]);
+/// ```
+#[must_use]
+#[inline(always)]
+pub fn map_point_values(
+    rotation: [f64; 4],
+    parts: [[f64; 3]; 5],
+    position: [f64; 3],
+    velocity: [f64; 3],
+    acceleration: [f64; 3],
+) -> [f64; 9] {
+    let [w, i, j, k] = rotation;
+    let two = 2.0;
+    // The rotation matrix as nalgebra's `to_rotation_matrix` forms it.
+    let (ww, ii, jj, kk) = (w * w, i * i, j * j, k * k);
+    let (ij, wk, wj) = (i * j * two, w * k * two, w * j * two);
+    let (ik, jk, wi) = (i * k * two, j * k * two, w * i * two);
+    let m = [[ww + ii - jj - kk, ij - wk, wj + ik], [wk + ij, ww - ii + jj - kk, jk - wi], [ik - wj, wi + jk, ww - ii - jj + kk]];
+    // R x as nalgebra's matrix-vector product sums it, column by column.
+    let rotate = |x: [f64; 3]| -> [f64; 3] { core::array::from_fn(|r| x[0] * m[r][0] + x[1] * m[r][1] + x[2] * m[r][2]) };
+    let cross = |a: [f64; 3], b: [f64; 3]| -> [f64; 3] {
+        [a[1] * b[2] - a[2] * b[1], a[2] * b[0] - a[0] * b[2], a[0] * b[1] - a[1] * b[0]]
+    };
+    let (rr, rv, ra) = (rotate(position), rotate(velocity), rotate(acceleration));
+    let [p0, v0, a0, omega, alpha] = parts;
+    let w_x_rr = cross(omega, rr);
+    let (w_x_rv, al_x_rr, w_x_w_x_rr) = (cross(omega, rv), cross(alpha, rr), cross(omega, w_x_rr));
+    core::array::from_fn(|n| {
+        let c = n % 3;
+        match n / 3 {
+            0 => p0[c] + rr[c],
+            1 => v0[c] + rv[c] + w_x_rr[c],
+            _ => a0[c] + ra[c] + two * w_x_rv[c] + al_x_rr[c] + w_x_w_x_rr[c],
+        }
+    })
 }
