@@ -102,7 +102,7 @@ fn normal_quantile(p: f64) -> f64 {
         let (tail, sign) = if p < 0.5 { (p, -1.0) } else { (1.0 - p, 1.0) };
         let zt = sign * z; // the upper-tail variable, positive away from the median
         let q = 0.5 * math::erfc(zt / core::f64::consts::SQRT_2);
-        let density = math::exp(-0.5 * zt * zt) / (2.0 * core::f64::consts::PI).sqrt();
+        let density = math::exp(-0.5 * zt * zt) / math::sqrt(2.0 * core::f64::consts::PI);
         if density <= 0.0 {
             break;
         }
