@@ -2,7 +2,7 @@
 
 References: the library's own forward model (ideal_imu and ImuErrors, verified against
 published values elsewhere) for the round trips; scipy.stats (Student's t, chi-square) for the
-statistics; a direct numpy transcription of the overlapping Allan variance definition (IEEE
+statistics; a direct numpy implementation of the overlapping Allan variance definition (IEEE
 Std 952-1997, annex C) for the estimator; numpy's FFT to synthesise flicker (1/f) rate noise
 with the IEEE 952 bias-instability PSD B²/(2πf). No published Allan dataset is available from
 the package registries we use, so the Allan checks are synthetic.
