@@ -261,34 +261,8 @@ impl PyCalibration {
         dt: &Bound<'py, PyAny>,
         other: Option<&Bound<'py, PyCalibration>>,
     ) -> PyResult<Bound<'py, PyTuple>> {
-        use crate::broadcast::{Operand, Plan, failure_to_py, run};
         let calibration = self.combined(other)?;
-        let mut a = Operand::extract(dtheta, "dtheta", &[3])?;
-        let mut v = Operand::extract(dv, "dv", &[3])?;
-        let mut t = Operand::extract(dt, "dt", &[])?;
-        let plan = Plan::for_operands(&mut [&mut a, &mut v, &mut t], &[])?;
-        let n = plan.n;
-        let (aa, va, ta) = (a.access(&plan), v.access(&plan), t.access(&plan));
-        let mut out_a = vec![0.0; 3 * n];
-        let mut out_v = vec![0.0; 3 * n];
-        let result = run(py, n, |i| {
-            let m = calibration.correct(&rotaframe::nav::ImuIncrement::new(aa.vec3(i), va.vec3(i), ta.scalar(i)))?;
-            out_a[3 * i..3 * i + 3].copy_from_slice(m.delta_angle.as_slice());
-            out_v[3 * i..3 * i + 3].copy_from_slice(m.delta_velocity.as_slice());
-            Ok(())
-        });
-        result.map_err(|f| {
-            let error = match f.error.quantity() {
-                "delta_angle" => f.error.with_quantity("dtheta"),
-                "delta_velocity" => f.error.with_quantity("dv"),
-                "interval" => f.error.with_quantity("dt"),
-                _ => f.error,
-            };
-            failure_to_py(&crate::broadcast::Failure { index: f.index, error }, &plan, &[&a, &v, &t])
-        })?;
-        let mut dims = plan.shape.clone();
-        dims.push(3);
-        PyTuple::new(py, [array_from(py, dims.clone(), &out_a), array_from(py, dims, &out_v)])
+        crate::nav::map_increments(py, dtheta, dv, dt, None, |increment| calibration.correct(increment))
     }
 
     fn __repr__(&self) -> String {

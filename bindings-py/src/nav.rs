@@ -1142,6 +1142,46 @@ fn axes(obj: Option<&Bound<'_, PyAny>>, name: &'static str, scale: f64) -> PyRes
     }
 }
 
+/// Maps increments `dtheta`, `dv` `(..., 3)` and `dt` (a number or `(...)`) through `f`, one
+/// element at a time with the GIL released, into `(dtheta, dv)`; errors name the Python
+/// arguments and the element. With `rows_only` (the calling method's name) only `(N, 3)` rows
+/// or one `(3,)` increment are accepted. Nothing is returned on error.
+pub(crate) fn map_increments<'py>(
+    py: Python<'py>,
+    dtheta: &Bound<'py, PyAny>,
+    dv: &Bound<'py, PyAny>,
+    dt: &Bound<'py, PyAny>,
+    rows_only: Option<&str>,
+    mut f: impl FnMut(&ImuIncrement) -> rotaframe::Result<ImuIncrement> + Send,
+) -> PyResult<Bound<'py, PyTuple>> {
+    let mut a = Operand::extract(dtheta, "dtheta", &[3])?;
+    let mut v = Operand::extract(dv, "dv", &[3])?;
+    let mut t = Operand::extract(dt, "dt", &[])?;
+    let plan = Plan::for_operands(&mut [&mut a, &mut v, &mut t], &[])?;
+    if let Some(method) = rows_only
+        && plan.shape.len() > 1
+    {
+        return Err(ShapeError::new_err(format!(
+            "`{method}` takes rows of increments, (N, 3); got batch shape {:?}",
+            plan.shape
+        )));
+    }
+    let n = plan.n;
+    let (aa, va, ta) = (a.access(&plan), v.access(&plan), t.access(&plan));
+    let mut out_a = vec![0.0; 3 * n];
+    let mut out_v = vec![0.0; 3 * n];
+    let result = run(py, n, |i| {
+        let m = f(&ImuIncrement::new(aa.vec3(i), va.vec3(i), ta.scalar(i)))?;
+        out_a[3 * i..3 * i + 3].copy_from_slice(m.delta_angle.as_slice());
+        out_v[3 * i..3 * i + 3].copy_from_slice(m.delta_velocity.as_slice());
+        Ok(())
+    });
+    result.map_err(|f| failure_to_py(&Failure { index: f.index, error: nav_name(f.error) }, &plan, &[&a, &v, &t]))?;
+    let mut dims = plan.shape.clone();
+    dims.push(3);
+    PyTuple::new(py, [array_from(py, dims.clone(), &out_a), array_from(py, dims, &out_v)])
+}
+
 /// Seeded IMU sensor errors for simulation: per-axis bias, scale factor, misalignment (3×3,
 /// zero diagonal), white noise (gyro angle random walk in deg/√h, accelerometer velocity random
 /// walk in m/s/√h) and a first-order Gauss–Markov bias (steady-state sigma, correlation time).
@@ -1237,33 +1277,11 @@ impl PyImuErrors {
         dv: &Bound<'py, PyAny>,
         dt: &Bound<'py, PyAny>,
     ) -> PyResult<Bound<'py, PyTuple>> {
-        let mut a = Operand::extract(dtheta, "dtheta", &[3])?;
-        let mut v = Operand::extract(dv, "dv", &[3])?;
-        let mut t = Operand::extract(dt, "dt", &[])?;
-        let plan = Plan::for_operands(&mut [&mut a, &mut v, &mut t], &[])?;
-        if plan.shape.len() > 1 {
-            return Err(ShapeError::new_err(format!(
-                "`apply` takes rows of increments, (N, 3); got batch shape {:?}",
-                plan.shape
-            )));
-        }
-        let n = plan.n;
-        let (aa, va, ta) = (a.access(&plan), v.access(&plan), t.access(&plan));
         let mut generator = self.lock()?;
         let mut trial = generator.clone();
-        let mut out_a = vec![0.0; 3 * n];
-        let mut out_v = vec![0.0; 3 * n];
-        let result = run(py, n, |i| {
-            let m = trial.corrupt(&ImuIncrement::new(aa.vec3(i), va.vec3(i), ta.scalar(i)))?;
-            out_a[3 * i..3 * i + 3].copy_from_slice(m.delta_angle.as_slice());
-            out_v[3 * i..3 * i + 3].copy_from_slice(m.delta_velocity.as_slice());
-            Ok(())
-        });
-        result.map_err(|f| failure_to_py(&Failure { index: f.index, error: nav_name(f.error) }, &plan, &[&a, &v, &t]))?;
+        let out = map_increments(py, dtheta, dv, dt, Some("apply"), |increment| trial.corrupt(increment))?;
         *generator = trial;
-        let mut dims = plan.shape.clone();
-        dims.push(3);
-        PyTuple::new(py, [array_from(py, dims.clone(), &out_a), array_from(py, dims, &out_v)])
+        Ok(out)
     }
 
     /// The seed the random stream started from.
