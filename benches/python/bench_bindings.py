@@ -266,13 +266,18 @@ def measure_one(function, n, contender, repeat):
     return best(calls[contender], repeat) / n * 1e9
 
 
-def measure_fresh(function, n, contenders, repeat):
-    """ns per sample of each contender, each measured in a fresh process (None: not available)."""
+def measure_fresh(function, n, contenders, repeat, rounds=1):
+    """ns per sample of each contender (None: not available), each run in a fresh process;
+    with several `rounds`, the contenders take turns in every round and each keeps its best,
+    so that a slow spell of the machine does not fall on one contender only."""
     t = {}
-    for contender in contenders:
-        out = subprocess.run([sys.executable, __file__, "--repeat", str(repeat), "--one", function, str(n), contender],
-                             capture_output=True, text=True, check=True).stdout.strip().splitlines()[-1]
-        t[contender] = None if out == "none" else float(out)
+    for _ in range(rounds):
+        for contender in contenders:
+            out = subprocess.run([sys.executable, __file__, "--repeat", str(repeat), "--one", function, str(n), contender],
+                                 capture_output=True, text=True, check=True).stdout.strip().splitlines()[-1]
+            value = None if out == "none" else float(out)
+            best_so_far = t.get(contender)
+            t[contender] = value if best_so_far is None else best_so_far if value is None else min(best_so_far, value)
     return t
 
 
@@ -280,6 +285,8 @@ def main():
     ap = argparse.ArgumentParser()
     ap.add_argument("--sizes", type=int, nargs="+", default=[1000, 100_000, 1_000_000])
     ap.add_argument("--repeat", type=int, default=7)
+    ap.add_argument("--rounds", type=int, default=3, help="turns taken by the out= contenders (best kept)")
+    ap.add_argument("--functions", nargs="+", default=FUNCTIONS, choices=FUNCTIONS)
     ap.add_argument("--one", nargs=3, metavar=("FUNCTION", "N", "CONTENDER"), help=argparse.SUPPRESS)
     args = ap.parse_args()
     if args.one:
@@ -289,7 +296,7 @@ def main():
     print(f"ns per sample, best of {args.repeat} runs, each contender in a fresh process (same heap state for all);")
     print("speed-ups are numpy/rotaframe and numba/rotaframe; 'vs floor' is rotaframe over the memory floor")
     print(f"{'function':<18} {'N':>9} {'rotaframe':>9} {'numpy':>9} {'numba':>9} {'floor':>9} {'vs numpy':>9} {'vs numba':>8} {'vs floor':>8}")
-    for function in FUNCTIONS:
+    for function in args.functions:
         for n in args.sizes:
             t = measure_fresh(function, n, CONTENDERS, args.repeat)
             nb = f"{t['numba']:9.1f}" if t["numba"] is not None else "      n/a"
@@ -297,16 +304,18 @@ def main():
             print(f"{function:<18} {n:>9} {t['rotaframe']:9.1f} {t['numpy']:9.1f} {nb} {t['floor']:9.1f} "
                   f"{t['numpy'] / t['rotaframe']:8.1f}x {nb_ratio} {t['rotaframe'] / t['floor']:8.2f}")
 
-    print("\nwith preallocated outputs (out=): ns per sample; 'vs floor' over the out= memory floor (read the inputs,")
-    print("write the preallocated outputs), 'vs numba' numba's preallocated loop over rotaframe's, 'threads' 1-thread/2-thread")
-    print(f"{'function':<18} {'N':>9} {'out=':>9} {'2 thr':>9} {'numba':>9} {'floor':>9} {'vs floor':>8} {'2thr/fl':>8} {'vs numba':>8} {'threads':>8}")
-    for function in FUNCTIONS:
+    print(f"\nwith preallocated outputs (out=): ns per sample, best over {args.rounds} rounds in which the contenders take turns;")
+    print("'vs floor' rotaframe over the out= memory floor (read the inputs, write the preallocated outputs), 'nb/fl'")
+    print("numba's preallocated loop over the same floor, 'vs numba' numba's time over rotaframe's, 'threads' 1-thread/2-thread")
+    print(f"{'function':<18} {'N':>9} {'out=':>9} {'2 thr':>9} {'numba':>9} {'floor':>9} {'vs floor':>8} {'2thr/fl':>8} {'nb/fl':>7} {'vs numba':>8} {'threads':>8}")
+    for function in args.functions:
         for n in args.sizes:
-            t = measure_fresh(function, n, OUT_CONTENDERS, args.repeat)
+            t = measure_fresh(function, n, OUT_CONTENDERS, args.repeat, args.rounds)
             one, two, fl = t["rotaframe out="], t["rotaframe out= threads=2"], t["floor out="]
             nb = f"{t['numba out=']:9.1f}" if t["numba out="] is not None else "      n/a"
+            nb_fl = f"{t['numba out='] / fl:7.2f}" if t["numba out="] is not None else "    n/a"
             nb_ratio = f"{t['numba out='] / one:7.2f}x" if t["numba out="] is not None else "     n/a"
-            print(f"{function:<18} {n:>9} {one:9.1f} {two:9.1f} {nb} {fl:9.1f} {one / fl:8.2f} {two / fl:8.2f} {nb_ratio} {one / two:7.2f}x")
+            print(f"{function:<18} {n:>9} {one:9.1f} {two:9.1f} {nb} {fl:9.1f} {one / fl:8.2f} {two / fl:8.2f} {nb_fl} {nb_ratio} {one / two:7.2f}x")
 
     w1, r1 = np.array([0.0, 0.0, 1.0]), np.array([1.0, 2.0, 3.0])
     k = 20000
