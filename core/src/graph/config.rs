@@ -58,7 +58,8 @@ use alloc::vec::Vec;
 use nalgebra::{Quaternion, UnitQuaternion, Vector3};
 use serde::{Deserialize, Serialize};
 
-use super::tree::{Declared, Edge, FrameGraph, GraphError};
+use super::error::GraphError;
+use super::tree::{Declared, Edge, FrameGraph};
 use super::{EarthRotation, Fixed, LocalAxes, Site, Spin, StaticEdge};
 use crate::earth::{EarthModel, GRS80, Geodetic, WGS84};
 use crate::rotation::{EulerZyx, quaternion_from_wxyz};

@@ -62,10 +62,20 @@
 #[cfg(feature = "std")]
 pub mod config;
 #[cfg(feature = "alloc")]
+mod error;
+mod evaluate;
+#[cfg(feature = "alloc")]
+mod sampled;
+#[cfg(feature = "alloc")]
 mod tree;
 
 #[cfg(feature = "alloc")]
-pub use tree::{Declared, Edge, EdgeFunction, FrameGraph, GraphError, MotionSource, SampledEdge, SamplesKind};
+pub use error::GraphError;
+pub use evaluate::EdgeCaches;
+#[cfg(feature = "alloc")]
+pub use sampled::{SampledEdge, SamplesKind};
+#[cfg(feature = "alloc")]
+pub use tree::{Declared, Edge, EdgeFunction, FrameGraph, MotionSource};
 
 use core::fmt;
 

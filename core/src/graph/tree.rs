@@ -7,192 +7,16 @@ use core::fmt;
 
 use nalgebra::Vector3;
 
-use super::{EarthRotation, Fixed, FrameId, FrameTree, GraphFault, Motion, Path, Site, Spin, StaticEdge};
+use super::error::{GraphError, GraphResult};
+use super::sampled::{SampledEdge, SamplesKind};
+use super::{EarthRotation, EdgeCaches, Fixed, FrameId, FrameTree, GraphFault, Motion, Path, Site, Spin, StaticEdge};
 use crate::apparent::{ApparentAcceleration, FrameDynamics, apparent_terms};
-use crate::earth::{EarthModel, Geodetic, ecef_from_ned_quaternion, geodetic_to_ecef};
-use crate::error::{BatchError, Error, Result};
+use crate::error::{Error, Result};
 use crate::frames::{AnyFrame, PointKinematics};
-use crate::nav::{CartesianSamples, PoseSource, SampledMotion, SegmentCache};
-use crate::rotation::quaternion_from_wxyz;
+use crate::nav::SegmentCache;
 
 /// A user's edge: the motion of the child relative to the parent at a time (s).
 pub type EdgeFunction = Box<dyn Fn(f64) -> Result<Motion> + Send + Sync>;
-
-/// One geodetic sample in ECEF: position, body-to-ECEF quaternion, ECEF velocity if given.
-type ConvertedSample = ([f64; 3], [f64; 4], Option<[f64; 3]>);
-
-/// How a sampled edge's positions were given.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum SamplesKind {
-    /// Geodetic positions and body-to-NED attitudes, relative to the Earth-fixed frame
-    /// (converted to ECEF positions and body-to-ECEF attitudes when attached).
-    Geodetic,
-    /// Cartesian positions and child-to-parent attitudes, in the parent.
-    Cartesian,
-}
-
-/// Sampled poses held by a graph, in the parent's coordinates (see [`CartesianSamples`] for
-/// the meaning of each array).
-#[derive(Debug, Clone, PartialEq)]
-struct OwnedPoses {
-    times: Vec<f64>,
-    positions: Vec<[f64; 3]>,
-    attitudes: Vec<[f64; 4]>,
-    velocities: Option<Vec<[f64; 3]>>,
-    angular_rates: Option<Vec<[f64; 3]>>,
-}
-
-impl OwnedPoses {
-    fn view(&self) -> CartesianSamples<'_> {
-        CartesianSamples {
-            times: &self.times,
-            positions: &self.positions,
-            attitudes: &self.attitudes,
-            velocities: self.velocities.as_deref(),
-            angular_rates: self.angular_rates.as_deref(),
-        }
-    }
-}
-
-impl PoseSource for OwnedPoses {
-    fn len(&self) -> usize {
-        self.view().len()
-    }
-    fn time(&self, index: usize) -> f64 {
-        self.times[index]
-    }
-    fn pose(&self, index: usize) -> Result<(Vector3<f64>, nalgebra::Quaternion<f64>)> {
-        self.view().pose(index)
-    }
-    fn rates(&self, index: usize) -> Result<Option<(Vector3<f64>, Vector3<f64>)>> {
-        self.view().rates(index)
-    }
-}
-
-/// A logged motion attached to a graph: samples interpolated by
-/// [`SampledMotion`](crate::nav::SampledMotion) (no extrapolation outside their span).
-#[derive(Debug, Clone, PartialEq)]
-pub struct SampledEdge {
-    kind: SamplesKind,
-    motion: SampledMotion<OwnedPoses>,
-}
-
-impl PartialEq for SampledMotion<OwnedPoses> {
-    fn eq(&self, other: &Self) -> bool {
-        self.poses() == other.poses()
-    }
-}
-
-impl SampledEdge {
-    /// Cartesian samples in the parent: times (s, strictly increasing), positions (m),
-    /// child-to-parent attitudes `[w, x, y, z]`, and optionally velocities (m/s, parent axes)
-    /// and angular rates (rad/s, of the child relative to the parent, in child axes), both or
-    /// neither.
-    ///
-    /// # Errors
-    /// [`BatchError`] with the index of the first bad sample (as
-    /// [`SampledMotion::new`](crate::nav::SampledMotion::new)); [`Error::LengthMismatch`] if
-    /// the arrays differ in length.
-    pub fn cartesian(
-        times: Vec<f64>,
-        positions: Vec<[f64; 3]>,
-        attitudes: Vec<[f64; 4]>,
-        velocities: Option<Vec<[f64; 3]>>,
-        angular_rates: Option<Vec<[f64; 3]>>,
-    ) -> core::result::Result<Self, BatchError> {
-        let n = times.len();
-        let lengths = [
-            ("positions", positions.len()),
-            ("attitudes", attitudes.len()),
-            ("velocities", velocities.as_ref().map_or(n, Vec::len)),
-            ("angular_rates", angular_rates.as_ref().map_or(n, Vec::len)),
-        ];
-        for (quantity, found) in lengths {
-            if found != n {
-                return Err(BatchError { index: 0, error: Error::LengthMismatch { quantity, found, expected: n } });
-            }
-        }
-        let poses = OwnedPoses { times, positions, attitudes, velocities, angular_rates };
-        Ok(Self { kind: SamplesKind::Cartesian, motion: SampledMotion::new(poses)? })
-    }
-
-    /// Geodetic samples relative to the Earth-fixed frame of `model`: times (s), positions,
-    /// body-to-NED attitudes `[w, x, y, z]`, and optionally NED velocities relative to the
-    /// Earth (m/s) and body rates relative to the Earth in body axes (rad/s). They are
-    /// converted to ECEF positions and body-to-ECEF attitudes here, as
-    /// [`RecordedTrajectory`](crate::nav::RecordedTrajectory) does.
-    ///
-    /// # Errors
-    /// As [`cartesian`](Self::cartesian), the index that of the bad sample.
-    pub fn geodetic(
-        model: &EarthModel,
-        times: Vec<f64>,
-        positions: &[Geodetic],
-        attitudes: &[[f64; 4]],
-        velocities_ned: Option<&[[f64; 3]]>,
-        angular_rates: Option<&[[f64; 3]]>,
-    ) -> core::result::Result<Self, BatchError> {
-        let n = times.len();
-        let lengths = [
-            ("positions", positions.len()),
-            ("attitudes", attitudes.len()),
-            ("velocities", velocities_ned.map_or(n, <[_]>::len)),
-            ("angular_rates", angular_rates.map_or(n, <[_]>::len)),
-        ];
-        for (quantity, found) in lengths {
-            if found != n {
-                return Err(BatchError { index: 0, error: Error::LengthMismatch { quantity, found, expected: n } });
-            }
-        }
-        let mut ecef = Vec::with_capacity(n);
-        let mut body_to_ecef = Vec::with_capacity(n);
-        let mut velocities = velocities_ned.map(|_| Vec::with_capacity(n));
-        for (index, (position, attitude)) in positions.iter().zip(attitudes).enumerate() {
-            let convert = || -> Result<ConvertedSample> {
-                let r = geodetic_to_ecef(model, position)?;
-                let q_en = ecef_from_ned_quaternion(position.latitude, position.longitude)?;
-                let q = (q_en * quaternion_from_wxyz(*attitude, "attitude")?).into_inner();
-                let v = velocities_ned.map(|v| (q_en * Vector3::from(v[index])).into());
-                Ok((r.into(), [q.w, q.i, q.j, q.k], v))
-            };
-            let (r, q, v) = convert().map_err(|error| BatchError { index, error })?;
-            ecef.push(r);
-            body_to_ecef.push(q);
-            if let (Some(vs), Some(v)) = (velocities.as_mut(), v) {
-                vs.push(v);
-            }
-        }
-        let mut edge = Self::cartesian(times, ecef, body_to_ecef, velocities, angular_rates.map(<[_]>::to_vec))?;
-        edge.kind = SamplesKind::Geodetic;
-        Ok(edge)
-    }
-
-    /// How the samples were given.
-    #[must_use]
-    pub fn kind(&self) -> SamplesKind {
-        self.kind
-    }
-
-    /// The samples as held (in the parent's coordinates: ECEF for geodetic samples).
-    #[must_use]
-    pub fn samples(&self) -> CartesianSamples<'_> {
-        self.motion.poses().view()
-    }
-
-    /// Time of the first and last sample (s).
-    #[must_use]
-    pub fn span(&self) -> (f64, f64) {
-        (self.motion.start_time(), self.motion.end_time())
-    }
-
-    /// The interpolated motion at `time` (within the span), reusing `cache`.
-    ///
-    /// # Errors
-    /// As [`SampledMotion::motion_at`](crate::nav::SampledMotion::motion_at).
-    pub fn motion_at(&self, time: f64, cache: &mut SegmentCache) -> Result<Motion> {
-        self.motion.motion_cached(time, cache)
-    }
-}
 
 /// A frame whose motion a configuration file names but does not hold; it is supplied in code
 /// ([`FrameGraph::add_samples`], [`FrameGraph::add_function`] on the same name and parent).
@@ -229,7 +53,7 @@ impl fmt::Debug for Edge {
         match self {
             Edge::Root => f.write_str("Root"),
             Edge::Static(s) => f.debug_tuple("Static").field(s).finish(),
-            Edge::Sampled(s) => f.debug_tuple("Sampled").field(&s.kind).field(&s.span()).finish(),
+            Edge::Sampled(s) => f.debug_tuple("Sampled").field(&s.kind()).field(&s.span()).finish(),
             Edge::Function(_) => f.write_str("Function"),
             Edge::External => f.write_str("External"),
             Edge::Declared(d) => f.debug_tuple("Declared").field(d).finish(),
@@ -268,128 +92,6 @@ pub struct FrameGraph {
     inertial: bool,
     frames: Vec<Entry>,
 }
-
-/// Why a graph operation failed, naming frames.
-#[derive(Debug, Clone, PartialEq)]
-#[non_exhaustive]
-pub enum GraphError {
-    /// A frame name not in the graph.
-    UnknownFrame {
-        /// The name given.
-        name: String,
-        /// The graph's names closest to it (by edit distance), for "did you mean".
-        nearest: Vec<String>,
-    },
-    /// A frame name already in the graph.
-    DuplicateName {
-        /// The name.
-        name: String,
-    },
-    /// A frame name that is empty or holds control characters.
-    BadName {
-        /// The name.
-        name: String,
-    },
-    /// Parent links that loop (in a configuration file).
-    Cycle {
-        /// The frames on the loop.
-        frames: Vec<String>,
-    },
-    /// Two frames with no common ancestor.
-    DifferentTrees {
-        /// The query's parent frame.
-        parent: String,
-        /// The query's child frame.
-        child: String,
-    },
-    /// A frame too deep below the root.
-    TooDeep {
-        /// The frame.
-        name: String,
-    },
-    /// Apparent accelerations asked of a graph whose root is not inertial.
-    NotInertial {
-        /// The root's name.
-        root: String,
-    },
-    /// A frame declared in a configuration file whose motion is not attached yet.
-    Unattached {
-        /// The frame.
-        name: String,
-        /// What it waits for: `"samples"` or `"function"`.
-        kind: &'static str,
-    },
-    /// Geodetic samples under a parent that is not an Earth-fixed frame.
-    NotEarthFixed {
-        /// The frame being added.
-        name: String,
-        /// Its parent.
-        parent: String,
-    },
-    /// An edge's motion could not be evaluated (a time outside a sampled edge's span, a bad
-    /// value from a function edge), or an edge's parameters were refused.
-    Edge {
-        /// The frame.
-        name: String,
-        /// The position in a batch of times, if the query was batched.
-        index: Option<usize>,
-        /// Why.
-        error: Error,
-    },
-    /// A configuration file that cannot be read.
-    Config {
-        /// The line (1-based) the problem is on, when known.
-        line: Option<usize>,
-        /// What is wrong.
-        message: String,
-    },
-}
-
-impl fmt::Display for GraphError {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        match self {
-            GraphError::UnknownFrame { name, nearest } => {
-                write!(f, "no frame named {name:?}")?;
-                match nearest.as_slice() {
-                    [] => Ok(()),
-                    [one] => write!(f, " (did you mean {one:?}?)"),
-                    many => {
-                        let quoted: Vec<String> = many.iter().map(|n| alloc::format!("{n:?}")).collect();
-                        write!(f, " (did you mean one of {}?)", quoted.join(", "))
-                    }
-                }
-            }
-            GraphError::DuplicateName { name } => write!(f, "a frame named {name:?} is already in the graph"),
-            GraphError::BadName { name } => write!(f, "frame name {name:?} must be non-empty and hold no control characters"),
-            GraphError::Cycle { frames } => write!(f, "the parents of frames {} form a loop", frames.join(" → ")),
-            GraphError::DifferentTrees { parent, child } => {
-                write!(f, "frames {parent:?} and {child:?} have no common ancestor")
-            }
-            GraphError::TooDeep { name } => write!(f, "frame {name:?} is more than {} edges below the root", super::MAX_DEPTH),
-            GraphError::NotInertial { root } => write!(
-                f,
-                "the graph's root {root:?} is not declared inertial, so its frames have no apparent accelerations (build the graph with an inertial root)"
-            ),
-            GraphError::Unattached { name, kind } => write!(
-                f,
-                "frame {name:?} has no motion yet: attach its {kind} in code (add_{kind} with the same name and parent)"
-            ),
-            GraphError::NotEarthFixed { name, parent } => write!(
-                f,
-                "frame {name:?}: geodetic samples are relative to an Earth-fixed frame, but its parent {parent:?} is not one (add it under the frame added with add_earth, or give Cartesian positions)"
-            ),
-            GraphError::Edge { name, index: Some(i), error } => write!(f, "frame {name:?}, at time index {i}: {error}"),
-            GraphError::Edge { name, index: None, error } => write!(f, "frame {name:?}: {error}"),
-            GraphError::Config { line: Some(line), message } => write!(f, "frame graph file, line {line}: {message}"),
-            GraphError::Config { line: None, message } => write!(f, "frame graph file: {message}"),
-        }
-    }
-}
-
-impl core::error::Error for GraphError {}
-
-/// A short result alias.
-type GraphResult<T> = core::result::Result<T, GraphError>;
 
 impl FrameTree for FrameGraph {
     fn frame_count(&self) -> usize {
@@ -763,7 +465,7 @@ impl FrameGraph {
     /// ```
     pub fn motion_source(&self, parent: FrameId, child: FrameId) -> GraphResult<MotionSource<'_>> {
         let path = self.find_path(parent, child)?;
-        Ok(MotionSource { graph: self, folded: self.fold(&path), caches: [SegmentCache::default(); 2 * super::MAX_DEPTH] })
+        Ok(MotionSource { graph: self, folded: self.fold(&path), caches: EdgeCaches::default() })
     }
 
     /// The path with its constant edges composed once.
@@ -811,7 +513,8 @@ impl FrameGraph {
     }
 }
 
-/// The motions along `path` at every time (the body of [`FrameGraph::motions_each`]). (An
+/// The motions along `path` at every time (the body of [`FrameGraph::motions_each`]), by the
+/// shared loop of [`FoldedPath::motions_at_times`](super::FoldedPath::motions_at_times). (An
 /// AVX2 twin was measured slower here: the loop calls the platform's `sincos`.)
 #[inline(always)]
 fn motions_along(
@@ -819,40 +522,16 @@ fn motions_along(
     path: &Path,
     times: &[f64],
     external: &mut dyn FnMut(FrameId, usize, f64) -> Result<Motion>,
-    mut sink: impl FnMut(usize, Motion),
+    sink: impl FnMut(usize, Motion),
 ) -> GraphResult<()> {
     let folded = graph.fold(path);
-    let mut caches = [SegmentCache::default(); 2 * super::MAX_DEPTH];
-    for (index, &time) in times.iter().enumerate() {
-        let mut at = AtTime { graph, time, index, visit: 0, caches: &mut caches, external: &mut *external };
-        let m = folded.compose_from(&mut at).map_err(|fault| graph.named(fault, (times.len() > 1).then_some(index)))?;
-        sink(index, m);
-    }
-    Ok(())
-}
-
-/// The motion of each edge of a path at one time: one interval memory per edge of the path
-/// (the path visits its edges in the same order at every time, each once, so the k-th visit
-/// keeps the k-th memory).
-struct AtTime<'a> {
-    graph: &'a FrameGraph,
-    time: f64,
-    index: usize,
-    visit: usize,
-    caches: &'a mut [SegmentCache; 2 * super::MAX_DEPTH],
-    external: &'a mut dyn FnMut(FrameId, usize, f64) -> Result<Motion>,
-}
-
-impl super::EdgeMotions for AtTime<'_> {
-    type Error = GraphFault;
-    #[inline(always)]
-    fn edge_motion(&mut self, frame: FrameId) -> core::result::Result<Motion, GraphFault> {
-        let cache = &mut self.caches[self.visit];
-        self.visit += 1;
-        let (index, time) = (self.index, self.time);
-        let external = &mut *self.external;
-        self.graph.edge_motion(frame, time, cache, &mut |f| external(f, index, time))
-    }
+    folded
+        .motions_at_times(
+            times,
+            |frame, index, time, cache| graph.edge_motion(frame, time, cache, &mut |f| external(f, index, time)),
+            sink,
+        )
+        .map_err(|(index, fault)| graph.named(fault, (times.len() > 1).then_some(index)))
 }
 
 /// The motion of one frame relative to another at one time after another
@@ -861,7 +540,7 @@ impl super::EdgeMotions for AtTime<'_> {
 pub struct MotionSource<'a> {
     graph: &'a FrameGraph,
     folded: super::FoldedPath,
-    caches: [SegmentCache; 2 * super::MAX_DEPTH],
+    caches: EdgeCaches,
 }
 
 impl MotionSource<'_> {
@@ -870,11 +549,15 @@ impl MotionSource<'_> {
     /// # Errors
     /// [`GraphError::Edge`] naming the frame whose edge cannot give its motion at `time`.
     pub fn at(&mut self, time: f64) -> GraphResult<Motion> {
-        let mut external = |_: FrameId, _: usize, _: f64| -> Result<Motion> {
+        let mut external = |_: FrameId| -> Result<Motion> {
             Err(Error::Invalid { quantity: "edge", reason: "this external edge is evaluated by the binding that added it" })
         };
-        let mut at = AtTime { graph: self.graph, time, index: 0, visit: 0, caches: &mut self.caches, external: &mut external };
-        self.folded.compose_from(&mut at).map_err(|fault| self.graph.named(fault, None))
+        let graph = self.graph;
+        self.folded
+            .motion_at_time(0, time, &mut self.caches, |frame, _, time, cache| {
+                graph.edge_motion(frame, time, cache, &mut external)
+            })
+            .map_err(|fault| graph.named(fault, None))
     }
 }
 
