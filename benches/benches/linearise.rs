@@ -10,11 +10,16 @@
 //!   on models built beforehand.
 //! * `covariance_step_15`: one step of `predict_covariance` (the model, the covariance
 //!   propagated by its own series without forming `Φ` and `Q_d`, and the strapdown step).
+//! * `covariance_step_15_checked`: the same through `predict_covariance_kept` (the bindings'
+//!   entry: `P0` checked, a first pass over every step, every 100th covariance written), to
+//!   quote the price of all-or-nothing against `covariance_step_15` in the same run.
 
 use std::hint::black_box;
 
 use criterion::{Criterion, Throughput, criterion_group, criterion_main};
-use rotaframe::linearise::inertial::{bias_covariance, error_model, noise_psd, predict_covariance};
+use rotaframe::linearise::inertial::{
+    bias_covariance, error_model, kept_count, noise_psd, predict_covariance, predict_covariance_kept,
+};
 use rotaframe::nalgebra::{SMatrix, Vector3};
 use rotaframe::nav::{ImuErrorModel, SensorErrorModel, Strapdown, StrapdownConfig};
 
@@ -103,6 +108,13 @@ fn linearise(c: &mut Criterion) {
             let mut last = 0.0;
             predict_covariance::<15>(&initial, black_box(&incs), None, &model, &p0, |_, _, p| last = p[(0, 0)]).unwrap();
             black_box(last)
+        })
+    });
+    let mut kept = vec![0.0; kept_count(incs.len(), 100) * 225];
+    group.bench_function("covariance_step_15_checked", |b| {
+        b.iter(|| {
+            predict_covariance_kept::<15>(&initial, black_box(&incs), None, &model, &p0, 100, None, &mut kept).unwrap();
+            black_box(kept[0])
         })
     });
     group.finish();
