@@ -46,7 +46,7 @@ pub use recorded::{
 };
 pub use sensor::{
     ImuErrorGenerator, ImuErrorModel, MAX_SENSOR_ERROR, SensorErrorModel, Xoshiro256PlusPlus,
-    angle_random_walk_from_deg_per_sqrt_hour, velocity_random_walk_from_mps_per_sqrt_hour,
+    angle_random_walk_from_deg_per_sqrt_hour, stream_from_words, stream_words, velocity_random_walk_from_mps_per_sqrt_hour,
 };
 pub use strapdown::{
     MechanizationState, NavFrame, NavState, StepMemory, Strapdown, StrapdownConfig, VerticalChannel, max_aided_time_constant,

@@ -27,7 +27,10 @@
 //!
 //! Random numbers come from the xoshiro256++ generator (`rand_xoshiro`) seeded through
 //! SplitMix64, and standard normal draws from `rand_distr`'s ziggurat sampler: a seed gives
-//! the same sequence on every run and platform with the same build.
+//! the same sequence on every run and platform with the same build. A stream's position is
+//! saved as its four state words `s₀…s₃` ([`stream_words`]) and resumed from them
+//! ([`stream_from_words`]); the all-zero state, which xoshiro never reaches from a seed and
+//! cannot leave, is refused.
 
 use nalgebra::{Matrix3, Vector3};
 use rand_distr::{Distribution, StandardNormal};
@@ -40,6 +43,43 @@ use super::imu::ImuIncrement;
 use crate::error::{Error, Result, ensure_finite, ensure_finite3};
 use crate::limits::check_vector;
 use crate::math;
+
+/// The state words of a random stream, for saving its position (a C struct, a pickle):
+/// [`stream_from_words`] of them continues the stream exactly where it is.
+///
+/// ```
+/// use rotaframe::nav::{stream_from_words, stream_words, Xoshiro256PlusPlus};
+/// use rand_xoshiro::rand_core::{Rng, SeedableRng};
+/// let mut a = Xoshiro256PlusPlus::seed_from_u64(7);
+/// a.next_u64();
+/// let mut b = stream_from_words(&stream_words(&a))?;
+/// assert_eq!(a.next_u64(), b.next_u64());
+/// # Ok::<(), rotaframe::Error>(())
+/// ```
+#[must_use]
+pub fn stream_words(stream: &Xoshiro256PlusPlus) -> [u64; 4] {
+    let bytes = stream.state();
+    core::array::from_fn(|i| {
+        let mut word = [0u8; 8];
+        word.copy_from_slice(&bytes[8 * i..8 * i + 8]);
+        u64::from_le_bytes(word)
+    })
+}
+
+/// A random stream resumed from the state words that [`stream_words`] saved.
+///
+/// # Errors
+/// [`Error::Invalid`] naming `stream` for the all-zero state (one no seeded stream reaches).
+pub fn stream_from_words(words: &[u64; 4]) -> Result<Xoshiro256PlusPlus> {
+    if words.iter().all(|&w| w == 0) {
+        return Err(Error::Invalid { quantity: "stream", reason: "the all-zero state is not a state of a seeded stream" });
+    }
+    let mut seed = [0u8; 32];
+    for (chunk, word) in seed.chunks_exact_mut(8).zip(words) {
+        chunk.copy_from_slice(&word.to_le_bytes());
+    }
+    Ok(Xoshiro256PlusPlus::from_seed(seed))
+}
 
 /// Converts an angle random walk from deg/√h to rad/√s (the white-noise rate density).
 ///
