@@ -186,6 +186,23 @@ fn radii_of_curvature_at_45_degrees_and_the_poles() {
 }
 
 #[test]
+fn schuler_period_follows_two_pi_root_r_over_g_from_published_constants() {
+    // T = 2π √((√(M N) + h) / γ(φ, h)) (Schuler 1923; shared table). Equator: √(M N) =
+    // a √(1 − e²) with a, e² and γe = 9.7803253359 m/s² from NIMA TR8350.2 Tables 3.1, 3.3,
+    // 3.4: 5065.483 s. 45°, 1000 m: M, N and γ(45°, 1000 m) = 9.8031129436 m/s² from the
+    // shared table: 5068.478 s. Tolerance 1e-3 s: the published values carry 10–11 digits, and
+    // a relative error ε in R or γ moves T by ε/2 · 5065 s (5e-7 s for ε = 2e-10).
+    let a = 6378137.0_f64;
+    let equator = 2.0 * core::f64::consts::PI * (a * (1.0 - 6.69437999014e-3_f64).sqrt() / 9.7803253359).sqrt();
+    assert_abs_diff_eq!(schuler_period(&WGS84, 0.0, 0.0).unwrap(), equator, epsilon = 1e-3);
+    assert_abs_diff_eq!(equator, 5065.483, epsilon = 1e-3);
+    let at_45 = 2.0 * core::f64::consts::PI * (((6367381.8156_f64 * 6388838.2901).sqrt() + 1000.0) / 9.8031129436).sqrt();
+    assert_abs_diff_eq!(schuler_period(&WGS84, 45.0 * DEG, 1000.0).unwrap(), at_45, epsilon = 1e-3);
+    // Bad input is refused naming it, as by normal gravity.
+    assert!(schuler_period(&WGS84, f64::NAN, 0.0).is_err());
+}
+
+#[test]
 fn earth_rotation_angle_at_j2000_and_its_rate() {
     use core::f64::consts::TAU;
     // IERS Conventions 2010, eq. 5.15: θ(J2000.0) = 2π × 0.7790572732640.

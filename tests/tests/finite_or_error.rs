@@ -167,6 +167,9 @@ proptest! {
         if let Some(g) = check(earth::normal_gravity_at_height(&m, lat, h), |x| vec![*x], "normal_gravity_at_height") {
             prop_assert!(g > 0.0, "normal gravity {g} at height {h} must be positive");
         }
+        if let Some(t) = check(earth::schuler_period(&m, lat, h), |x| vec![*x], "schuler_period") {
+            prop_assert!(t > 0.0, "Schuler period {t} at height {h} must be positive");
+        }
         check(earth::gravity_ned(&m, lat, h), v3, "gravity_ned");
         check(earth::gravitation_ecef(&m, &r), v3, "gravitation_ecef");
         check(earth::gravity_ecef(&m, &r), v3, "gravity_ecef");

@@ -41,6 +41,20 @@
 //! gravity to 1.2e-4 m/s² (12 mGal) in magnitude and 6.4 µrad in direction, the effect of the
 //! higher zonal harmonics (J₄ and up) of the normal field that the J₂ truncation drops; the
 //! tests measure these figures.
+//!
+//! # The Schuler period
+//!
+//! A level platform (or a navigation error) carried over the Earth oscillates about the local
+//! vertical like a pendulum whose length is the Earth's radius (M. Schuler, *Physikalische
+//! Zeitschrift* 24, 1923; D. H. Titterton and J. L. Weston, *Strapdown Inertial Navigation
+//! Technology*, 2nd ed., §12.3, from memory of the section):
+//!
+//! ```text
+//! T_S = 2π √(R / γ(φ, h)),   R = √(M N) + h
+//! ```
+//!
+//! with `M`, `N` the meridian and prime-vertical radii of curvature (the Gaussian mean radius)
+//! and `γ` normal gravity: about 84.5 min at 45°. [`schuler_period`].
 
 use nalgebra::Vector3;
 
@@ -101,6 +115,23 @@ pub(crate) fn normal_gravity_at_height_unchecked(model: &EarthModel, sin2: f64, 
     let f = model.flattening();
     let linear = 2.0 / a * (1.0 + f + model.gravity_ratio_m() - 2.0 * f * sin2);
     somigliana(model, sin2) * (1.0 - linear * height + 3.0 / (a * a) * height * height)
+}
+
+/// The Schuler period (s) at geodetic latitude `latitude` (rad) and ellipsoidal height
+/// `height` (m): `2π √((√(M N) + h) / γ(φ, h))` (see the [module documentation](self)).
+///
+/// # Errors
+/// As [`normal_gravity_at_height`].
+///
+/// ```
+/// use rotaframe::earth::{schuler_period, WGS84};
+/// let t = schuler_period(&WGS84, 45f64.to_radians(), 0.0).unwrap();
+/// assert!((t / 60.0 - 84.46).abs() < 0.01); // minutes
+/// ```
+pub fn schuler_period(model: &EarthModel, latitude: f64, height: f64) -> Result<f64> {
+    let g = normal_gravity_at_height(model, latitude, height)?;
+    let radii = super::local::radii_of_curvature(model, latitude)?;
+    Ok(2.0 * core::f64::consts::PI * math::sqrt((math::sqrt(radii.meridian * radii.prime_vertical) + height) / g))
 }
 
 /// The plumb-line (normal) gravity vector resolved in NED, `(0, 0, γ(φ, h))` (m/s²); see the

@@ -38,6 +38,7 @@ pub use geodetic::{
 };
 pub use gravity::{
     GravityModel, gravitation_ecef, gravity_ecef, gravity_ned, normal_gravity, normal_gravity_at_height, point_mass_gravitation,
+    schuler_period,
 };
 pub use local::{
     ENU_FROM_NED, POLE_EXCLUSION, RadiiOfCurvature, coriolis_ned, earth_rate_ned, ecef_from_ned_quaternion, enu_from_ecef,
