@@ -1385,6 +1385,12 @@ rf_status rf_earth_rotation_angle(double jd_ut1, double jd_ut1_fraction, double 
 rf_status rf_normal_gravity(const struct rf_earth_model *model, double latitude, double height, double *out_gravity);
 
 /**
+ * The Schuler period (s), `2π √((√(M N) + h) / γ(φ, h))`, at a geodetic latitude (rad) and
+ * ellipsoidal height (m).
+ */
+rf_status rf_schuler_period(const struct rf_earth_model *model, double latitude, double height, double *out_period);
+
+/**
  * Coriolis parameter `2 Ω sin φ` (1/s).
  */
 rf_status rf_coriolis_parameter(const struct rf_earth_model *model, double latitude, double *out_parameter);

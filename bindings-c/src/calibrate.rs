@@ -26,6 +26,8 @@ pub enum rf_triad_parameters {
     RF_TRIAD_BIAS = 2,
 }
 
+crate::enums::c_enum!(rf_triad_parameters { RF_TRIAD_FULL, RF_TRIAD_BIAS_SCALE, RF_TRIAD_BIAS });
+
 /// Where a calibration test runs. All-zero is WGS 84, normal gravity, on the equator at zero
 /// height.
 #[repr(C)]
@@ -137,11 +139,10 @@ fn site(s: &rf_calibration_site) -> Fallible<CalibrationSite> {
 }
 
 fn parameters(value: u32) -> Fallible<TriadParameters> {
-    match value {
-        0 => Ok(TriadParameters::Full),
-        1 => Ok(TriadParameters::BiasAndScale),
-        2 => Ok(TriadParameters::Bias),
-        _ => Err(RF_STATUS_INVALID_ARGUMENT),
+    match rf_triad_parameters::from_u32(value).ok_or(RF_STATUS_INVALID_ARGUMENT)? {
+        rf_triad_parameters::RF_TRIAD_FULL => Ok(TriadParameters::Full),
+        rf_triad_parameters::RF_TRIAD_BIAS_SCALE => Ok(TriadParameters::BiasAndScale),
+        rf_triad_parameters::RF_TRIAD_BIAS => Ok(TriadParameters::Bias),
     }
 }
 

@@ -315,6 +315,18 @@ pub unsafe extern "C" fn rf_normal_gravity(
     unsafe { scalar_at(model, latitude, height, out_gravity, earth::normal_gravity_at_height) }
 }
 
+/// The Schuler period (s), `2π √((√(M N) + h) / γ(φ, h))`, at a geodetic latitude (rad) and
+/// ellipsoidal height (m).
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn rf_schuler_period(
+    model: *const rf_earth_model,
+    latitude: f64,
+    height: f64,
+    out_period: *mut f64,
+) -> rf_status {
+    unsafe { scalar_at(model, latitude, height, out_period, earth::schuler_period) }
+}
+
 /// Coriolis parameter `2 Ω sin φ` (1/s).
 #[unsafe(no_mangle)]
 pub unsafe extern "C" fn rf_coriolis_parameter(

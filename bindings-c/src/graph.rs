@@ -36,6 +36,17 @@ pub enum rf_edge_kind {
     RF_EDGE_FUNCTION = 7,
 }
 
+crate::enums::c_enum!(rf_edge_kind {
+    RF_EDGE_ROOT,
+    RF_EDGE_FIXED,
+    RF_EDGE_SPIN,
+    RF_EDGE_EARTH,
+    RF_EDGE_SITE,
+    RF_EDGE_SAMPLES_GEODETIC,
+    RF_EDGE_SAMPLES_CARTESIAN,
+    RF_EDGE_FUNCTION,
+});
+
 /// Local-level axes of a site, for `rf_graph_add_site`.
 #[repr(u32)]
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -45,6 +56,8 @@ pub enum rf_local_axes {
     /// East, north, up.
     RF_AXES_ENU = 1,
 }
+
+crate::enums::c_enum!(rf_local_axes { RF_AXES_NED, RF_AXES_ENU });
 
 /// A Cartesian sample of a child frame's pose in its parent: time (s), position of its origin
 /// in the parent (m) and child-to-parent attitude.
@@ -240,34 +253,36 @@ impl rf_graph {
 
 /// The motion of `frame` relative to its parent at `time`.
 fn edge_motion(node: &rf_graph_node, time: f64, cache: &mut SegmentCache) -> Fallible<Motion> {
-    let kind = node.kind;
-    Ok(if kind == rf_edge_kind::RF_EDGE_ROOT as u32 {
-        Motion::identity()
-    } else if kind == rf_edge_kind::RF_EDGE_FIXED as u32 || kind == rf_edge_kind::RF_EDGE_SITE as u32 {
-        node.motion.to_core()?
-    } else if kind == rf_edge_kind::RF_EDGE_SPIN as u32 {
-        Spin::new(node.spin_axis.into(), node.spin_rate, node.spin_angle_at_zero, node.spin_angular_acceleration)?
-            .motion_at(time)?
-    } else if kind == rf_edge_kind::RF_EDGE_EARTH as u32 {
-        EarthRotation::with_angle(node.model.to_core()?, node.earth_angle_at_epoch)?.motion_at(time)?
-    } else if kind == rf_edge_kind::RF_EDGE_SAMPLES_CARTESIAN as u32 {
-        let samples = unsafe { slice(node.samples.cast::<rf_pose_sample>(), node.sample_count) }?;
-        SampledMotion::new_unchecked(PoseArray(samples)).motion_cached(time, cache)?
-    } else if kind == rf_edge_kind::RF_EDGE_SAMPLES_GEODETIC as u32 {
-        let samples = unsafe { slice(node.samples.cast::<rf_recorded_sample>(), node.sample_count) }?;
-        let poses = GeodeticPoses { model: node.model.to_core()?, source: RecordArray(samples) };
-        SampledMotion::new_unchecked(poses).motion_cached(time, cache)?
-    } else if kind == rf_edge_kind::RF_EDGE_FUNCTION as u32 {
-        let f = node.function.ok_or(crate::status::RF_STATUS_NULL_POINTER)?;
-        let mut m = rf_frame_motion::default();
-        // SAFETY: the caller registered `f` with this context and vouches for both.
-        let status = unsafe { f(node.context, time, &mut m) };
-        if status != rf_status::RF_STATUS_OK {
-            return Err(status);
+    let kind = rf_edge_kind::from_u32(node.kind).ok_or(RF_STATUS_INVALID_ARGUMENT)?;
+    Ok(match kind {
+        rf_edge_kind::RF_EDGE_ROOT => Motion::identity(),
+        rf_edge_kind::RF_EDGE_FIXED | rf_edge_kind::RF_EDGE_SITE => node.motion.to_core()?,
+        rf_edge_kind::RF_EDGE_SPIN => {
+            Spin::new(node.spin_axis.into(), node.spin_rate, node.spin_angle_at_zero, node.spin_angular_acceleration)?
+                .motion_at(time)?
         }
-        m.to_core()?
-    } else {
-        return Err(RF_STATUS_INVALID_ARGUMENT);
+        rf_edge_kind::RF_EDGE_EARTH => {
+            EarthRotation::with_angle(node.model.to_core()?, node.earth_angle_at_epoch)?.motion_at(time)?
+        }
+        rf_edge_kind::RF_EDGE_SAMPLES_CARTESIAN => {
+            let samples = unsafe { slice(node.samples.cast::<rf_pose_sample>(), node.sample_count) }?;
+            SampledMotion::new_unchecked(PoseArray(samples)).motion_cached(time, cache)?
+        }
+        rf_edge_kind::RF_EDGE_SAMPLES_GEODETIC => {
+            let samples = unsafe { slice(node.samples.cast::<rf_recorded_sample>(), node.sample_count) }?;
+            let poses = GeodeticPoses { model: node.model.to_core()?, source: RecordArray(samples) };
+            SampledMotion::new_unchecked(poses).motion_cached(time, cache)?
+        }
+        rf_edge_kind::RF_EDGE_FUNCTION => {
+            let f = node.function.ok_or(crate::status::RF_STATUS_NULL_POINTER)?;
+            let mut m = rf_frame_motion::default();
+            // SAFETY: the caller registered `f` with this context and vouches for both.
+            let status = unsafe { f(node.context, time, &mut m) };
+            if status != rf_status::RF_STATUS_OK {
+                return Err(status);
+            }
+            m.to_core()?
+        }
     })
 }
 
@@ -280,13 +295,7 @@ fn fault(f: GraphFault) -> rf_status {
 }
 
 /// The motions of `child` relative to `parent` at each time, handed to `sink`.
-fn motions(
-    frames: &[rf_graph_node],
-    parent: u32,
-    child: u32,
-    times: &[f64],
-    mut sink: impl FnMut(usize, Motion),
-) -> Fallible<()> {
+fn motions(frames: &[rf_graph_node], parent: u32, child: u32, times: &[f64], sink: impl FnMut(usize, Motion)) -> Fallible<()> {
     let tree = Nodes(frames);
     let path = Path::between(&tree, parent as usize, child as usize).map_err(|f| match f {
         GraphFault::UnknownFrame { .. } => rotaframe::Error::OutOfRange {
@@ -298,26 +307,16 @@ fn motions(
         .into(),
         other => fault(other),
     })?;
-    // Constant edges composed once, as the Rust graph does (the same results to the bit).
-    // A node whose stored motion does not convert is left to fail at its first time.
+    // Constant edges composed once, and the times evaluated by the core's loop, as the Rust
+    // graph does. A node whose stored motion does not convert is left to fail at its first time.
     let folded = path.fold(|frame| {
         let node = &frames[frame];
-        let constant = node.kind == rf_edge_kind::RF_EDGE_FIXED as u32 || node.kind == rf_edge_kind::RF_EDGE_SITE as u32;
-        if constant { node.motion.to_core().ok() } else { None }
+        match rf_edge_kind::from_u32(node.kind) {
+            Some(rf_edge_kind::RF_EDGE_FIXED | rf_edge_kind::RF_EDGE_SITE) => node.motion.to_core().ok(),
+            _ => None,
+        }
     });
-    let mut caches = [SegmentCache::default(); rotaframe::graph::MAX_DEPTH * 2];
-    for (index, &time) in times.iter().enumerate() {
-        // The path visits its variable edges in the same order at every time, each once: the
-        // k-th visit keeps the k-th interval memory.
-        let mut k = 0;
-        let m = folded.compose(|frame| {
-            let cache = &mut caches[k.min(caches.len() - 1)];
-            k += 1;
-            edge_motion(&frames[frame], time, cache)
-        })?;
-        sink(index, m);
-    }
-    Ok(())
+    folded.motions_at_times(times, |frame, _, time, cache| edge_motion(&frames[frame], time, cache), sink).map_err(|(_, e)| e)
 }
 
 /// An empty graph (its root, frame 0, only) over the caller's `storage` of `capacity` nodes
@@ -431,10 +430,12 @@ pub unsafe extern "C" fn rf_graph_add_site(
         let m = unsafe { read(model) }?.to_core()?;
         let p: Geodetic = unsafe { read(position) }?.into();
         let (graph, out_frame) = (unsafe { out(graph) }?, unsafe { out(out_frame) }?);
-        let axes = match axes {
-            0 => LocalAxes::Ned,
-            1 => LocalAxes::Enu,
-            _ => return Err(rotaframe::Error::OutOfRange { quantity: "axes", value: f64::from(axes), min: 0.0, max: 1.0 }.into()),
+        let axes = match rf_local_axes::from_u32(axes) {
+            Some(rf_local_axes::RF_AXES_NED) => LocalAxes::Ned,
+            Some(rf_local_axes::RF_AXES_ENU) => LocalAxes::Enu,
+            None => {
+                return Err(rotaframe::Error::OutOfRange { quantity: "axes", value: f64::from(axes), min: 0.0, max: 1.0 }.into());
+            }
         };
         let site = Site::new(m, p, axes)?;
         let node =
@@ -461,7 +462,7 @@ pub unsafe extern "C" fn rf_graph_add_samples_geodetic(
         let list = unsafe { slice(samples, count) }?;
         let (graph, out_frame) = (unsafe { out(graph) }?, unsafe { out(out_frame) }?);
         let frames = unsafe { graph.frames() }?;
-        if frames.get(parent as usize).is_none_or(|n| n.kind != rf_edge_kind::RF_EDGE_EARTH as u32) {
+        if frames.get(parent as usize).is_none_or(|n| rf_edge_kind::from_u32(n.kind) != Some(rf_edge_kind::RF_EDGE_EARTH)) {
             return Err(
                 rotaframe::Error::Invalid { quantity: "parent", reason: "geodetic samples need an Earth-fixed parent" }.into()
             );

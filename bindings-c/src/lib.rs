@@ -16,6 +16,7 @@
 
 pub mod calibrate;
 pub mod earth;
+mod enums;
 pub mod graph;
 pub mod linearise;
 pub mod motion;

@@ -453,7 +453,7 @@ unsafe fn discrete(
 /// every `every` steps: `count / every`, plus one when `count` is not a multiple (the last).
 #[unsafe(no_mangle)]
 pub extern "C" fn rf_covariance_count(count: usize, every: usize) -> usize {
-    count.checked_div(every).map_or(0, |whole| whole + usize::from(!count.is_multiple_of(every)))
+    inertial::kept_count(count, every)
 }
 
 /// Predicts the error covariance along a strapdown run from `strapdown` (not changed) over
@@ -477,9 +477,6 @@ pub unsafe extern "C" fn rf_predict_covariance(
 ) -> rf_status {
     boundary(|| {
         states_ok(states)?;
-        if every == 0 {
-            return Err(RF_STATUS_INVALID_ARGUMENT);
-        }
         let stepper = unsafe { read(strapdown) }?.to_core()?;
         let increments = unsafe { slice(increments.cast::<ImuIncrement>(), count) }?;
         let heights = if height_reference.is_null() { None } else { Some(unsafe { slice(height_reference, count) }?) };
@@ -489,42 +486,25 @@ pub unsafe extern "C" fn rf_predict_covariance(
         if out_covariances.is_null() && count > 0 {
             return Err(RF_STATUS_NULL_POINTER);
         }
-        let kept = rf_covariance_count(count, every);
+        let kept = inertial::kept_count(count, every);
         let inputs =
             [region(increments.as_ptr(), count), heights.map_or((0, 0), |h| region(h.as_ptr(), count)), region(p0.as_ptr(), n2)];
         disjoint(region(out_covariances, kept * n2), &inputs)?;
         let outputs = unsafe { matrix_out(out_covariances, kept * n2) }?;
         macro_rules! sized {
             ($n:literal) => {{
-                let p0 = square::<$n>(p0);
-                if (p0 - p0.transpose()).amax() > 1e-12 * p0.amax() {
-                    return Err(RF_STATUS_INVALID_ARGUMENT);
-                }
-                // First pass: the stepper and the model at every step, no covariance.
-                let mut trial = stepper;
-                let times = (&model.accelerometer.markov_time, &model.gyro.markov_time);
-                for (k, inc) in increments.iter().enumerate() {
-                    inc.validate()?;
-                    if let Some(h) = heights {
-                        trial.set_height_reference(h[k])?;
-                    }
-                    let t = inc.interval;
-                    inertial::error_model::<$n>(
-                        trial.config(),
-                        &trial.parts().1,
-                        &(inc.delta_velocity / t),
-                        &(inc.delta_angle / t),
-                        times,
-                    )?;
-                    trial.step(inc)?;
-                }
-                let mut row = 0;
-                inertial::predict_covariance::<$n>(&stepper, increments, heights, &model, &p0, |k, _, p| {
-                    if (k + 1).is_multiple_of(every) || k + 1 == count {
-                        put(&mut outputs[row * n2..(row + 1) * n2], p);
-                        row += 1;
-                    }
-                })
+                // The core checks `every` and `p0`, runs a first pass over every step, and
+                // only then writes.
+                inertial::predict_covariance_kept::<$n>(
+                    &stepper,
+                    increments,
+                    heights,
+                    &model,
+                    &square::<$n>(p0),
+                    every,
+                    None,
+                    outputs,
+                )
                 .map_err(|e| e.error)?;
             }};
         }

@@ -11,7 +11,6 @@ use rotaframe::nalgebra::{Matrix3, Vector3};
 use rotaframe::nav::{
     self, ImuErrorGenerator, ImuErrorModel, ImuIncrement, ImuSample, MechanizationState, NavFrame, NavState, RecordedSample,
     RecordedTrajectory, SampleSource, SensorErrorModel, StepMemory, Strapdown, StrapdownConfig, VerticalChannel,
-    Xoshiro256PlusPlus,
 };
 
 use crate::status::{
@@ -51,6 +50,10 @@ pub enum rf_vertical_channel {
     /// Second-order loop to the reference with time constant `height_time_constant`.
     RF_VERTICAL_AIDED = 2,
 }
+
+crate::enums::c_enum!(rf_gravity_model { RF_GRAVITY_NORMAL, RF_GRAVITY_J2 });
+crate::enums::c_enum!(rf_nav_frame { RF_NAV_FRAME_NED, RF_NAV_FRAME_ECEF });
+crate::enums::c_enum!(rf_vertical_channel { RF_VERTICAL_FREE, RF_VERTICAL_HOLD, RF_VERTICAL_AIDED });
 
 /// Ideal gyro and accelerometer outputs at one instant, resolved in the body.
 #[repr(C)]
@@ -229,25 +232,22 @@ impl rf_nav_state {
 }
 
 pub(crate) fn gravity_model(value: u32) -> Fallible<GravityModel> {
-    match value {
-        0 => Ok(GravityModel::Normal),
-        1 => Ok(GravityModel::J2),
-        _ => Err(RF_STATUS_INVALID_ARGUMENT),
+    match rf_gravity_model::from_u32(value).ok_or(RF_STATUS_INVALID_ARGUMENT)? {
+        rf_gravity_model::RF_GRAVITY_NORMAL => Ok(GravityModel::Normal),
+        rf_gravity_model::RF_GRAVITY_J2 => Ok(GravityModel::J2),
     }
 }
 
 impl rf_strapdown_config {
     fn to_core(self) -> Fallible<StrapdownConfig> {
-        let vertical = match self.vertical {
-            0 => VerticalChannel::Free,
-            1 => VerticalChannel::Hold,
-            2 => VerticalChannel::Aided { time_constant: self.height_time_constant },
-            _ => return Err(RF_STATUS_INVALID_ARGUMENT),
+        let vertical = match rf_vertical_channel::from_u32(self.vertical).ok_or(RF_STATUS_INVALID_ARGUMENT)? {
+            rf_vertical_channel::RF_VERTICAL_FREE => VerticalChannel::Free,
+            rf_vertical_channel::RF_VERTICAL_HOLD => VerticalChannel::Hold,
+            rf_vertical_channel::RF_VERTICAL_AIDED => VerticalChannel::Aided { time_constant: self.height_time_constant },
         };
-        let frame = match self.frame {
-            0 => NavFrame::Ned,
-            1 => NavFrame::Ecef,
-            _ => return Err(RF_STATUS_INVALID_ARGUMENT),
+        let frame = match rf_nav_frame::from_u32(self.frame).ok_or(RF_STATUS_INVALID_ARGUMENT)? {
+            rf_nav_frame::RF_NAV_FRAME_NED => NavFrame::Ned,
+            rf_nav_frame::RF_NAV_FRAME_ECEF => NavFrame::Ecef,
         };
         let config = StrapdownConfig { earth: self.earth.to_core()?, gravity: gravity_model(self.gravity)?, vertical, frame };
         config.validate()?;
@@ -651,37 +651,12 @@ impl rf_sensor_errors {
     }
 }
 
-/// The random stream as stored in `rf_imu_errors.stream` (a plain copy of the generator).
-const _: () = assert!(core::mem::size_of::<Xoshiro256PlusPlus>() == core::mem::size_of::<[u64; 4]>());
-
-fn stream_words(rng: &Xoshiro256PlusPlus) -> [u64; 4] {
-    let mut words = [0u64; 4];
-    // SAFETY: the generator is 32 bytes of plain integers with no padding or pointers (size
-    // asserted above); copying its bytes into four words and back (below) reproduces it.
-    unsafe { core::ptr::copy_nonoverlapping(core::ptr::from_ref(rng).cast::<u8>(), words.as_mut_ptr().cast::<u8>(), 32) };
-    words
-}
-
-fn stream_from_words(words: &[u64; 4]) -> Fallible<Xoshiro256PlusPlus> {
-    // An all-zero state is the one xoshiro cannot leave; it never arises from a seed.
-    if words.iter().all(|&w| w == 0) {
-        return Err(RF_STATUS_INVALID_ARGUMENT);
-    }
-    let mut rng = core::mem::MaybeUninit::<Xoshiro256PlusPlus>::uninit();
-    // SAFETY: `words` holds bytes copied from a generator by `stream_words` (or the caller's
-    // copy of them); every bit pattern of four u64 is a valid generator state.
-    unsafe {
-        core::ptr::copy_nonoverlapping(words.as_ptr().cast::<u8>(), rng.as_mut_ptr().cast::<u8>(), 32);
-        Ok(rng.assume_init())
-    }
-}
-
 impl rf_imu_errors {
     fn to_core(self) -> Fallible<ImuErrorGenerator> {
         let model = ImuErrorModel { gyro: self.model.gyro.to_core()?, accelerometer: self.model.accelerometer.to_core()? };
         Ok(ImuErrorGenerator::from_parts(
             model,
-            stream_from_words(&self.stream)?,
+            nav::stream_from_words(&self.stream)?,
             self.gyro_markov.into(),
             self.accelerometer_markov.into(),
         )?)
@@ -689,7 +664,7 @@ impl rf_imu_errors {
 
     fn store(&mut self, generator: &ImuErrorGenerator) {
         let (_, rng, gyro, accelerometer) = generator.parts();
-        self.stream = stream_words(&rng);
+        self.stream = nav::stream_words(&rng);
         self.gyro_markov = gyro.into();
         self.accelerometer_markov = accelerometer.into();
     }

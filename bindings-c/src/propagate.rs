@@ -28,6 +28,8 @@ pub enum rf_gravitation {
     RF_GRAVITATION_NONE = 2,
 }
 
+crate::enums::c_enum!(rf_gravitation { RF_GRAVITATION_POINT_MASS, RF_GRAVITATION_J2, RF_GRAVITATION_NONE });
+
 /// Bits of `rf_propagate_config.omit_terms`: apparent terms left out of the equations of
 /// motion (for with/without studies). Zero keeps them all.
 pub const RF_OMIT_TRANSLATIONAL: u32 = 1;
@@ -198,11 +200,10 @@ unsafe fn read_vec3(p: *const f64) -> Fallible<Vector3<f64>> {
 
 impl rf_propagate_config {
     fn to_core(self) -> Fallible<(Settings, bool)> {
-        let gravitation = match self.gravitation {
-            0 => Gravitation::PointMass,
-            1 => Gravitation::J2,
-            2 => Gravitation::None,
-            _ => return Err(RF_STATUS_INVALID_ARGUMENT),
+        let gravitation = match rf_gravitation::from_u32(self.gravitation).ok_or(RF_STATUS_INVALID_ARGUMENT)? {
+            rf_gravitation::RF_GRAVITATION_POINT_MASS => Gravitation::PointMass,
+            rf_gravitation::RF_GRAVITATION_J2 => Gravitation::J2,
+            rf_gravitation::RF_GRAVITATION_NONE => Gravitation::None,
         };
         if self.omit_terms & !15 != 0 {
             return Err(RF_STATUS_INVALID_ARGUMENT);

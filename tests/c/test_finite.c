@@ -179,6 +179,7 @@ int main(void) {
         PROBE("rf_earth_motion", rf_earth_motion(&m, x, y, &out_mo), &out_mo, sizeof out_mo);
         PROBE("rf_earth_rotation_angle", rf_earth_rotation_angle(x, y, &out_x), &out_x, sizeof out_x);
         PROBE("rf_normal_gravity", rf_normal_gravity(&m, g.latitude, g.height, &out_x), &out_x, sizeof out_x);
+        PROBE("rf_schuler_period", rf_schuler_period(&m, g.latitude, g.height, &out_x), &out_x, sizeof out_x);
         PROBE("rf_coriolis_parameter", rf_coriolis_parameter(&m, x, &out_x), &out_x, sizeof out_x);
         PROBE("rf_gravity_ned", rf_gravity_ned(&m, g.latitude, g.height, &out_v), &out_v, sizeof out_v);
         PROBE("rf_gravitation_ecef", rf_gravitation_ecef(&m, &v, &out_v), &out_v, sizeof out_v);

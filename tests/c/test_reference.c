@@ -27,6 +27,15 @@ int main(void) {
         CLOSE(g, 9.8031129436, 1e-10, "gamma(45, 1000 m)");
     }
 
+    /* Schuler period 2 pi sqrt(R / g), R = sqrt(M N) + h (Schuler 1923; shared table). At the
+       equator sqrt(M N) = a sqrt(1 - e^2) with a, e^2 and gamma_e of TR8350.2 Tables 3.1, 3.3
+       and 3.4. 1e-3 s: the constants carry 10-11 digits (see earth_reference.rs). */
+    {
+        double t;
+        OK(rf_schuler_period(&wgs84, 0.0, 0.0, &t));
+        CLOSE(t, 2.0 * PI * sqrt(6378137.0 * sqrt(1.0 - 6.69437999014e-3) / 9.7803253359), 1e-3, "Schuler period at the equator");
+    }
+
     /* IOGP 373-7-2, method 9602 worked example (published to the millimetre). */
     {
         rf_geodetic p = {(53.0 + 48.0 / 60.0 + 33.820 / 3600.0) * DEG, (2.0 + 7.0 / 60.0 + 46.380 / 3600.0) * DEG, 73.0};
