@@ -7,8 +7,16 @@ use rotaframe::frames::{AnyFrame, PointKinematics};
 
 use rotaframe::limits::{MAX_ACCELERATION, MAX_ANGULAR_ACCELERATION, MAX_ANGULAR_VELOCITY, MAX_POSITION, MAX_VELOCITY, within};
 
-use crate::batch::{self, Outputs};
-use crate::broadcast::{Access, BatchArgs, Operand, Plan, Slot, failure_to_py, run};
+use crate::plumbing::batch::{self, Outputs};
+use crate::plumbing::broadcast::map_elements_shaped;
+use crate::plumbing::broadcast::{Access, BatchArgs, Operand, Plan, Slot, failure_to_py, run};
+use crate::plumbing::output::put_row_major;
+use pyo3::types::PyDict;
+use rotaframe::linearise;
+
+fn v3(s: &[f64]) -> rotaframe::nalgebra::Vector3<f64> {
+    rotaframe::nalgebra::Vector3::new(s[0], s[1], s[2])
+}
 
 /// The apparent accelerations in a rotating frame, each an array `(..., 3)` resolved in that
 /// frame (m/s²): `translational` (−a₀), `coriolis` (−2 ω × v), `centrifugal` (−ω × (ω × r)),
@@ -52,9 +60,9 @@ pub fn apparent_acceleration<'py>(
     velocity: Option<&Bound<'py, PyAny>>,
     angular_acceleration: Option<&Bound<'py, PyAny>>,
     origin_acceleration: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    #[pyo3(from_py_with = crate::plumbing::args::jacobian)] jacobian: bool,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let batch = BatchArgs { out, threads };
     if jacobian {
@@ -72,7 +80,7 @@ pub fn apparent_acceleration<'py>(
         Operand::optional(angular_acceleration, "angular_acceleration", &[3])?,
         Operand::optional(origin_acceleration, "origin_acceleration", &[3])?,
     ];
-    let jacobians = crate::linearise::apparent_jacobians(py, ops, threads)?;
+    let jacobians = apparent_jacobians(py, ops, threads)?;
     Ok(pyo3::types::PyTuple::new(py, [terms.into_any(), jacobians.into_any()])?.into_any())
 }
 
@@ -185,3 +193,34 @@ fn apparent_chunk(range: core::ops::Range<usize>, [s0, s1, s2, s3, s4]: TermSlot
 }
 
 rotaframe::fast_twin!(fn apparent_chunk_fast(range: core::ops::Range<usize>, slots: TermSlots<'_>, access: [Access<'_>; 5], n: usize) -> u64 = apparent_chunk);
+
+/// The Jacobians of the total apparent acceleration, a dict of `(..., 3, 3)` arrays keyed by
+/// the argument differentiated.
+fn apparent_jacobians<'py>(py: Python<'py>, ops: [Operand<'py>; 5], threads: usize) -> PyResult<Bound<'py, PyDict>> {
+    let core: [&[usize]; 5] = [&[3, 3]; 5];
+    let (_, [jr, jv, ja0, jw, jal]) = map_elements_shaped(
+        py,
+        ops,
+        core,
+        BatchArgs { out: None, threads },
+        |e, _| e,
+        |x, [jr, jv, ja0, jw, jal]| {
+            let dynamics =
+                FrameDynamics { angular_velocity: v3(x[0]), angular_acceleration: v3(x[3]), origin_acceleration: v3(x[4]) };
+            let (_, j) = linearise::apparent_terms_jacobian(&dynamics, &v3(x[1]), &v3(x[2]));
+            put_row_major(jr, &j.position);
+            put_row_major(jv, &j.velocity);
+            put_row_major(ja0, &j.origin_acceleration);
+            put_row_major(jw, &j.angular_velocity);
+            put_row_major(jal, &j.angular_acceleration);
+            Ok(())
+        },
+    )?;
+    let out = PyDict::new(py);
+    out.set_item("position", jr)?;
+    out.set_item("velocity", jv)?;
+    out.set_item("origin_acceleration", ja0)?;
+    out.set_item("angular_velocity", jw)?;
+    out.set_item("angular_acceleration", jal)?;
+    Ok(out)
+}

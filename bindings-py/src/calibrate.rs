@@ -11,10 +11,12 @@ use rotaframe::calibrate::{
 use rotaframe::nalgebra::{Matrix3, SMatrix, UnitQuaternion, Vector3};
 use rotaframe::rotation::{EulerZyx, quaternion_from_wxyz};
 
-use crate::broadcast::real_array;
-use crate::errors::{ShapeError, to_py};
-use crate::model::{PyEarthModel, model_or_default};
-use crate::nav::{PyImuErrors, array_from, single};
+use crate::earth::model::{PyEarthModel, model_or_default};
+use crate::nav::sensor::PyImuErrors;
+use crate::plumbing::broadcast::real_array;
+use crate::plumbing::broadcast::single;
+use crate::plumbing::errors::{ShapeError, to_py};
+use crate::plumbing::output::array_from;
 
 /// The rows of a 1-D or 2-D array argument: `(N, width)` as `N` rows (or one row of shape
 /// `(width,)` when `allow_single`).
@@ -97,7 +99,7 @@ fn noise_of(obj: Option<&Bound<'_, PyAny>>) -> PyResult<Option<Vector3<f64>>> {
     match obj.filter(|o| !o.is_none()) {
         None => Ok(None),
         Some(o) if o.is_instance_of::<pyo3::types::PyFloat>() || o.is_instance_of::<pyo3::types::PyInt>() => {
-            Ok(Some(Vector3::repeat(crate::args::number(o, "noise")?)))
+            Ok(Some(Vector3::repeat(crate::plumbing::args::number(o, "noise")?)))
         }
         Some(o) => Ok(Some(Vector3::from_column_slice(&single(o, "noise", &[3])?))),
     }
@@ -241,7 +243,7 @@ impl PyCalibration {
     fn to_imu_errors(
         &self,
         other: Option<&Bound<'_, PyCalibration>>,
-        #[pyo3(from_py_with = crate::args::seed)] seed: u64,
+        #[pyo3(from_py_with = crate::plumbing::args::seed)] seed: u64,
     ) -> PyResult<PyImuErrors> {
         let calibration = self.combined(other)?;
         let model = calibration.to_error_model().map_err(|e| to_py(&e, ""))?;
@@ -262,7 +264,7 @@ impl PyCalibration {
         other: Option<&Bound<'py, PyCalibration>>,
     ) -> PyResult<Bound<'py, PyTuple>> {
         let calibration = self.combined(other)?;
-        crate::nav::map_increments(py, dtheta, dv, dt, None, |increment| calibration.correct(increment))
+        crate::nav::sensor::map_increments(py, dtheta, dv, dt, None, |increment| calibration.correct(increment))
     }
 
     fn __repr__(&self) -> String {
@@ -311,7 +313,7 @@ impl PyCalibration {
         if let Some(o) = other {
             let o = o.get();
             if o.sensor == self.sensor {
-                return Err(crate::errors::RotaframeError::new_err(format!(
+                return Err(crate::plumbing::errors::RotaframeError::new_err(format!(
                     "`other` must calibrate the other triad; both are {} calibrations",
                     self.sensor
                 )));
@@ -365,13 +367,13 @@ pub fn _calibration_from_parts(
 pub fn calibrate_accelerometers(
     attitude: &Bound<'_, PyAny>,
     specific_force: &Bound<'_, PyAny>,
-    #[pyo3(from_py_with = crate::args::lat)] lat: f64,
-    #[pyo3(from_py_with = crate::args::h)] h: f64,
-    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
-    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'_, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::plumbing::args::lat)] lat: f64,
+    #[pyo3(from_py_with = crate::plumbing::args::h)] h: f64,
+    #[pyo3(from_py_with = crate::plumbing::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'_, PyEarthModel>>,
     noise: Option<&Bound<'_, PyAny>>,
-    #[pyo3(from_py_with = crate::args::parameters)] parameters: &str,
-    #[pyo3(from_py_with = crate::args::gravity)] gravity: &str,
+    #[pyo3(from_py_with = crate::plumbing::args::parameters)] parameters: &str,
+    #[pyo3(from_py_with = crate::plumbing::args::gravity)] gravity: &str,
 ) -> PyResult<PyCalibration> {
     let q = attitudes(attitude, degrees)?;
     let f = vectors(specific_force, "specific_force")?;
@@ -402,12 +404,12 @@ pub fn calibrate_accelerometers(
 #[pyo3(signature = (specific_force, *, lat, h, degrees=false, model=None, noise=None, gravity="normal"))]
 pub fn calibrate_accelerometers_by_magnitude(
     specific_force: &Bound<'_, PyAny>,
-    #[pyo3(from_py_with = crate::args::lat)] lat: f64,
-    #[pyo3(from_py_with = crate::args::h)] h: f64,
-    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
-    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'_, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::plumbing::args::lat)] lat: f64,
+    #[pyo3(from_py_with = crate::plumbing::args::h)] h: f64,
+    #[pyo3(from_py_with = crate::plumbing::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'_, PyEarthModel>>,
     noise: Option<&Bound<'_, PyAny>>,
-    #[pyo3(from_py_with = crate::args::gravity)] gravity: &str,
+    #[pyo3(from_py_with = crate::plumbing::args::gravity)] gravity: &str,
 ) -> PyResult<PyCalibration> {
     let f = vectors(specific_force, "specific_force")?;
     let mut residuals = vec![0.0; f.len()];
@@ -432,15 +434,15 @@ pub fn calibrate_accelerometers_by_magnitude(
 pub fn calibrate_gyros(
     attitude: &Bound<'_, PyAny>,
     angular_rate: &Bound<'_, PyAny>,
-    #[pyo3(from_py_with = crate::args::lat)] lat: f64,
-    #[pyo3(from_py_with = crate::args::h)] h: f64,
+    #[pyo3(from_py_with = crate::plumbing::args::lat)] lat: f64,
+    #[pyo3(from_py_with = crate::plumbing::args::h)] h: f64,
     table_rate: Option<&Bound<'_, PyAny>>,
     table_axis: Option<&Bound<'_, PyAny>>,
     duration: Option<&Bound<'_, PyAny>>,
-    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
-    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'_, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::plumbing::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'_, PyEarthModel>>,
     noise: Option<&Bound<'_, PyAny>>,
-    #[pyo3(from_py_with = crate::args::parameters)] parameters: &str,
+    #[pyo3(from_py_with = crate::plumbing::args::parameters)] parameters: &str,
 ) -> PyResult<PyCalibration> {
     let q = attitudes(attitude, degrees)?;
     let w = vectors(angular_rate, "angular_rate")?;
@@ -451,7 +453,7 @@ pub fn calibrate_gyros(
     let rates = per_row(table_rate, "table_rate", 1, n, &[0.0])?;
     let axes = per_row(table_axis, "table_axis", 3, n, &[0.0, 0.0, 1.0])?;
     let durations = per_row(duration, "duration", 1, n, &[0.0])?;
-    let scale = if degrees { core::f64::consts::PI / 180.0 } else { 1.0 };
+    let scale = crate::plumbing::output::angle_scale(degrees);
     let records: Vec<_> = (0..n)
         .map(|i| GyroRecord {
             attitude: q[i],
@@ -485,9 +487,9 @@ pub fn calibrate_gyros(
 pub fn allan_deviation<'py>(
     py: Python<'py>,
     samples: &Bound<'py, PyAny>,
-    #[pyo3(from_py_with = crate::args::dt)] dt: f64,
+    #[pyo3(from_py_with = crate::plumbing::args::dt)] dt: f64,
     taus: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::args::confidence)] confidence: f64,
+    #[pyo3(from_py_with = crate::plumbing::args::confidence)] confidence: f64,
 ) -> PyResult<Bound<'py, PyTuple>> {
     let array = real_array(samples, "samples")?;
     let shape = array.shape().to_vec();
@@ -513,7 +515,7 @@ pub fn allan_deviation<'py>(
                     if tau.is_finite() && m >= 1.0 && m <= allan::max_cluster_size(n) as f64 {
                         Ok(m as usize)
                     } else {
-                        Err(crate::errors::OutOfRangeError::new_err(format!(
+                        Err(crate::plumbing::errors::OutOfRangeError::new_err(format!(
                             "`taus` holds {tau}, outside [dt, (N - 1)/2 dt] = [{dt}, {}] for this record",
                             allan::max_cluster_size(n) as f64 * dt
                         )))

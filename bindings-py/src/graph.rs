@@ -10,11 +10,11 @@ use rotaframe::graph::{
 };
 use rotaframe::nalgebra::{UnitQuaternion, Vector3};
 
-use crate::broadcast::{Operand, Plan};
-use crate::errors::{ConcurrentUseError, FrameGraphError, ShapeError, to_py};
-use crate::model::{PyEarthModel, model_or_default};
+use crate::earth::model::{PyEarthModel, model_or_default};
 use crate::motion::{Motion, MotionBatch, PyFrameMotion, rotation_operand};
-use crate::rotations::{matrix, quaternion};
+use crate::plumbing::broadcast::{Operand, Plan};
+use crate::plumbing::errors::{ConcurrentUseError, FrameGraphError, ShapeError, to_py};
+use crate::rotation::{matrix, quaternion};
 
 /// A Python exception for a graph error: structural problems are `FrameGraphError`s; an
 /// edge's own error keeps its class (`OutOfRangeError` for a time outside a sampled edge's
@@ -98,9 +98,9 @@ impl PyFrameGraph {
                 let result = f.bind(py).call1((t,))?;
                 let name = graph.name(frame).to_string();
                 let motion = result.cast::<PyFrameMotion>().map_err(|_| {
-                    crate::errors::input_type_error(format!(
+                    crate::plumbing::errors::input_type_error(format!(
                         "the function of frame {name:?} must return a FrameMotion, got {}",
-                        crate::args::describe(&result)
+                        crate::plumbing::args::describe(&result)
                     ))
                 })?;
                 let motion = motion.get();
@@ -179,7 +179,7 @@ impl PyFrameGraph {
 }
 
 fn edge_error(e: rotaframe::Error) -> PyErr {
-    to_py(&crate::geodesy::python_name(e), "")
+    to_py(&crate::plumbing::errors::python_name(e), "")
 }
 
 #[pymethods]
@@ -187,8 +187,8 @@ impl PyFrameGraph {
     /// A graph holding only its root frame, `root`, declared inertial or not.
     #[new]
     #[pyo3(signature = (root, *, inertial=true))]
-    fn py_new(root: &Bound<'_, PyAny>, #[pyo3(from_py_with = crate::args::inertial)] inertial: bool) -> PyResult<Self> {
-        let root = crate::args::text(root, "root")?;
+    fn py_new(root: &Bound<'_, PyAny>, #[pyo3(from_py_with = crate::plumbing::args::inertial)] inertial: bool) -> PyResult<Self> {
+        let root = crate::plumbing::args::text(root, "root")?;
         Ok(Self::wrap(FrameGraph::new(&root, inertial)))
     }
 
@@ -216,9 +216,9 @@ impl PyFrameGraph {
         name: &str,
         parent: &str,
         axis: &Bound<'_, PyAny>,
-        #[pyo3(from_py_with = crate::args::rate)] rate: f64,
-        #[pyo3(from_py_with = crate::args::angle_at_zero)] angle_at_zero: f64,
-        #[pyo3(from_py_with = crate::args::angular_acceleration)] angular_acceleration: f64,
+        #[pyo3(from_py_with = crate::plumbing::args::rate)] rate: f64,
+        #[pyo3(from_py_with = crate::plumbing::args::angle_at_zero)] angle_at_zero: f64,
+        #[pyo3(from_py_with = crate::plumbing::args::angular_acceleration)] angular_acceleration: f64,
     ) -> PyResult<()> {
         let axis = Self::vector_argument(Some(axis), "axis")?;
         let edge = Spin::new(axis, rate, angle_at_zero, angular_acceleration).map_err(edge_error)?;
@@ -235,8 +235,8 @@ impl PyFrameGraph {
         &self,
         name: &str,
         parent: &str,
-        #[pyo3(from_py_with = crate::args::angle_at_epoch)] angle_at_epoch: f64,
-        #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'_, PyEarthModel>>,
+        #[pyo3(from_py_with = crate::plumbing::args::angle_at_epoch)] angle_at_epoch: f64,
+        #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'_, PyEarthModel>>,
         epoch_jd_ut1: Option<&Bound<'_, PyAny>>,
     ) -> PyResult<()> {
         let m = model_or_default(model.as_ref());
@@ -266,17 +266,17 @@ impl PyFrameGraph {
         &self,
         name: &str,
         parent: &str,
-        #[pyo3(from_py_with = crate::args::lat)] lat: f64,
-        #[pyo3(from_py_with = crate::args::lon)] lon: f64,
-        #[pyo3(from_py_with = crate::args::h)] h: f64,
-        #[pyo3(from_py_with = crate::args::axes)] axes: &str,
-        #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'_, PyEarthModel>>,
-        #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+        #[pyo3(from_py_with = crate::plumbing::args::lat)] lat: f64,
+        #[pyo3(from_py_with = crate::plumbing::args::lon)] lon: f64,
+        #[pyo3(from_py_with = crate::plumbing::args::h)] h: f64,
+        #[pyo3(from_py_with = crate::plumbing::args::axes)] axes: &str,
+        #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'_, PyEarthModel>>,
+        #[pyo3(from_py_with = crate::plumbing::args::degrees)] degrees: bool,
     ) -> PyResult<()> {
-        let s = if degrees { core::f64::consts::PI / 180.0 } else { 1.0 };
+        let s = crate::plumbing::output::angle_scale(degrees);
         let axes = if axes == "enu" { LocalAxes::Enu } else { LocalAxes::Ned };
         let edge = Site::new(model_or_default(model.as_ref()), Geodetic::new(lat * s, lon * s, h), axes)
-            .map_err(|e| to_py(&crate::geodesy::python_error(e, degrees, lat), ""))?;
+            .map_err(|e| to_py(&crate::plumbing::errors::python_error(e, degrees, lat), ""))?;
         let mut state = self.write()?;
         self.add(state.graph.add_site(name, parent, edge))
     }
@@ -296,9 +296,9 @@ impl PyFrameGraph {
         t: &Bound<'_, PyAny>,
         position: &Bound<'_, PyAny>,
         attitude: &Bound<'_, PyAny>,
-        #[pyo3(from_py_with = crate::args::position_kind)] position_kind: &str,
-        #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
-        #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'_, PyEarthModel>>,
+        #[pyo3(from_py_with = crate::plumbing::args::position_kind)] position_kind: &str,
+        #[pyo3(from_py_with = crate::plumbing::args::degrees)] degrees: bool,
+        #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'_, PyEarthModel>>,
         velocity: Option<&Bound<'_, PyAny>>,
         angular_rate: Option<&Bound<'_, PyAny>>,
     ) -> PyResult<()> {
@@ -312,7 +312,7 @@ impl PyFrameGraph {
         let velocities = velocity.filter(|o| !o.is_none()).map(|v| Self::rows::<3>(v, "velocity", n)).transpose()?;
         let rates = angular_rate.filter(|o| !o.is_none()).map(|w| Self::rows::<3>(w, "angular_rate", n)).transpose()?;
         let located = |e: rotaframe::BatchError| {
-            let error = crate::geodesy::python_name(e.error);
+            let error = crate::plumbing::errors::python_name(e.error);
             let argument = match error.quantity() {
                 "time" => "t",
                 other => other,
@@ -320,7 +320,7 @@ impl PyFrameGraph {
             to_py(&error, &format!("(at index {} of `{argument}`)", e.index))
         };
         let edge = if position_kind == "geodetic" {
-            let s = if degrees { core::f64::consts::PI / 180.0 } else { 1.0 };
+            let s = crate::plumbing::output::angle_scale(degrees);
             let geodetic: Vec<Geodetic> = positions.iter().map(|p| Geodetic::new(p[0] * s, p[1] * s, p[2])).collect();
             SampledEdge::geodetic(
                 &model_or_default(model.as_ref()),
@@ -342,7 +342,10 @@ impl PyFrameGraph {
     /// float64 array of times and returning a `FrameMotion` of that length (or a single one).
     fn add_function(&self, name: &str, parent: &str, r#fn: &Bound<'_, PyAny>) -> PyResult<()> {
         if !r#fn.is_callable() {
-            return Err(crate::errors::input_type_error(format!("`fn` must be callable, got {}", crate::args::describe(r#fn))));
+            return Err(crate::plumbing::errors::input_type_error(format!(
+                "`fn` must be callable, got {}",
+                crate::plumbing::args::describe(r#fn)
+            )));
         }
         let mut state = self.write()?;
         let id = state.graph.add_external(name, parent).map_err(graph_error)?;
@@ -406,7 +409,7 @@ impl PyFrameGraph {
         let alpha = part(|m| m.angular_acceleration_in_child());
         let a0 = part(|m| m.acceleration_in_child());
         let args = [w.as_any(), position];
-        let batch = crate::broadcast::BatchArgs::SERIAL;
+        let batch = crate::plumbing::broadcast::BatchArgs::SERIAL;
         crate::apparent::apparent_terms_of(py, args, velocity, Some(alpha.as_any()), Some(a0.as_any()), batch)
     }
 

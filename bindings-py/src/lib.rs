@@ -9,20 +9,20 @@
 // takes them as Rust arguments: the argument count mirrors the Python signature.
 #![allow(clippy::too_many_arguments)]
 
+// Floors (scripts/check_layers.py holds them): plumbing; rotation; earth; motion; apparent;
+// nav; graph, linearise, calibrate; propagate. A file imports only from floors below its own
+// (or from files of its own folder, without circles).
+mod plumbing;
+
 mod apparent;
-mod args;
-mod batch;
-mod broadcast;
 mod calibrate;
-mod errors;
-mod geodesy;
+mod earth;
 mod graph;
 mod linearise;
-mod model;
 mod motion;
 mod nav;
 mod propagate;
-mod rotations;
+mod rotation;
 
 use pyo3::prelude::*;
 
@@ -36,12 +36,12 @@ fn fast_kernels_active() -> bool {
 /// The native part of the `rotaframe` package.
 #[pymodule(gil_used = false)]
 fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
-    errors::register(m)?;
+    plumbing::errors::register(m)?;
     m.add_function(wrap_pyfunction!(fast_kernels_active, m)?)?;
-    m.add_class::<model::PyEarthModel>()?;
-    m.add("WGS84", model::PyEarthModel::preset(rotaframe::earth::WGS84, "WGS84"))?;
-    m.add("GRS80", model::PyEarthModel::preset(rotaframe::earth::GRS80, "GRS80"))?;
-    m.add_function(wrap_pyfunction!(model::_earth_model_from_constants, m)?)?;
+    m.add_class::<earth::model::PyEarthModel>()?;
+    m.add("WGS84", earth::model::PyEarthModel::preset(rotaframe::earth::WGS84, "WGS84"))?;
+    m.add("GRS80", earth::model::PyEarthModel::preset(rotaframe::earth::GRS80, "GRS80"))?;
+    m.add_function(wrap_pyfunction!(earth::model::_earth_model_from_constants, m)?)?;
     m.add_class::<motion::PyFrameMotion>()?;
     m.add_class::<apparent::PyApparentAcceleration>()?;
     m.add_class::<graph::PyFrameGraph>()?;
@@ -50,17 +50,17 @@ fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(motion::earth_motion, m)?)?;
     m.add_function(wrap_pyfunction!(motion::local_level_motion, m)?)?;
     m.add_function(wrap_pyfunction!(apparent::apparent_acceleration, m)?)?;
-    m.add_class::<nav::PyStrapdown>()?;
-    m.add_class::<nav::PyStrapdownHistory>()?;
-    m.add_class::<nav::PyImuErrors>()?;
-    m.add_function(wrap_pyfunction!(nav::_strapdown_from_parts, m)?)?;
-    m.add_function(wrap_pyfunction!(nav::ideal_imu, m)?)?;
-    m.add_function(wrap_pyfunction!(nav::imu_increments, m)?)?;
-    m.add_function(wrap_pyfunction!(nav::imu_increments_from_samples, m)?)?;
-    m.add_function(wrap_pyfunction!(nav::motion_from_samples, m)?)?;
-    m.add_function(wrap_pyfunction!(nav::lever_arm_state, m)?)?;
-    m.add_function(wrap_pyfunction!(nav::run_strapdowns, m)?)?;
-    m.add_function(wrap_pyfunction!(nav::_imu_errors_from_parts, m)?)?;
+    m.add_class::<nav::strapdown::PyStrapdown>()?;
+    m.add_class::<nav::history::PyStrapdownHistory>()?;
+    m.add_class::<nav::sensor::PyImuErrors>()?;
+    m.add_function(wrap_pyfunction!(nav::strapdown::_strapdown_from_parts, m)?)?;
+    m.add_function(wrap_pyfunction!(nav::imu::ideal_imu, m)?)?;
+    m.add_function(wrap_pyfunction!(nav::imu::imu_increments, m)?)?;
+    m.add_function(wrap_pyfunction!(nav::imu::imu_increments_from_samples, m)?)?;
+    m.add_function(wrap_pyfunction!(nav::imu::motion_from_samples, m)?)?;
+    m.add_function(wrap_pyfunction!(nav::lever::lever_arm_state, m)?)?;
+    m.add_function(wrap_pyfunction!(nav::strapdown::run_strapdowns, m)?)?;
+    m.add_function(wrap_pyfunction!(nav::sensor::_imu_errors_from_parts, m)?)?;
     m.add_class::<propagate::PyPropagation>()?;
     m.add_class::<propagate::PyDeflectionBudget>()?;
     m.add_class::<propagate::PyDrag>()?;
@@ -76,31 +76,32 @@ fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(calibrate::allan_deviation, m)?)?;
     m.add_function(wrap_pyfunction!(calibrate::fit_noise_terms, m)?)?;
     for f in [
-        wrap_pyfunction!(geodesy::geodetic_to_ecef, m)?,
-        wrap_pyfunction!(geodesy::ecef_to_geodetic, m)?,
-        wrap_pyfunction!(geodesy::ned_from_ecef, m)?,
-        wrap_pyfunction!(geodesy::enu_from_ecef, m)?,
-        wrap_pyfunction!(geodesy::radii_of_curvature, m)?,
-        wrap_pyfunction!(geodesy::normal_gravity, m)?,
-        wrap_pyfunction!(geodesy::gravity_ned, m)?,
-        wrap_pyfunction!(geodesy::gravitation_ecef, m)?,
-        wrap_pyfunction!(geodesy::gravity_ecef, m)?,
-        wrap_pyfunction!(geodesy::centripetal_acceleration_ecef, m)?,
-        wrap_pyfunction!(geodesy::earth_rate_ned, m)?,
-        wrap_pyfunction!(geodesy::transport_rate_ned, m)?,
-        wrap_pyfunction!(geodesy::coriolis_ned, m)?,
-        wrap_pyfunction!(geodesy::eotvos_correction, m)?,
-        wrap_pyfunction!(geodesy::coriolis_parameter, m)?,
-        wrap_pyfunction!(geodesy::earth_rotation_angle, m)?,
-        wrap_pyfunction!(rotations::quat_from_euler, m)?,
-        wrap_pyfunction!(rotations::euler_from_quat, m)?,
-        wrap_pyfunction!(rotations::quat_to_matrix, m)?,
-        wrap_pyfunction!(rotations::matrix_to_quat, m)?,
-        wrap_pyfunction!(rotations::quat_multiply, m)?,
-        wrap_pyfunction!(rotations::quat_inverse, m)?,
-        wrap_pyfunction!(rotations::quat_rotate, m)?,
-        wrap_pyfunction!(rotations::quat_from_rotvec, m)?,
-        wrap_pyfunction!(rotations::quat_to_rotvec, m)?,
+        wrap_pyfunction!(earth::geodesy::geodetic_to_ecef, m)?,
+        wrap_pyfunction!(earth::geodesy::ecef_to_geodetic, m)?,
+        wrap_pyfunction!(earth::geodesy::ned_from_ecef, m)?,
+        wrap_pyfunction!(earth::geodesy::enu_from_ecef, m)?,
+        wrap_pyfunction!(earth::geodesy::radii_of_curvature, m)?,
+        wrap_pyfunction!(earth::geodesy::normal_gravity, m)?,
+        wrap_pyfunction!(earth::geodesy::schuler_period, m)?,
+        wrap_pyfunction!(earth::geodesy::gravity_ned, m)?,
+        wrap_pyfunction!(earth::geodesy::gravitation_ecef, m)?,
+        wrap_pyfunction!(earth::geodesy::gravity_ecef, m)?,
+        wrap_pyfunction!(earth::geodesy::centripetal_acceleration_ecef, m)?,
+        wrap_pyfunction!(earth::geodesy::earth_rate_ned, m)?,
+        wrap_pyfunction!(earth::geodesy::transport_rate_ned, m)?,
+        wrap_pyfunction!(earth::geodesy::coriolis_ned, m)?,
+        wrap_pyfunction!(earth::geodesy::eotvos_correction, m)?,
+        wrap_pyfunction!(earth::geodesy::coriolis_parameter, m)?,
+        wrap_pyfunction!(earth::geodesy::earth_rotation_angle, m)?,
+        wrap_pyfunction!(rotation::quat_from_euler, m)?,
+        wrap_pyfunction!(rotation::euler_from_quat, m)?,
+        wrap_pyfunction!(rotation::quat_to_matrix, m)?,
+        wrap_pyfunction!(rotation::matrix_to_quat, m)?,
+        wrap_pyfunction!(rotation::quat_multiply, m)?,
+        wrap_pyfunction!(rotation::quat_inverse, m)?,
+        wrap_pyfunction!(rotation::quat_rotate, m)?,
+        wrap_pyfunction!(rotation::quat_from_rotvec, m)?,
+        wrap_pyfunction!(rotation::quat_to_rotvec, m)?,
     ] {
         m.add_function(f)?;
     }

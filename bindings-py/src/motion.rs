@@ -13,12 +13,13 @@ use rotaframe::limits::{MAX_ACCELERATION, MAX_POSITION, MAX_VELOCITY, within};
 
 use core::mem::MaybeUninit;
 
-use crate::batch::{self, Outputs};
-use crate::broadcast::{Access, BatchArgs, Failure, Operand, Plan, failure_to_py, out_slice, run};
-use crate::errors::{FrameMismatchError, OutOfRangeError, ShapeError};
-use crate::geodesy::python_error;
-use crate::model::{PyEarthModel, model_or_default};
-use crate::rotations::{matrix, put_matrix, put_quaternion, quaternion};
+use crate::earth::model::{PyEarthModel, model_or_default};
+use crate::plumbing::batch::{self, Outputs};
+use crate::plumbing::broadcast::{Access, BatchArgs, Failure, Operand, Plan, failure_to_py, out_slice, run};
+use crate::plumbing::errors::python_error;
+use crate::plumbing::errors::{FrameMismatchError, OutOfRangeError, ShapeError};
+use crate::plumbing::output::put_row_major;
+use crate::rotation::{matrix, put_matrix, put_quaternion, quaternion};
 
 pub type Motion = FrameMotion<AnyFrame, AnyFrame>;
 
@@ -182,7 +183,7 @@ impl PyFrameMotion {
 
 /// Extracts a `rotation` argument: quaternions `(..., 4)` or matrices `(..., 3, 3)`.
 pub fn rotation_operand<'py>(obj: &Bound<'py, PyAny>) -> PyResult<(Operand<'py>, bool)> {
-    let array = crate::broadcast::real_array(obj, "rotation")?.into_any();
+    let array = crate::plumbing::broadcast::real_array(obj, "rotation")?.into_any();
     let shape = array.cast::<numpy::PyUntypedArray>().map(|a| a.shape().to_vec()).unwrap_or_default();
     if shape.len() >= 2 && shape[shape.len() - 2..] == [3, 3] {
         Ok((Operand::extract(&array, "rotation", &[3, 3])?, true))
@@ -330,9 +331,9 @@ impl PyFrameMotion {
         &self,
         py: Python<'py>,
         other: &Bound<'py, PyFrameMotion>,
-        #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+        #[pyo3(from_py_with = crate::plumbing::args::jacobian)] jacobian: bool,
         out: Option<&Bound<'py, PyAny>>,
-        #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+        #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
     ) -> PyResult<Bound<'py, PyAny>> {
         BatchArgs { out, threads }.refuse_out("by `then` (it returns a FrameMotion)")?;
         let composed = self.compose(py, other, threads)?;
@@ -367,7 +368,7 @@ impl PyFrameMotion {
     fn inverse<'py>(
         &self,
         py: Python<'py>,
-        #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+        #[pyo3(from_py_with = crate::plumbing::args::jacobian)] jacobian: bool,
     ) -> PyResult<Bound<'py, PyAny>> {
         let motions: Vec<Motion> = py.detach(|| self.motions.iter().map(|m| m.inverse()).collect());
         let inverse =
@@ -391,9 +392,9 @@ impl PyFrameMotion {
         position: &Bound<'py, PyAny>,
         velocity: Option<&Bound<'py, PyAny>>,
         acceleration: Option<&Bound<'py, PyAny>>,
-        #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+        #[pyo3(from_py_with = crate::plumbing::args::jacobian)] jacobian: bool,
         out: Option<&Bound<'py, PyAny>>,
-        #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+        #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
     ) -> PyResult<Bound<'py, PyTuple>> {
         let mut r = Operand::extract(position, "position", &[3])?;
         let mut v = Operand::optional(velocity, "velocity", &[3])?;
@@ -471,7 +472,7 @@ impl PyFrameMotion {
         py: Python<'py>,
         v: &Bound<'py, PyAny>,
         out: Option<&Bound<'py, PyAny>>,
-        #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+        #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
     ) -> PyResult<Bound<'py, PyAny>> {
         let mut v = Operand::extract(v, "v", &[3])?;
         let plan = Plan::for_operands(&mut [&mut v], &[("motion", &self.shape)])?;
@@ -509,8 +510,8 @@ impl PyFrameMotion {
     fn isclose(
         &self,
         other: &Bound<'_, PyAny>,
-        #[pyo3(from_py_with = crate::args::rtol)] rtol: f64,
-        #[pyo3(from_py_with = crate::args::atol)] atol: f64,
+        #[pyo3(from_py_with = crate::plumbing::args::rtol)] rtol: f64,
+        #[pyo3(from_py_with = crate::plumbing::args::atol)] atol: f64,
     ) -> bool {
         let Ok(other) = other.cast::<PyFrameMotion>() else { return false };
         let other = other.get();
@@ -646,8 +647,8 @@ pub fn _frame_motion_from_parts<'py>(
 pub fn earth_motion<'py>(
     py: Python<'py>,
     t: &Bound<'py, PyAny>,
-    #[pyo3(from_py_with = crate::args::angle_at_epoch)] angle_at_epoch: f64,
-    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::plumbing::args::angle_at_epoch)] angle_at_epoch: f64,
+    #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
 ) -> PyResult<PyFrameMotion> {
     let model = model_or_default(model.as_ref());
     let mut t = Operand::extract(t, "t", &[])?;
@@ -677,11 +678,11 @@ pub fn local_level_motion<'py>(
     h: &Bound<'py, PyAny>,
     v_ned: Option<&Bound<'py, PyAny>>,
     a_ned: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
-    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::plumbing::args::degrees)] degrees: bool,
 ) -> PyResult<PyFrameMotion> {
     let model = model_or_default(model.as_ref());
-    let s = if degrees { core::f64::consts::PI / 180.0 } else { 1.0 };
+    let s = crate::plumbing::output::angle_scale(degrees);
     let mut ops = [
         Operand::extract(lat, "lat", &[])?,
         Operand::extract(lon, "lon", &[])?,
@@ -923,14 +924,5 @@ impl PyFrameMotion {
         let motions: Vec<Motion> =
             if chunks.len() == 1 { chunks.into_iter().next().unwrap_or_default() } else { chunks.concat() };
         Ok(PyFrameMotion::new_batch(motions, plan.shape.clone(), self.parent.clone(), other.child.clone()))
-    }
-}
-
-/// Writes a matrix row-major.
-fn put_row_major<const R: usize, const C: usize>(o: &mut [f64], m: &rotaframe::nalgebra::SMatrix<f64, R, C>) {
-    for i in 0..R {
-        for j in 0..C {
-            o[i * C + j] = m[(i, j)];
-        }
     }
 }

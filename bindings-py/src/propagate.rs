@@ -10,11 +10,11 @@ use rotaframe::graph::{GraphError, LocalAxes};
 use rotaframe::nalgebra::Vector3;
 use rotaframe::propagate::{self as rp, AirDensity, ApparentTerms, DenseStep, Drag, Gravitation, Motion, Settings, Tolerances};
 
-use crate::broadcast::{Operand, Plan};
-use crate::errors::{RotaframeError, ShapeError, to_py};
+use crate::earth::model::{PyEarthModel, model_or_default};
 use crate::graph::{PyFrameGraph, graph_error};
-use crate::model::{PyEarthModel, model_or_default};
 use crate::motion::PyFrameMotion;
+use crate::plumbing::broadcast::{Operand, Plan};
+use crate::plumbing::errors::{RotaframeError, ShapeError, to_py};
 
 /// The deflection each apparent term caused by the end of a run (first order, from the
 /// variational equations), resolved in the propagation frame (m): `translational`,
@@ -56,9 +56,9 @@ impl PyDrag {
     #[new]
     #[pyo3(signature = (ballistic_coefficient, *, density=1.225, scale_height=None, up=None, wind=None))]
     fn new(
-        #[pyo3(from_py_with = crate::args::ballistic_coefficient)] ballistic_coefficient: f64,
-        #[pyo3(from_py_with = crate::args::density)] density: f64,
-        #[pyo3(from_py_with = crate::args::opt_scale_height)] scale_height: Option<f64>,
+        #[pyo3(from_py_with = crate::plumbing::args::ballistic_coefficient)] ballistic_coefficient: f64,
+        #[pyo3(from_py_with = crate::plumbing::args::density)] density: f64,
+        #[pyo3(from_py_with = crate::plumbing::args::opt_scale_height)] scale_height: Option<f64>,
         up: Option<&Bound<'_, PyAny>>,
         wind: Option<&Bound<'_, PyAny>>,
     ) -> PyResult<Self> {
@@ -392,7 +392,7 @@ pub fn gravitation(obj: &Bound<'_, PyAny>) -> PyResult<Gravitation> {
     if obj.is_none() {
         return Ok(Gravitation::None);
     }
-    Ok(match crate::args::keyword(obj, "gravity", &["point", "j2"])? {
+    Ok(match crate::plumbing::args::keyword(obj, "gravity", &["point", "j2"])? {
         "j2" => Gravitation::J2,
         _ => Gravitation::PointMass,
     })
@@ -403,7 +403,7 @@ fn apparent_terms(obj: Option<&Bound<'_, PyAny>>) -> PyResult<ApparentTerms> {
     let Some(obj) = obj.filter(|o| !o.is_none()) else { return Ok(ApparentTerms::ALL) };
     let mut terms = ApparentTerms::NONE;
     for item in obj.try_iter()? {
-        match crate::args::keyword(&item?, "apparent", &["translational", "coriolis", "centrifugal", "euler"])? {
+        match crate::plumbing::args::keyword(&item?, "apparent", &["translational", "coriolis", "centrifugal", "euler"])? {
             "translational" => terms.translational = true,
             "coriolis" => terms.coriolis = true,
             "centrifugal" => terms.centrifugal = true,
@@ -453,15 +453,15 @@ pub fn propagate<'py>(
     velocity: &Bound<'py, PyAny>,
     #[pyo3(from_py_with = gravitation)] gravity: Gravitation,
     force: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::args::rtol)] rtol: f64,
-    #[pyo3(from_py_with = crate::args::atol)] atol: f64,
-    #[pyo3(from_py_with = crate::args::opt_max_step)] max_step: Option<f64>,
-    #[pyo3(from_py_with = crate::args::opt_stop_height)] stop_height: Option<f64>,
+    #[pyo3(from_py_with = crate::plumbing::args::rtol)] rtol: f64,
+    #[pyo3(from_py_with = crate::plumbing::args::atol)] atol: f64,
+    #[pyo3(from_py_with = crate::plumbing::args::opt_max_step)] max_step: Option<f64>,
+    #[pyo3(from_py_with = crate::plumbing::args::opt_stop_height)] stop_height: Option<f64>,
     stop_fn: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::args::budget)] budget: bool,
-    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::plumbing::args::budget)] budget: bool,
+    #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
     apparent: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::args::max_steps)] max_steps: u64,
+    #[pyo3(from_py_with = crate::plumbing::args::max_steps)] max_steps: u64,
 ) -> PyResult<PyPropagation> {
     let span = {
         let mut op = Operand::extract(t_span, "t_span", &[2])?;
@@ -491,9 +491,9 @@ pub fn propagate<'py>(
             Ok(d) => Force::Drag(d.get().drag),
             Err(_) if f.is_callable() => Force::Python(f),
             Err(_) => {
-                return Err(crate::errors::input_type_error(format!(
+                return Err(crate::plumbing::errors::input_type_error(format!(
                     "`force` must be a Drag or a callable force(t, position, velocity), got {}",
-                    crate::args::describe(f)
+                    crate::plumbing::args::describe(f)
                 )));
             }
         },
@@ -502,7 +502,10 @@ pub fn propagate<'py>(
     if let Some(f) = stop_fn
         && !f.is_callable()
     {
-        return Err(crate::errors::input_type_error(format!("`stop_fn` must be callable, got {}", crate::args::describe(f))));
+        return Err(crate::plumbing::errors::input_type_error(format!(
+            "`stop_fn` must be callable, got {}",
+            crate::plumbing::args::describe(f)
+        )));
     }
     if stop_fn.is_some() && stop_height.is_some() {
         return Err(RotaframeError::new_err("give `stop_height` or `stop_fn`, not both"));
@@ -512,9 +515,9 @@ pub fn propagate<'py>(
             Ok(pair) => Some(pair),
             Err(_) if frame_motion.is_callable() => None,
             Err(_) => {
-                return Err(crate::errors::input_type_error(format!(
+                return Err(crate::plumbing::errors::input_type_error(format!(
                     "`frame_motion` must be a callable t -> FrameMotion or a pair (FrameGraph, frame name), got {}",
-                    crate::args::describe(frame_motion)
+                    crate::plumbing::args::describe(frame_motion)
                 )));
             }
         };
@@ -539,7 +542,7 @@ pub fn propagate<'py>(
     let call_stop = |t: f64, r: &Vector3<f64>, v: &Vector3<f64>| -> rotaframe::Result<f64> {
         let Some(f) = stop_fn else { return Ok(1.0) };
         let out = f.call1((t, vec3(py, r), vec3(py, v))).map_err(&keep)?;
-        crate::args::number(&out, "stop_fn result").map_err(keep)
+        crate::plumbing::args::number(&out, "stop_fn result").map_err(keep)
     };
     let mut steps: Vec<DenseStep<6>> = Vec::new();
     let record = |step: &DenseStep<6>| -> rotaframe::Result<()> {

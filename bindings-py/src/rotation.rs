@@ -8,14 +8,18 @@ use rotaframe::rotation::{self, EulerZyx};
 
 use rotaframe::frames::{AnyFrame, FreeVector};
 
-use crate::broadcast::{BatchArgs, Operand, map_elements, tuple_of};
+use crate::plumbing::broadcast::{BatchArgs, Operand, map_elements, tuple_of};
+use rotaframe::linearise;
+
+fn v3(s: &[f64]) -> Vector3<f64> {
+    Vector3::new(s[0], s[1], s[2])
+}
+
+use crate::plumbing::broadcast::map_elements_shaped;
+use crate::plumbing::output::{angle_scale, put_row_major};
 
 fn same<const N: usize>(error: rotaframe::Error, _inputs: &[&[f64]; N]) -> rotaframe::Error {
     error
-}
-
-fn angle_scale(degrees: bool) -> f64 {
-    if degrees { core::f64::consts::PI / 180.0 } else { 1.0 }
 }
 
 /// A validated unit quaternion from four `(w, x, y, z)` values.
@@ -48,16 +52,16 @@ pub fn quat_from_euler<'py>(
     yaw: &Bound<'py, PyAny>,
     pitch: &Bound<'py, PyAny>,
     roll: &Bound<'py, PyAny>,
-    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
-    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    #[pyo3(from_py_with = crate::plumbing::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::plumbing::args::jacobian)] jacobian: bool,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let s = angle_scale(degrees);
     let ops = [Operand::extract(yaw, "yaw", &[])?, Operand::extract(pitch, "pitch", &[])?, Operand::extract(roll, "roll", &[])?];
     if jacobian {
         BatchArgs { out, threads }.refuse_out("with jacobian=True")?;
-        return crate::linearise::quat_from_euler(py, ops, degrees, threads);
+        return quat_from_euler_with_jacobian(py, ops, degrees, threads);
     }
     let (_, [out]) = map_elements(py, ops, &[4], BatchArgs { out, threads }, same, |x, [o]| {
         let e = EulerZyx::new(x[0][0] * s, x[1][0] * s, x[2][0] * s);
@@ -81,13 +85,13 @@ pub fn euler_from_quat<'py>(
     py: Python<'py>,
     q: &Bound<'py, PyAny>,
     degrees: bool,
-    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    #[pyo3(from_py_with = crate::plumbing::args::jacobian)] jacobian: bool,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyTuple>> {
     if jacobian {
         BatchArgs { out, threads }.refuse_out("with jacobian=True")?;
-        return crate::linearise::euler_from_quat(py, Operand::extract(q, "q", &[4])?, degrees, threads);
+        return euler_from_quat_with_jacobian(py, Operand::extract(q, "q", &[4])?, degrees, threads);
     }
     let s = 1.0 / angle_scale(degrees);
     let (plan, [yaw, pitch, roll]) =
@@ -106,7 +110,7 @@ pub fn quat_to_matrix<'py>(
     py: Python<'py>,
     q: &Bound<'py, PyAny>,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let (_, [out]) = map_elements(py, [Operand::extract(q, "q", &[4])?], &[3, 3], BatchArgs { out, threads }, same, |x, [o]| {
         put_matrix(o, &quaternion(x[0], "q")?);
@@ -122,7 +126,7 @@ pub fn matrix_to_quat<'py>(
     py: Python<'py>,
     m: &Bound<'py, PyAny>,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let (_, [out]) = map_elements(py, [Operand::extract(m, "m", &[3, 3])?], &[4], BatchArgs { out, threads }, same, |x, [o]| {
         put_quaternion(o, &matrix(x[0], "m")?);
@@ -139,7 +143,7 @@ pub fn quat_multiply<'py>(
     p: &Bound<'py, PyAny>,
     q: &Bound<'py, PyAny>,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let ops = [Operand::extract(p, "p", &[4])?, Operand::extract(q, "q", &[4])?];
     let (_, [out]) = map_elements(py, ops, &[4], BatchArgs { out, threads }, same, |x, [o]| {
@@ -156,7 +160,7 @@ pub fn quat_inverse<'py>(
     py: Python<'py>,
     q: &Bound<'py, PyAny>,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let (_, [out]) = map_elements(py, [Operand::extract(q, "q", &[4])?], &[4], BatchArgs { out, threads }, same, |x, [o]| {
         put_quaternion(o, &quaternion(x[0], "q")?.inverse());
@@ -173,7 +177,7 @@ pub fn quat_rotate<'py>(
     q: &Bound<'py, PyAny>,
     v: &Bound<'py, PyAny>,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let ops = [Operand::extract(q, "q", &[4])?, Operand::extract(v, "v", &[3])?];
     let (_, [out]) = map_elements(py, ops, &[3], BatchArgs { out, threads }, same, |x, [o]| {
@@ -191,13 +195,13 @@ pub fn quat_rotate<'py>(
 pub fn quat_from_rotvec<'py>(
     py: Python<'py>,
     v: &Bound<'py, PyAny>,
-    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    #[pyo3(from_py_with = crate::plumbing::args::jacobian)] jacobian: bool,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     if jacobian {
         BatchArgs { out, threads }.refuse_out("with jacobian=True")?;
-        return crate::linearise::quat_from_rotvec(py, Operand::extract(v, "v", &[3])?, threads);
+        return quat_from_rotvec_with_jacobian(py, Operand::extract(v, "v", &[3])?, threads);
     }
     let (_, [out]) = map_elements(py, [Operand::extract(v, "v", &[3])?], &[4], BatchArgs { out, threads }, same, |x, [o]| {
         put_quaternion(o, &rotation::quaternion_from_rotation_vector(&Vector3::new(x[0][0], x[0][1], x[0][2]), "v")?);
@@ -213,17 +217,109 @@ pub fn quat_from_rotvec<'py>(
 pub fn quat_to_rotvec<'py>(
     py: Python<'py>,
     q: &Bound<'py, PyAny>,
-    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    #[pyo3(from_py_with = crate::plumbing::args::jacobian)] jacobian: bool,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     if jacobian {
         BatchArgs { out, threads }.refuse_out("with jacobian=True")?;
-        return crate::linearise::quat_to_rotvec(py, Operand::extract(q, "q", &[4])?, threads);
+        return quat_to_rotvec_with_jacobian(py, Operand::extract(q, "q", &[4])?, threads);
     }
     let (_, [out]) = map_elements(py, [Operand::extract(q, "q", &[4])?], &[3], BatchArgs { out, threads }, same, |x, [o]| {
         o.copy_from_slice(rotation::rotation_vector_from_quaternion(&quaternion(x[0], "q")?).as_slice());
         Ok(())
     })?;
     Ok(out.into_any())
+}
+
+/// `quat_from_euler(..., jacobian=True)`: `(q, J)`, J `(..., 3, 3)`: rows the small-angle
+/// rotation (local-level axes), columns yaw, pitch, roll.
+fn quat_from_euler_with_jacobian<'py>(
+    py: Python<'py>,
+    ops: [Operand<'py>; 3],
+    degrees: bool,
+    threads: usize,
+) -> PyResult<Bound<'py, PyAny>> {
+    let s = angle_scale(degrees);
+    let (_, [q, j]) = map_elements_shaped(
+        py,
+        ops,
+        [&[4], &[3, 3]],
+        BatchArgs { out: None, threads },
+        |e, _| e,
+        |x, [o, oj]| {
+            let e = EulerZyx::new(x[0][0] * s, x[1][0] * s, x[2][0] * s);
+            for (value, name) in [(e.yaw, "yaw"), (e.pitch, "pitch"), (e.roll, "roll")] {
+                if !value.is_finite() {
+                    return Err(rotaframe::Error::NonFinite { quantity: name });
+                }
+            }
+            let (quaternion, jac) = linearise::quaternion_from_euler_jacobian(&e);
+            put_quaternion(o, &quaternion);
+            put_row_major(oj, &(jac * s));
+            Ok(())
+        },
+    )?;
+    Ok(PyTuple::new(py, [q.into_any(), j.into_any()])?.into_any())
+}
+
+/// `euler_from_quat(..., jacobian=True)`: `(yaw, pitch, roll, J)`, J `(..., 3, 3)`: rows yaw,
+/// pitch, roll, columns the small-angle rotation (local-level axes).
+fn euler_from_quat_with_jacobian<'py>(
+    py: Python<'py>,
+    q: Operand<'py>,
+    degrees: bool,
+    threads: usize,
+) -> PyResult<Bound<'py, PyTuple>> {
+    let s = 1.0 / angle_scale(degrees);
+    let (plan, [yaw, pitch, roll, j]) = map_elements_shaped(
+        py,
+        [q],
+        [&[], &[], &[], &[3, 3]],
+        BatchArgs { out: None, threads },
+        |e, _| e,
+        |x, [y, p, r, oj]| {
+            let (e, jac) = linearise::euler_from_quaternion_jacobian(&quaternion(x[0], "q")?)?;
+            (y[0], p[0], r[0]) = (e.yaw * s, e.pitch * s, e.roll * s);
+            put_row_major(oj, &(jac * s));
+            Ok(())
+        },
+    )?;
+    tuple_of(py, &plan, vec![yaw, pitch, roll, j])
+}
+
+/// `quat_from_rotvec(v, jacobian=True)`: `(q, J)`, J the left Jacobian `(..., 3, 3)`.
+fn quat_from_rotvec_with_jacobian<'py>(py: Python<'py>, v: Operand<'py>, threads: usize) -> PyResult<Bound<'py, PyAny>> {
+    let (_, [q, j]) = map_elements_shaped(
+        py,
+        [v],
+        [&[4], &[3, 3]],
+        BatchArgs { out: None, threads },
+        |e, _| e.with_quantity("v"),
+        |x, [o, oj]| {
+            let (quaternion, jac) = linearise::quaternion_from_rotation_vector_jacobian(&v3(x[0]))?;
+            put_quaternion(o, &quaternion);
+            put_row_major(oj, &jac);
+            Ok(())
+        },
+    )?;
+    Ok(PyTuple::new(py, [q.into_any(), j.into_any()])?.into_any())
+}
+
+/// `quat_to_rotvec(q, jacobian=True)`: `(v, J)`, J `(..., 3, 3)` (the inverse left Jacobian).
+fn quat_to_rotvec_with_jacobian<'py>(py: Python<'py>, q: Operand<'py>, threads: usize) -> PyResult<Bound<'py, PyAny>> {
+    let (_, [v, j]) = map_elements_shaped(
+        py,
+        [q],
+        [&[3], &[3, 3]],
+        BatchArgs { out: None, threads },
+        |e, _| e,
+        |x, [o, oj]| {
+            let (vector, jac) = linearise::rotation_vector_from_quaternion_jacobian(&quaternion(x[0], "q")?)?;
+            o.copy_from_slice(vector.as_slice());
+            put_row_major(oj, &jac);
+            Ok(())
+        },
+    )?;
+    Ok(PyTuple::new(py, [v.into_any(), j.into_any()])?.into_any())
 }

@@ -55,6 +55,7 @@ def test_geodesy_and_gravity_are_finite_or_refused(lat, lon, h, xyz, v):
     finite_or_named(rf.ned_from_ecef, lat, lon)
     finite_or_named(rf.radii_of_curvature, lat)
     finite_or_named(rf.normal_gravity, lat, h)
+    finite_or_named(rf.schuler_period, lat, h)
     finite_or_named(rf.gravity_ned, lat, h)
     finite_or_named(rf.gravitation_ecef, xyz)
     finite_or_named(rf.gravity_ecef, xyz)

@@ -96,6 +96,20 @@ def test_normal_gravity_matches_tr8350_formulas(rng):
     assert np.all(g[..., :2] == 0)
 
 
+def test_schuler_period_is_two_pi_root_r_over_g_of_tr8350_formulas(rng):
+    # T = 2π √((√(M N) + h) / γ(φ, h)) (Schuler 1923; shared reference table), with M, N and γ
+    # from the TR8350.2 formulas written out in numpy here. rtol 1e-14: a handful of operations
+    # on values each within 1e-15 (radii) and 1e-14 (gravity, above) of these.
+    lat, h = rng.uniform(-np.pi / 2, np.pi / 2, 500), rng.uniform(-500, 2e4, 500)
+    s2 = np.sin(lat) ** 2
+    w2 = 1 - E2 * s2
+    m, n = A * (1 - E2) / w2**1.5, A / np.sqrt(w2)
+    gamma = GAMMA_E * (1 + K_SOMIGLIANA * s2) / np.sqrt(w2) * (1 - 2 / A * (1 + F + M_RATIO - 2 * F * s2) * h + 3 / A**2 * h**2)
+    np.testing.assert_allclose(rf.schuler_period(lat, h), 2 * np.pi * np.sqrt((np.sqrt(m * n) + h) / gamma), rtol=1e-14)
+    # 84.5 min at 45° on the ellipsoid (5067.3 s from the shared table's M, N and γ(45°)).
+    assert rf.schuler_period(45.0, degrees=True) == pytest.approx(5067.284, abs=1e-3)
+
+
 def test_j2_gravity_matches_formula(rng):
     xyz = np_geodetic_to_ecef(rng.uniform(-1.5, 1.5, 500), rng.uniform(-3, 3, 500), rng.uniform(0, 4e7, 500))
     j2 = rf.WGS84.j2

@@ -71,6 +71,7 @@ __all__ = [
     "imu_increments_from_samples",
     "lever_arm_state",
     "run_strapdowns",
+    "schuler_period",
     "local_level_motion",
     "matrix_to_quat",
     "motion_from_samples",
@@ -367,6 +368,15 @@ def normal_gravity(
     out: None = None,
     threads: int = 1,
 ) -> tuple[_FloatOrArray, _Array]: ...
+def schuler_period(
+    lat: ArrayLike,
+    h: Optional[ArrayLike] = None,
+    *,
+    model: Optional[EarthModel] = None,
+    degrees: bool = False,
+    out: _Out = None,
+    threads: int = 1,
+) -> _FloatOrArray: ...
 def gravity_ned(
     lat: ArrayLike, h: Optional[ArrayLike] = None, *, model: Optional[EarthModel] = None, degrees: bool = False
 , out: _Out = None, threads: int = 1) -> _Array: ...
@@ -623,7 +633,7 @@ class ImuErrors:
 def _imu_errors_from_parts(
     gyro: Sequence[float],
     accelerometer: Sequence[float],
-    stream: str,
+    stream: Union[str, Sequence[int]],
     gyro_markov: Sequence[float],
     accelerometer_markov: Sequence[float],
     seed: int,

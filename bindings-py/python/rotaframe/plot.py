@@ -16,7 +16,6 @@ returns the ``matplotlib.figure.Figure``; nothing is shown or saved unless you d
 
 from __future__ import annotations
 
-import math
 from typing import Any, Optional, Sequence
 
 import numpy as np
@@ -51,10 +50,9 @@ def _axes(ax: Any, rows: int = 1) -> tuple[Any, Sequence[Any]]:
 def schuler_period(lat: float, *, h: float = 0.0, degrees: bool = False, model: Optional[Any] = None) -> float:
     """The Schuler period (s) at geodetic latitude ``lat``: ``2π √(R / g)`` with ``R = √(M N) + h``
     from the radii of curvature and ``g`` normal gravity, both from ``model`` (WGS 84 by
-    default). About 5063 s (84.4 min) at 45°."""
-    m, n = _native.radii_of_curvature(lat, model=model, degrees=degrees)
-    g = _native.normal_gravity(lat, h, model=model, degrees=degrees)
-    return 2.0 * math.pi * math.sqrt((math.sqrt(float(m) * float(n)) + h) / float(g))
+    default). About 5067 s (84.5 min) at 45°. The same as :func:`rotaframe.schuler_period`
+    (the core's ``earth::schuler_period``) for one latitude."""
+    return float(_native.schuler_period(lat, h, model=model, degrees=degrees))
 
 
 def budget_plot(t: Any, terms: Any, *, ax: Any = None, title: Optional[str] = None, time_unit: str = "s") -> Any:

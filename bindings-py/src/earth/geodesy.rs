@@ -7,45 +7,18 @@ use numpy::PyArrayMethods;
 use pyo3::prelude::*;
 use pyo3::types::PyTuple;
 use rotaframe::earth::{self, EarthModel};
-use rotaframe::nalgebra::Vector3;
+use rotaframe::nalgebra::{Matrix3, Vector3};
 
-use crate::batch::{self, Outputs};
-use crate::broadcast::{BatchArgs, Failure, Operand, Plan, failure_to_py, map_elements, out_slice, scalar_or_array, tuple_of};
-use crate::model::{PyEarthModel, model_or_default};
-
-/// Degrees-to-radians factor when `degrees` is set.
-fn angle_scale(degrees: bool) -> f64 {
-    if degrees { core::f64::consts::PI / 180.0 } else { 1.0 }
-}
-
-/// Renames the core's quantity names to this module's Python argument names.
-pub fn python_name(error: rotaframe::Error) -> rotaframe::Error {
-    let to = match error.quantity() {
-        "latitude" => "lat",
-        "longitude" => "lon",
-        "height" => "h",
-        "ecef" | "position_ecef" => "xyz",
-        "velocity_ned" => "v_ned",
-        "acceleration_ned" => "a_ned",
-        _ => return error,
-    };
-    error.with_quantity(to)
-}
-
-/// A core error for Python: argument names, and for `degrees=True` calls the rejected latitude
-/// shown in degrees (`lat` is the caller's input value, before conversion).
-pub fn python_error(error: rotaframe::Error, degrees: bool, lat: f64) -> rotaframe::Error {
-    use rotaframe::Error;
-    let error = python_name(error);
-    if !degrees || error.quantity() != "lat" {
-        return error;
-    }
-    match error {
-        Error::OutOfRange { quantity, .. } => Error::OutOfRange { quantity, value: lat, min: -90.0, max: 90.0 },
-        Error::NearPole { quantity, limit, .. } => Error::NearPole { quantity, value: lat, limit: limit.to_degrees() },
-        other => other,
-    }
-}
+use crate::earth::model::{PyEarthModel, model_or_default};
+use crate::plumbing::batch::{self, Outputs};
+use crate::plumbing::broadcast::map_elements_shaped;
+use crate::plumbing::broadcast::{
+    BatchArgs, Failure, Operand, Plan, failure_to_py, map_elements, out_slice, scalar_or_array, tuple_of,
+};
+use crate::plumbing::errors::{python_error, python_name};
+use crate::plumbing::output::{angle_scale, put_row_major};
+use rotaframe::earth::Geodetic;
+use rotaframe::linearise;
 
 /// [`python_error`] for kernels whose first argument is the latitude.
 fn lat_first<const N: usize>(degrees: bool) -> impl Fn(rotaframe::Error, &[&[f64]; N]) -> rotaframe::Error + Sync {
@@ -75,11 +48,11 @@ pub fn geodetic_to_ecef<'py>(
     lat: &Bound<'py, PyAny>,
     lon: &Bound<'py, PyAny>,
     h: &Bound<'py, PyAny>,
-    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
-    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
-    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::plumbing::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::plumbing::args::jacobian)] jacobian: bool,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let model = model_or_default(model.as_ref());
     let (mut lat, mut lon, mut h) =
@@ -87,7 +60,7 @@ pub fn geodetic_to_ecef<'py>(
     let batch = BatchArgs { out, threads };
     if jacobian {
         batch.refuse_out("with jacobian=True")?;
-        return crate::linearise::geodetic_to_ecef(py, [lat, lon, h], &model, degrees, threads);
+        return geodetic_to_ecef_with_jacobian(py, [lat, lon, h], &model, degrees, threads);
     }
     let plan = Plan::for_operands(&mut [&mut lat, &mut lon, &mut h], &[])?;
     let outputs = Outputs::new(py, batch.out, &plan.shape, [&[3]])?;
@@ -132,18 +105,18 @@ pub fn geodetic_to_ecef<'py>(
 pub fn ecef_to_geodetic<'py>(
     py: Python<'py>,
     xyz: &Bound<'py, PyAny>,
-    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
-    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
-    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::plumbing::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::plumbing::args::jacobian)] jacobian: bool,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyTuple>> {
     let model = model_or_default(model.as_ref());
     let mut xyz = Operand::extract(xyz, "xyz", &[3])?;
     let batch = BatchArgs { out, threads };
     if jacobian {
         batch.refuse_out("with jacobian=True")?;
-        return crate::linearise::ecef_to_geodetic(py, xyz, &model, degrees, threads);
+        return ecef_to_geodetic_with_jacobian(py, xyz, &model, degrees, threads);
     }
     let mut plan = Plan::for_operands(&mut [&mut xyz], &[])?;
     let outputs = Outputs::new(py, batch.out, &plan.shape, [&[], &[], &[]])?;
@@ -194,16 +167,16 @@ pub fn ned_from_ecef<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
     lon: &Bound<'py, PyAny>,
-    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
-    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    #[pyo3(from_py_with = crate::plumbing::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::plumbing::args::jacobian)] jacobian: bool,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let batch = BatchArgs { out, threads };
     if jacobian {
         batch.refuse_out("with jacobian=True")?;
         let ops = [Operand::extract(lat, "lat", &[])?, Operand::extract(lon, "lon", &[])?];
-        return crate::linearise::local_rotation(py, ops, degrees, earth::ned_from_ecef, threads);
+        return local_rotation_with_jacobian(py, ops, degrees, earth::ned_from_ecef, threads);
     }
     local_rotation(py, lat, lon, degrees, earth::ned_from_ecef, batch)
 }
@@ -218,16 +191,16 @@ pub fn enu_from_ecef<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
     lon: &Bound<'py, PyAny>,
-    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
-    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    #[pyo3(from_py_with = crate::plumbing::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::plumbing::args::jacobian)] jacobian: bool,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let batch = BatchArgs { out, threads };
     if jacobian {
         batch.refuse_out("with jacobian=True")?;
         let ops = [Operand::extract(lat, "lat", &[])?, Operand::extract(lon, "lon", &[])?];
-        return crate::linearise::local_rotation(py, ops, degrees, earth::enu_from_ecef, threads);
+        return local_rotation_with_jacobian(py, ops, degrees, earth::enu_from_ecef, threads);
     }
     local_rotation(py, lat, lon, degrees, earth::enu_from_ecef, batch)
 }
@@ -259,10 +232,10 @@ fn local_rotation<'py>(
 pub fn radii_of_curvature<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
-    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
-    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::plumbing::args::degrees)] degrees: bool,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyTuple>> {
     let (model, s) = (model_or_default(model.as_ref()), angle_scale(degrees));
     let batch = BatchArgs { out, threads };
@@ -301,11 +274,11 @@ pub fn normal_gravity<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
     h: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
-    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
-    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::plumbing::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::plumbing::args::jacobian)] jacobian: bool,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let model = model_or_default(model.as_ref());
     let zero = 0.0f64.into_pyobject(py)?.into_any();
@@ -313,9 +286,27 @@ pub fn normal_gravity<'py>(
     if jacobian {
         batch.refuse_out("with jacobian=True")?;
         let ops = [Operand::extract(lat, "lat", &[])?, Operand::extract(h.unwrap_or(&zero), "h", &[])?];
-        return Ok(crate::linearise::normal_gravity(py, ops, &model, degrees, threads)?.into_any());
+        return Ok(normal_gravity_with_jacobian(py, ops, &model, degrees, threads)?.into_any());
     }
     lat_scalar(py, lat, h.unwrap_or(&zero), degrees, batch, |lat, h| earth::normal_gravity_at_height(&model, lat, h))
+}
+
+/// The Schuler period (s) at geodetic latitude and ellipsoidal height:
+/// `2π √((√(M N) + h) / γ(φ, h))`, about 84.5 min at 45°.
+#[pyfunction]
+#[pyo3(signature = (lat, h=None, *, model=None, degrees=false, out=None, threads=1))]
+pub fn schuler_period<'py>(
+    py: Python<'py>,
+    lat: &Bound<'py, PyAny>,
+    h: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::plumbing::args::degrees)] degrees: bool,
+    out: Option<&Bound<'py, PyAny>>,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
+) -> PyResult<Bound<'py, PyAny>> {
+    let model = model_or_default(model.as_ref());
+    let zero = 0.0f64.into_pyobject(py)?.into_any();
+    lat_scalar(py, lat, h.unwrap_or(&zero), degrees, BatchArgs { out, threads }, |lat, h| earth::schuler_period(&model, lat, h))
 }
 
 /// Plumb-line gravity `(0, 0, γ(φ, h))` resolved in NED (m/s²), shape `(..., 3)`.
@@ -325,10 +316,10 @@ pub fn gravity_ned<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
     h: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
-    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::plumbing::args::degrees)] degrees: bool,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let (model, s) = (model_or_default(model.as_ref()), angle_scale(degrees));
     let ops = [Operand::extract(lat, "lat", &[])?, Operand::optional(h, "h", &[])?];
@@ -374,7 +365,7 @@ fn ecef_field<'py>(
 ) -> PyResult<Bound<'py, PyAny>> {
     if jacobian {
         batch.refuse_out("with jacobian=True")?;
-        return crate::linearise::ecef_field(py, Operand::extract(xyz, "xyz", &[3])?, model, gradient, batch.threads);
+        return ecef_field_with_jacobian(py, Operand::extract(xyz, "xyz", &[3])?, model, gradient, batch.threads);
     }
     ecef_vector(py, xyz, model, field, batch)
 }
@@ -387,10 +378,10 @@ fn ecef_field<'py>(
 pub fn gravitation_ecef<'py>(
     py: Python<'py>,
     xyz: &Bound<'py, PyAny>,
-    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
-    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::plumbing::args::jacobian)] jacobian: bool,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     ecef_field(
         py,
@@ -410,10 +401,10 @@ pub fn gravitation_ecef<'py>(
 pub fn gravity_ecef<'py>(
     py: Python<'py>,
     xyz: &Bound<'py, PyAny>,
-    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
-    #[pyo3(from_py_with = crate::args::jacobian)] jacobian: bool,
+    #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::plumbing::args::jacobian)] jacobian: bool,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     ecef_field(
         py,
@@ -431,9 +422,9 @@ pub fn gravity_ecef<'py>(
 pub fn centripetal_acceleration_ecef<'py>(
     py: Python<'py>,
     xyz: &Bound<'py, PyAny>,
-    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     ecef_vector(py, xyz, &model_or_default(model.as_ref()), earth::centripetal_acceleration_ecef, BatchArgs { out, threads })
 }
@@ -444,10 +435,10 @@ pub fn centripetal_acceleration_ecef<'py>(
 pub fn earth_rate_ned<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
-    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
-    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::plumbing::args::degrees)] degrees: bool,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let (model, s) = (model_or_default(model.as_ref()), angle_scale(degrees));
     let (_, [out]) = map_elements(
@@ -506,10 +497,10 @@ pub fn transport_rate_ned<'py>(
     lat: &Bound<'py, PyAny>,
     h: &Bound<'py, PyAny>,
     v_ned: &Bound<'py, PyAny>,
-    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
-    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::plumbing::args::degrees)] degrees: bool,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     velocity_vector(py, [lat, h, v_ned], model.as_ref(), degrees, earth::transport_rate_ned, BatchArgs { out, threads })
 }
@@ -522,10 +513,10 @@ pub fn coriolis_ned<'py>(
     lat: &Bound<'py, PyAny>,
     h: &Bound<'py, PyAny>,
     v_ned: &Bound<'py, PyAny>,
-    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
-    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::plumbing::args::degrees)] degrees: bool,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     velocity_vector(py, [lat, h, v_ned], model.as_ref(), degrees, earth::coriolis_ned, BatchArgs { out, threads })
 }
@@ -538,10 +529,10 @@ pub fn eotvos_correction<'py>(
     lat: &Bound<'py, PyAny>,
     v_ned: &Bound<'py, PyAny>,
     h: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
-    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::plumbing::args::degrees)] degrees: bool,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let model = model_or_default(model.as_ref());
     let zero = 0.0f64.into_pyobject(py)?.into_any();
@@ -559,10 +550,10 @@ pub fn eotvos_correction<'py>(
 pub fn coriolis_parameter<'py>(
     py: Python<'py>,
     lat: &Bound<'py, PyAny>,
-    #[pyo3(from_py_with = crate::args::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
-    #[pyo3(from_py_with = crate::args::degrees)] degrees: bool,
+    #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'py, PyEarthModel>>,
+    #[pyo3(from_py_with = crate::plumbing::args::degrees)] degrees: bool,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let model = model_or_default(model.as_ref());
     let zero = 0.0f64.into_pyobject(py)?.into_any();
@@ -577,7 +568,7 @@ pub fn earth_rotation_angle<'py>(
     jd_ut1: &Bound<'py, PyAny>,
     jd_ut1_fraction: Option<&Bound<'py, PyAny>>,
     out: Option<&Bound<'py, PyAny>>,
-    #[pyo3(from_py_with = crate::batch::threads)] threads: usize,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
     let ops = [Operand::extract(jd_ut1, "jd_ut1", &[])?, Operand::optional(jd_ut1_fraction, "jd_ut1_fraction", &[])?];
     let (plan, [out]) = map_elements(
@@ -592,4 +583,118 @@ pub fn earth_rotation_angle<'py>(
         },
     )?;
     scalar_or_array(py, &plan, out)
+}
+
+/// `geodetic_to_ecef(..., jacobian=True)`: `(xyz, J)`, J `(..., 3, 3)` with columns lat, lon, h.
+fn geodetic_to_ecef_with_jacobian<'py>(
+    py: Python<'py>,
+    ops: [Operand<'py>; 3],
+    model: &EarthModel,
+    degrees: bool,
+    threads: usize,
+) -> PyResult<Bound<'py, PyAny>> {
+    let s = angle_scale(degrees);
+    let rename = move |e, x: &[&[f64]; 3]| python_error(e, degrees, x[0][0]);
+    let (_, [xyz, j]) = map_elements_shaped(py, ops, [&[3], &[3, 3]], BatchArgs { out: None, threads }, rename, |x, [o, oj]| {
+        let (value, mut jac) = linearise::geodetic_to_ecef_jacobian(model, &Geodetic::new(x[0][0] * s, x[1][0] * s, x[2][0]))?;
+        jac.column_mut(0).scale_mut(s);
+        jac.column_mut(1).scale_mut(s);
+        o.copy_from_slice(value.as_slice());
+        put_row_major(oj, &jac);
+        Ok(())
+    })?;
+    Ok(PyTuple::new(py, [xyz.into_any(), j.into_any()])?.into_any())
+}
+
+/// `ecef_to_geodetic(..., jacobian=True)`: `(lat, lon, h, J)`, J `(..., 3, 3)` with rows lat,
+/// lon, h and columns x, y, z.
+fn ecef_to_geodetic_with_jacobian<'py>(
+    py: Python<'py>,
+    xyz: Operand<'py>,
+    model: &EarthModel,
+    degrees: bool,
+    threads: usize,
+) -> PyResult<Bound<'py, PyTuple>> {
+    let s = 1.0 / angle_scale(degrees);
+    let (plan, [lat, lon, h, j]) = map_elements_shaped(
+        py,
+        [xyz],
+        [&[], &[], &[], &[3, 3]],
+        BatchArgs { out: None, threads },
+        |e, _| python_name(e),
+        |x, [la, lo, hh, oj]| {
+            let (g, mut jac) = linearise::ecef_to_geodetic_jacobian(model, &v3(x[0]))?;
+            jac.row_mut(0).scale_mut(s);
+            jac.row_mut(1).scale_mut(s);
+            (la[0], lo[0], hh[0]) = (g.latitude * s, g.longitude * s, g.height);
+            put_row_major(oj, &jac);
+            Ok(())
+        },
+    )?;
+    tuple_of(py, &plan, vec![lat, lon, h, j])
+}
+
+/// `ned_from_ecef` / `enu_from_ecef` with `jacobian=True`: `(C, J)`, J `(..., 3, 2)`: the
+/// small-angle rotation of the local-level axes relative to ECEF, resolved in ECEF, per unit
+/// latitude and longitude (the same for NED and ENU axes).
+fn local_rotation_with_jacobian<'py>(
+    py: Python<'py>,
+    ops: [Operand<'py>; 2],
+    degrees: bool,
+    f: fn(f64, f64) -> rotaframe::Result<Matrix3<f64>>,
+    threads: usize,
+) -> PyResult<Bound<'py, PyAny>> {
+    let s = angle_scale(degrees);
+    let rename = move |e, x: &[&[f64]; 2]| python_error(e, degrees, x[0][0]);
+    let (_, [c, j]) =
+        map_elements_shaped(py, ops, [&[3, 3], &[3, 2]], BatchArgs { out: None, threads }, rename, |x, [o, oj]| {
+            let (lat, lon) = (x[0][0] * s, x[1][0] * s);
+            put_row_major(o, &f(lat, lon)?);
+            put_row_major(oj, &(linearise::local_level_rotation_jacobian(lat, lon)? * s));
+            Ok(())
+        })?;
+    Ok(PyTuple::new(py, [c.into_any(), j.into_any()])?.into_any())
+}
+
+/// `normal_gravity(..., jacobian=True)`: `(γ, J)`, J `(..., 2)`: `∂γ/∂lat`, `∂γ/∂h`.
+fn normal_gravity_with_jacobian<'py>(
+    py: Python<'py>,
+    ops: [Operand<'py>; 2],
+    model: &EarthModel,
+    degrees: bool,
+    threads: usize,
+) -> PyResult<Bound<'py, PyTuple>> {
+    let s = angle_scale(degrees);
+    let rename = move |e, x: &[&[f64]; 2]| python_error(e, degrees, x[0][0]);
+    let (plan, [g, j]) = map_elements_shaped(py, ops, [&[], &[2]], BatchArgs { out: None, threads }, rename, |x, [o, oj]| {
+        let (value, (per_latitude, per_height)) = linearise::normal_gravity_jacobian(model, x[0][0] * s, x[1][0])?;
+        o[0] = value;
+        (oj[0], oj[1]) = (per_latitude * s, per_height);
+        Ok(())
+    })?;
+    tuple_of(py, &plan, vec![g, j])
+}
+
+/// `gravitation_ecef` / `gravity_ecef` with `jacobian=True`: `(g, J)`, J `(..., 3, 3)` (s⁻²).
+fn ecef_field_with_jacobian<'py>(
+    py: Python<'py>,
+    xyz: Operand<'py>,
+    model: &EarthModel,
+    f: FieldJacobian,
+    threads: usize,
+) -> PyResult<Bound<'py, PyAny>> {
+    let (_, [g, j]) = map_elements_shaped(
+        py,
+        [xyz],
+        [&[3], &[3, 3]],
+        BatchArgs { out: None, threads },
+        |e, _| python_name(e),
+        |x, [o, oj]| {
+            let (value, jac) = f(model, &v3(x[0]))?;
+            o.copy_from_slice(value.as_slice());
+            put_row_major(oj, &jac);
+            Ok(())
+        },
+    )?;
+    Ok(PyTuple::new(py, [g.into_any(), j.into_any()])?.into_any())
 }

@@ -4,7 +4,7 @@ use pyo3::prelude::*;
 use pyo3::types::PyTuple;
 use rotaframe::earth::{self, EarthModel};
 
-use crate::errors::to_py;
+use crate::plumbing::errors::to_py;
 
 /// A reference ellipsoid with its normal gravity field (see `rotaframe.WGS84`, `rotaframe.GRS80`).
 #[pyclass(frozen, name = "EarthModel", module = "rotaframe._native")]
@@ -44,13 +44,13 @@ impl PyEarthModel {
     #[new]
     #[pyo3(signature = (*, a, f, gm, omega, gamma_equator=None, gamma_pole=None, j2=None))]
     fn new(
-        #[pyo3(from_py_with = crate::args::a)] a: f64,
-        #[pyo3(from_py_with = crate::args::f)] f: f64,
-        #[pyo3(from_py_with = crate::args::gm)] gm: f64,
-        #[pyo3(from_py_with = crate::args::omega)] omega: f64,
-        #[pyo3(from_py_with = crate::args::gamma_equator)] gamma_equator: Option<f64>,
-        #[pyo3(from_py_with = crate::args::gamma_pole)] gamma_pole: Option<f64>,
-        #[pyo3(from_py_with = crate::args::j2)] j2: Option<f64>,
+        #[pyo3(from_py_with = crate::plumbing::args::a)] a: f64,
+        #[pyo3(from_py_with = crate::plumbing::args::f)] f: f64,
+        #[pyo3(from_py_with = crate::plumbing::args::gm)] gm: f64,
+        #[pyo3(from_py_with = crate::plumbing::args::omega)] omega: f64,
+        #[pyo3(from_py_with = crate::plumbing::args::gamma_equator)] gamma_equator: Option<f64>,
+        #[pyo3(from_py_with = crate::plumbing::args::gamma_pole)] gamma_pole: Option<f64>,
+        #[pyo3(from_py_with = crate::plumbing::args::j2)] j2: Option<f64>,
     ) -> PyResult<Self> {
         let inner = match (gamma_equator, gamma_pole, j2) {
             (None, None, None) => EarthModel::from_defining_constants(a, f, gm, omega),
@@ -164,13 +164,13 @@ impl PyEarthModel {
 /// Rebuilds a pickled `EarthModel` (presets come back as the preset).
 #[pyfunction]
 pub fn _earth_model_from_constants(
-    #[pyo3(from_py_with = crate::args::a)] a: f64,
-    #[pyo3(from_py_with = crate::args::f)] f: f64,
-    #[pyo3(from_py_with = crate::args::gm)] gm: f64,
-    #[pyo3(from_py_with = crate::args::omega)] omega: f64,
-    #[pyo3(from_py_with = crate::args::req_gamma_equator)] gamma_equator: f64,
-    #[pyo3(from_py_with = crate::args::req_gamma_pole)] gamma_pole: f64,
-    #[pyo3(from_py_with = crate::args::req_j2)] j2: f64,
+    #[pyo3(from_py_with = crate::plumbing::args::a)] a: f64,
+    #[pyo3(from_py_with = crate::plumbing::args::f)] f: f64,
+    #[pyo3(from_py_with = crate::plumbing::args::gm)] gm: f64,
+    #[pyo3(from_py_with = crate::plumbing::args::omega)] omega: f64,
+    #[pyo3(from_py_with = crate::plumbing::args::req_gamma_equator)] gamma_equator: f64,
+    #[pyo3(from_py_with = crate::plumbing::args::req_gamma_pole)] gamma_pole: f64,
+    #[pyo3(from_py_with = crate::plumbing::args::req_j2)] j2: f64,
     preset: &str,
 ) -> PyResult<PyEarthModel> {
     match preset {
@@ -180,4 +180,17 @@ pub fn _earth_model_from_constants(
     }
     let inner = EarthModel::custom(a, f, gm, omega, gamma_equator, gamma_pole, j2).map_err(model_error)?;
     Ok(PyEarthModel { inner, preset: None })
+}
+
+/// An Earth model argument: an `EarthModel` (or None for WGS 84).
+pub fn earth_model<'py>(obj: &Bound<'py, PyAny>) -> PyResult<Option<Bound<'py, PyEarthModel>>> {
+    if obj.is_none() {
+        return Ok(None);
+    }
+    obj.cast::<PyEarthModel>().map(|m| Some(m.clone())).map_err(|_| {
+        crate::plumbing::errors::input_type_error(format!(
+            "`model` must be an EarthModel (rotaframe.WGS84, rotaframe.GRS80 or rotaframe.EarthModel(...)), got {}",
+            crate::plumbing::args::describe(obj)
+        ))
+    })
 }

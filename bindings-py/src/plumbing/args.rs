@@ -8,8 +8,7 @@
 use pyo3::prelude::*;
 use pyo3::types::{PyBool, PyFloat, PyInt, PyString};
 
-use crate::errors::{OutOfRangeError, input_type_error};
-use crate::model::PyEarthModel;
+use crate::plumbing::errors::{OutOfRangeError, input_type_error};
 
 /// A short description of a Python object's type for messages (`str`, `complex`, ...).
 pub fn type_name(obj: &Bound<'_, PyAny>) -> String {
@@ -78,7 +77,7 @@ pub fn keyword(obj: &Bound<'_, PyAny>, name: &str, allowed: &[&'static str]) -> 
     }
     let given: String = obj.extract()?;
     allowed.iter().copied().find(|a| *a == given).ok_or_else(|| {
-        crate::errors::RotaframeError::new_err(format!("`{name}` must be one of {}, got {given:?}", choices(allowed)))
+        crate::plumbing::errors::RotaframeError::new_err(format!("`{name}` must be one of {}, got {given:?}", choices(allowed)))
     })
 }
 
@@ -90,19 +89,6 @@ fn choices(allowed: &[&str]) -> String {
         Some((last, rest)) => format!("{} or {last}", rest.join(", ")),
         None => String::new(),
     }
-}
-
-/// An Earth model argument: an `EarthModel` (or None for WGS 84).
-pub fn earth_model<'py>(obj: &Bound<'py, PyAny>) -> PyResult<Option<Bound<'py, PyEarthModel>>> {
-    if obj.is_none() {
-        return Ok(None);
-    }
-    obj.cast::<PyEarthModel>().map(|m| Some(m.clone())).map_err(|_| {
-        input_type_error(format!(
-            "`model` must be an EarthModel (rotaframe.WGS84, rotaframe.GRS80 or rotaframe.EarthModel(...)), got {}",
-            describe(obj)
-        ))
-    })
 }
 
 /// A count: a non-negative integer (Python or numpy), up to 2⁶⁴ − 1.

@@ -22,7 +22,7 @@ use numpy::{PyArrayDyn, PyArrayMethods, PyUntypedArrayMethods};
 use pyo3::prelude::*;
 use pyo3::types::PyTuple;
 
-use crate::errors::{ShapeError, input_type_error};
+use crate::plumbing::errors::{ShapeError, input_type_error};
 
 /// Batches smaller than this per thread run on the calling thread (splitting would cost more
 /// than it saves).
@@ -33,9 +33,9 @@ const MAX_THREADS: usize = 1024;
 
 /// The `threads` argument: a non-negative integer, 0 meaning one per core.
 pub fn threads(obj: &Bound<'_, PyAny>) -> PyResult<usize> {
-    let n = crate::args::count(obj, "threads")?;
+    let n = crate::plumbing::args::count(obj, "threads")?;
     if n as usize > MAX_THREADS {
-        return Err(crate::errors::OutOfRangeError::new_err(format!("`threads` = {n} is outside [0, {MAX_THREADS}]")));
+        return Err(crate::plumbing::errors::OutOfRangeError::new_err(format!("`threads` = {n} is outside [0, {MAX_THREADS}]")));
     }
     Ok(if n == 0 { std::thread::available_parallelism().map_or(1, std::num::NonZeroUsize::get) } else { n as usize })
 }
@@ -143,7 +143,7 @@ impl<'py, const M: usize> Outputs<'py, M> {
         } else {
             return Err(input_type_error(format!(
                 "`out` must be a tuple of {M} arrays (one per output), got {}",
-                crate::args::describe(out)
+                crate::plumbing::args::describe(out)
             )));
         };
         if items.len() != M {
@@ -155,7 +155,7 @@ impl<'py, const M: usize> Outputs<'py, M> {
             let Ok(a) = item.cast::<PyArrayDyn<f64>>() else {
                 let got = match item.getattr("dtype") {
                     Ok(dtype) if item.hasattr("shape").unwrap_or(false) => format!("an array of dtype {dtype}"),
-                    _ => crate::args::describe(item),
+                    _ => crate::plumbing::args::describe(item),
                 };
                 return Err(input_type_error(format!("{} must be a float64 numpy array, got {got}", name(j))));
             };
@@ -187,7 +187,7 @@ impl<'py, const M: usize> Outputs<'py, M> {
                             numpy::BorrowError::NotWriteable => "is read-only",
                             _ => "overlaps an input or another output (outputs must not share memory with inputs)",
                         };
-                        return Err(crate::errors::RotaframeError::new_err(format!("{} {why}", name(j))));
+                        return Err(crate::plumbing::errors::RotaframeError::new_err(format!("{} {why}", name(j))));
                     }
                 }
             }
@@ -203,7 +203,9 @@ impl<'py, const M: usize> Outputs<'py, M> {
         guards: &mut Vec<numpy::PyReadwriteArrayDyn<'py, f64>>,
     ) -> PyResult<[&mut [core::mem::MaybeUninit<[f64; K]>]; M]> {
         for a in &self.arrays {
-            guards.push(a.try_readwrite().map_err(|e| crate::errors::RotaframeError::new_err(format!("an output: {e}")))?);
+            guards.push(
+                a.try_readwrite().map_err(|e| crate::plumbing::errors::RotaframeError::new_err(format!("an output: {e}")))?,
+            );
         }
         Ok(core::array::from_fn(|j| {
             let a = &self.arrays[j];

@@ -13,8 +13,9 @@
 use numpy::{PyArrayDyn, PyArrayMethods, PyUntypedArrayMethods};
 use pyo3::prelude::*;
 use pyo3::types::{PyBool, PyFloat, PyInt, PyTuple};
+use rotaframe::nalgebra::DMatrix;
 
-use crate::errors::{ShapeError, input_type_error, to_py};
+use crate::plumbing::errors::{ShapeError, input_type_error, to_py};
 
 /// Largest core size (a 3×3 matrix).
 const MAX_CORE: usize = 9;
@@ -62,14 +63,17 @@ pub fn real_array<'py>(obj: &Bound<'py, PyAny>, name: &str) -> PyResult<Bound<'p
     let asarray =
         ASARRAY.get_or_try_init(py, || -> PyResult<Py<PyAny>> { Ok(py.import("numpy")?.getattr("asarray")?.unbind()) })?;
     let array = asarray.bind(py).call1((obj,)).map_err(|e| {
-        input_type_error(format!("`{name}` must be a number or an array of numbers, got {}: {e}", crate::args::describe(obj)))
+        input_type_error(format!(
+            "`{name}` must be a number or an array of numbers, got {}: {e}",
+            crate::plumbing::args::describe(obj)
+        ))
     })?;
-    match crate::args::numpy_kind(&array) {
+    match crate::plumbing::args::numpy_kind(&array) {
         Some('i' | 'u' | 'f') => {}
         _ => {
             return Err(input_type_error(format!(
                 "`{name}` must be a number or an array of real numbers, got {}",
-                crate::args::describe(&array)
+                crate::plumbing::args::describe(&array)
             )));
         }
     }
@@ -98,7 +102,7 @@ impl<'py> Operand<'py> {
             if !core_shape.is_empty() {
                 return Err(needs_core(name, core_shape, "a number"));
             }
-            let v = crate::args::number(obj, name)?;
+            let v = crate::plumbing::args::number(obj, name)?;
             return Ok(Self { name, core, leading: Vec::new(), storage: Storage::Scalar([v; MAX_CORE]) });
         }
         let array = real_array(obj, name)?;
@@ -199,7 +203,7 @@ impl<'py> Operand<'py> {
     }
 }
 
-/// The `out=` and `threads=` keywords of a batched call (see [`crate::batch`]).
+/// The `out=` and `threads=` keywords of a batched call (see [`crate::plumbing::batch`]).
 #[derive(Clone, Copy)]
 pub struct BatchArgs<'a, 'py> {
     /// The caller's output array(s), or None.
@@ -215,7 +219,7 @@ impl<'a, 'py> BatchArgs<'a, 'py> {
     /// `out` is refused for this mode of a function (`jacobian=True`, say).
     pub fn refuse_out(&self, why: &str) -> PyResult<()> {
         match self.out {
-            Some(o) if !o.is_none() => Err(crate::errors::RotaframeError::new_err(format!("`out` is not taken {why}"))),
+            Some(o) if !o.is_none() => Err(crate::plumbing::errors::RotaframeError::new_err(format!("`out` is not taken {why}"))),
             _ => Ok(()),
         }
     }
@@ -257,23 +261,23 @@ where
         let mut refs: Vec<&mut Operand<'py>> = ops.iter_mut().collect();
         Plan::for_operands(&mut refs, &[])?
     };
-    let outputs = crate::batch::Outputs::new(py, batch.out, &plan.shape, out_cores)?;
+    let outputs = crate::plumbing::batch::Outputs::new(py, batch.out, &plan.shape, out_cores)?;
     plan.out_given = outputs.given;
     let sizes: [usize; M] = core::array::from_fn(|j| out_cores[j].iter().product());
     {
         let accesses: [Access<'_>; N] = core::array::from_fn(|j| ops[j].access(&plan));
         let mut guards: Vec<numpy::PyReadwriteArrayDyn<'py, f64>> = outputs.arrays.iter().map(|o| o.readwrite()).collect();
-        let ranges = crate::batch::chunk_ranges(plan.n, batch.threads);
+        let ranges = crate::plumbing::batch::chunk_ranges(plan.n, batch.threads);
         // Per chunk, one piece of every output.
         let mut pieces: Vec<Vec<&mut [f64]>> = (0..ranges.len()).map(|_| Vec::with_capacity(M)).collect();
         for (g, &k) in guards.iter_mut().zip(&sizes) {
-            for (c, piece) in crate::batch::split(out_slice(g), &ranges, k).into_iter().enumerate() {
+            for (c, piece) in crate::plumbing::batch::split(out_slice(g), &ranges, k).into_iter().enumerate() {
                 pieces[c].push(piece);
             }
         }
         let work: Vec<(core::ops::Range<usize>, Vec<&mut [f64]>)> = ranges.into_iter().zip(pieces).collect();
         let results = py.detach(|| {
-            crate::batch::parallel(batch.threads, work, |(range, mut bufs)| {
+            crate::plumbing::batch::parallel(batch.threads, work, |(range, mut bufs)| {
                 let bufs: &mut [&mut [f64]; M] = (&mut bufs[..]).try_into().expect("M outputs");
                 for (local, i) in range.enumerate() {
                     let inputs: [&[f64]; N] = core::array::from_fn(|j| accesses[j].slice(i));
@@ -289,7 +293,7 @@ where
             })
         })?;
         drop(guards);
-        if let Err(f) = crate::batch::first_failure(results, |f: &Failure| f.index) {
+        if let Err(f) = crate::plumbing::batch::first_failure(results, |f: &Failure| f.index) {
             outputs.poison();
             let refs: Vec<&Operand<'py>> = ops.iter().collect();
             return Err(failure_to_py(&f, &plan, &refs));
@@ -460,4 +464,40 @@ where
 /// Mutable float64 slice of an output array created by [`Plan::output`] (always C-contiguous).
 pub fn out_slice<'a>(array: &'a mut numpy::PyReadwriteArrayDyn<'_, f64>) -> &'a mut [f64] {
     array.as_slice_mut().expect("outputs are created C-contiguous")
+}
+
+/// One scalar or 3-vector argument without batch axes.
+pub fn single(obj: &Bound<'_, PyAny>, name: &'static str, core: &[usize]) -> PyResult<Vec<f64>> {
+    let mut op = Operand::extract(obj, name, core)?;
+    let plan = Plan::for_operands(&mut [&mut op], &[])?;
+    if !plan.shape.is_empty() {
+        return Err(ShapeError::new_err(format!("`{name}` must have shape {core:?} here, got batch shape {:?}", plan.shape)));
+    }
+    Ok(op.access(&plan).slice(0).to_vec())
+}
+
+/// A square row-major matrix argument `(n, n)` (or `(n, m)` with `columns`).
+pub fn matrix_arg(
+    obj: &Bound<'_, PyAny>,
+    name: &'static str,
+    rows: Option<usize>,
+    columns: Option<usize>,
+) -> PyResult<DMatrix<f64>> {
+    let array = real_array(obj, name)?;
+    let shape = array.shape().to_vec();
+    let ok = shape.len() == 2 && rows.is_none_or(|r| shape[0] == r) && columns.is_none_or(|c| shape[1] == c);
+    if !ok {
+        let want = match (rows, columns) {
+            (Some(r), Some(c)) => format!("({r}, {c})"),
+            (Some(r), None) => format!("({r}, m)"),
+            _ => "a 2-D array".to_string(),
+        };
+        return Err(ShapeError::new_err(format!("`{name}` must have shape {want}, got {shape:?}")));
+    }
+    let values: Vec<f64> = array.readonly().as_array().iter().copied().collect();
+    let m = DMatrix::from_row_slice(shape[0], shape[1], &values);
+    if !m.iter().all(|x| x.is_finite()) {
+        return Err(crate::plumbing::errors::to_py(&rotaframe::Error::NonFinite { quantity: name }, ""));
+    }
+    Ok(m)
 }

@@ -139,3 +139,32 @@ pub fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add("InputTypeError", input_type_error_class(py)?.clone_ref(py))?;
     Ok(())
 }
+
+/// Renames the core's quantity names to the Python argument names (`lat`, `lon`, `h`, `xyz`, `v_ned`, `a_ned`).
+pub fn python_name(error: rotaframe::Error) -> rotaframe::Error {
+    let to = match error.quantity() {
+        "latitude" => "lat",
+        "longitude" => "lon",
+        "height" => "h",
+        "ecef" | "position_ecef" => "xyz",
+        "velocity_ned" => "v_ned",
+        "acceleration_ned" => "a_ned",
+        _ => return error,
+    };
+    error.with_quantity(to)
+}
+
+/// A core error for Python: argument names, and for `degrees=True` calls the rejected latitude
+/// shown in degrees (`lat` is the caller's input value, before conversion).
+pub fn python_error(error: rotaframe::Error, degrees: bool, lat: f64) -> rotaframe::Error {
+    use rotaframe::Error;
+    let error = python_name(error);
+    if !degrees || error.quantity() != "lat" {
+        return error;
+    }
+    match error {
+        Error::OutOfRange { quantity, .. } => Error::OutOfRange { quantity, value: lat, min: -90.0, max: 90.0 },
+        Error::NearPole { quantity, limit, .. } => Error::NearPole { quantity, value: lat, limit: limit.to_degrees() },
+        other => other,
+    }
+}
