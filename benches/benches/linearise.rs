@@ -113,7 +113,7 @@ fn linearise(c: &mut Criterion) {
     let mut kept = vec![0.0; kept_count(incs.len(), 100) * 225];
     group.bench_function("covariance_step_15_checked", |b| {
         b.iter(|| {
-            predict_covariance_kept::<15>(&initial, black_box(&incs), None, &model, &p0, 100, None, &mut kept).unwrap();
+            predict_covariance_kept::<15>(&initial, black_box(&incs), None, &model, &p0, 100, true, None, &mut kept).unwrap();
             black_box(kept[0])
         })
     });

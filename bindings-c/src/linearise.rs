@@ -502,6 +502,7 @@ pub unsafe extern "C" fn rf_predict_covariance(
                     &model,
                     &square::<$n>(p0),
                     every,
+                    true,
                     None,
                     outputs,
                 )

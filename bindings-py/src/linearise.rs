@@ -133,8 +133,8 @@ pub fn predict_covariance<'py>(
         let (mut tw, mut pw) = (t.readwrite(), p.readwrite());
         let (to, po) = (out_slice(&mut tw), out_slice(&mut pw));
         let every = usize::try_from(every).unwrap_or(usize::MAX);
-        // The core checks `every` and `P0`, runs a first pass and then writes; the covariances
-        // are symmetric, so column-major storage is also row-major.
+        // The core checks `every` and `P0`; no first pass (the arrays are new and dropped on
+        // error). The covariances are symmetric, so column-major storage is also row-major.
         let end = py
             .detach(|| {
                 macro_rules! sized {
@@ -147,6 +147,7 @@ pub fn predict_covariance<'py>(
                             &model,
                             &p0,
                             every,
+                            false,
                             Some(to),
                             po,
                         )
