@@ -345,9 +345,30 @@ fn malformed_files_unknown_keys_and_wrong_types_give_their_line() {
             "root = \"lab\"\n[[frame]]\nname = \"a\"\nparent = \"lba\"\nkind = \"fixed\"\n",
             "line 2: frame \"a\" names an unknown parent: no frame named \"lba\" (did you mean \"lab\"?)",
         ),
+        (
+            // An unknown parent at the top of a chain listed child first: named as unknown,
+            // not as a loop among frames with empty names.
+            "root = \"lab\"\n[[frame]]\nname = \"b\"\nparent = \"a\"\nkind = \"fixed\"\n[[frame]]\nname = \"a\"\nparent = \"nowhere\"\nkind = \"fixed\"\n",
+            "line 6: frame \"a\" names an unknown parent: no frame named \"nowhere\"",
+        ),
     ];
     for (text, expected) in cases {
         let e = FrameGraph::from_toml(text).unwrap_err().to_string();
         assert!(e.contains(expected), "{e:?} should contain {expected:?}");
     }
+}
+
+#[test]
+fn frames_listed_before_their_parents_get_the_ids_of_repeated_passes_over_the_file() {
+    // A pass over the file adds each frame whose parent is already in the graph (in file
+    // order): here pass 1 adds a and c (c after its parent a), pass 2 adds b (listed before its
+    // parent c) and d (after b), pass 3 adds e (listed before its parent d).
+    let text = "root = \"lab\"\n\
+        [[frame]]\nname = \"e\"\nparent = \"d\"\nkind = \"fixed\"\n\
+        [[frame]]\nname = \"b\"\nparent = \"c\"\nkind = \"fixed\"\n\
+        [[frame]]\nname = \"a\"\nparent = \"lab\"\nkind = \"fixed\"\n\
+        [[frame]]\nname = \"d\"\nparent = \"b\"\nkind = \"fixed\"\n\
+        [[frame]]\nname = \"c\"\nparent = \"a\"\nkind = \"fixed\"\n";
+    let g = FrameGraph::from_toml(text).unwrap();
+    assert_eq!(g.frames().collect::<Vec<_>>(), ["lab", "a", "c", "b", "d", "e"]);
 }

@@ -58,6 +58,8 @@ use alloc::vec::Vec;
 use nalgebra::{Quaternion, UnitQuaternion, Vector3};
 use serde::{Deserialize, Serialize};
 
+use alloc::collections::BTreeMap;
+
 use super::error::GraphError;
 use super::tree::{Declared, Edge, FrameGraph};
 use super::{EarthRotation, Fixed, LocalAxes, Site, Spin, StaticEdge};
@@ -387,8 +389,8 @@ impl FrameGraph {
             message,
         };
         // Check each table on its own first.
-        let mut names: Vec<&str> = alloc::vec![doc.root.as_str()];
-        for frame in &doc.frames {
+        let mut index: BTreeMap<&str, usize> = BTreeMap::new();
+        for (k, frame) in doc.frames.iter().enumerate() {
             let (span, f) = (frame.span(), frame.get_ref());
             let keys = allowed_keys(&f.kind).ok_or_else(|| {
                 config(
@@ -407,56 +409,75 @@ impl FrameGraph {
                     alloc::format!("frame {:?}: key `{key}` does not apply to a {} frame (keys: {listed})", f.name, f.kind),
                 ));
             }
-            if names.contains(&f.name.as_str()) {
+            if f.name == doc.root || index.insert(f.name.as_str(), k).is_some() {
                 return Err(config(&span, alloc::format!("a frame named {:?} is already in the file", f.name)));
             }
-            names.push(&f.name);
         }
-        // Then add them parents first, in as many passes as the file's order needs.
-        let mut pending: Vec<&toml::Spanned<FrameDoc>> = doc.frames.iter().collect();
-        while !pending.is_empty() {
-            let before = pending.len();
-            let mut rest = Vec::new();
-            for frame in pending {
-                let (span, f) = (frame.span(), frame.get_ref());
-                if graph.id(&f.parent).is_err() {
-                    rest.push(frame);
-                    continue;
-                }
-                let added = match f.edge().map_err(|m| config(&span, alloc::format!("frame {:?}: {m}", f.name)))? {
-                    Some(edge) => graph.add_static(&f.name, &f.parent, edge),
-                    None => graph.declare(
-                        &f.name,
-                        &f.parent,
-                        if f.kind == "samples" { Declared::Samples } else { Declared::Function },
-                    ),
-                };
-                added.map_err(|e| config(&span, e.to_string()))?;
+        // Every parent must be the root or a frame of the file.
+        let parent_of = |f: &FrameDoc| -> Option<Option<usize>> {
+            if f.parent == doc.root { Some(None) } else { index.get(f.parent.as_str()).map(|&p| Some(p)) }
+        };
+        for frame in &doc.frames {
+            let f = frame.get_ref();
+            if parent_of(f).is_none() {
+                // The names a parent could be: every other frame's.
+                let names = core::iter::once(doc.root.as_str())
+                    .chain(doc.frames.iter().map(|g| g.get_ref().name.as_str()).filter(|n| *n != f.name));
+                let e = super::tree::unknown_frame(&f.parent, names);
+                return Err(config(&frame.span(), alloc::format!("frame {:?} names an unknown parent: {e}", f.name)));
             }
-            if rest.len() == before {
-                let first = rest[0];
-                let f = first.get_ref();
-                if !names.contains(&f.parent.as_str()) {
-                    let e = graph.id(&f.parent).unwrap_err();
-                    return Err(config(&first.span(), alloc::format!("frame {:?} names an unknown parent: {e}", f.name)));
-                }
-                // Every remaining parent is itself waiting: follow the links to the loop.
-                let mut chain = alloc::vec![f.name.clone()];
-                let mut current = f.parent.clone();
-                while !chain.contains(&current) {
-                    chain.push(current.clone());
-                    current = rest
-                        .iter()
-                        .find(|r| r.get_ref().name == current)
-                        .map_or_else(String::new, |r| r.get_ref().parent.clone());
-                }
-                let start = chain.iter().position(|n| *n == current).unwrap_or(0);
-                let mut frames: Vec<String> = chain[start..].to_vec();
-                frames.push(current);
-                let message = GraphError::Cycle { frames }.to_string();
-                return Err(config(&first.span(), message));
+        }
+        // Frames are added parents first, in the order of passes over the file: a pass adds,
+        // in file order, each frame whose parent is already in the graph, so a frame listed
+        // after its parent goes in the parent's pass and one listed before it in the next.
+        // The pass of every frame follows from its parent's, reached from the root (a frame
+        // never reached hangs below a loop of parents).
+        let n = doc.frames.len();
+        let mut children: Vec<Vec<usize>> = alloc::vec![Vec::new(); n];
+        let mut roots = Vec::new();
+        for (k, frame) in doc.frames.iter().enumerate() {
+            match parent_of(frame.get_ref()).flatten() {
+                None => roots.push(k),
+                Some(p) => children[p].push(k),
             }
-            pending = rest;
+        }
+        let mut pass = alloc::vec![usize::MAX; n];
+        let mut stack: Vec<usize> = roots.iter().rev().copied().collect();
+        for &k in &roots {
+            pass[k] = 0;
+        }
+        while let Some(p) = stack.pop() {
+            for &c in &children[p] {
+                pass[c] = pass[p] + usize::from(c < p);
+                stack.push(c);
+            }
+        }
+        if let Some(first) = (0..n).find(|&k| pass[k] == usize::MAX) {
+            // Follow the parent links from the first frame never reached to the loop.
+            let mut chain: Vec<usize> = alloc::vec![first];
+            let mut current = parent_of(doc.frames[first].get_ref()).flatten();
+            while let Some(c) = current.filter(|c| !chain.contains(c)) {
+                chain.push(c);
+                current = parent_of(doc.frames[c].get_ref()).flatten();
+            }
+            let start = current.and_then(|c| chain.iter().position(|&k| k == c)).unwrap_or(0);
+            let mut frames: Vec<String> = chain[start..].iter().map(|&k| doc.frames[k].get_ref().name.clone()).collect();
+            frames.push(frames[0].clone());
+            let message = GraphError::Cycle { frames }.to_string();
+            return Err(config(&doc.frames[first].span(), message));
+        }
+        let mut order: Vec<usize> = (0..n).collect();
+        order.sort_by_key(|&k| (pass[k], k));
+        for k in order {
+            let frame = &doc.frames[k];
+            let (span, f) = (frame.span(), frame.get_ref());
+            let added = match f.edge().map_err(|m| config(&span, alloc::format!("frame {:?}: {m}", f.name)))? {
+                Some(edge) => graph.add_static(&f.name, &f.parent, edge),
+                None => {
+                    graph.declare(&f.name, &f.parent, if f.kind == "samples" { Declared::Samples } else { Declared::Function })
+                }
+            };
+            added.map_err(|e| config(&span, e.to_string()))?;
         }
         Ok(graph)
     }

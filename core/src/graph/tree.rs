@@ -1,6 +1,7 @@
 //! The named, owned frame graph (feature `alloc`).
 
 use alloc::boxed::Box;
+use alloc::collections::BTreeMap;
 use alloc::string::{String, ToString};
 use alloc::vec::Vec;
 use core::fmt;
@@ -91,6 +92,8 @@ struct Entry {
 pub struct FrameGraph {
     inertial: bool,
     frames: Vec<Entry>,
+    /// Frame ids by name, so that a lookup or an addition costs `O(log n)`, not a scan.
+    ids: BTreeMap<String, FrameId>,
 }
 
 impl FrameTree for FrameGraph {
@@ -100,6 +103,23 @@ impl FrameTree for FrameGraph {
     fn parent_of(&self, frame: FrameId) -> Option<FrameId> {
         self.frames[frame].parent
     }
+}
+
+/// The error for a name not among `names`, with the nearest of them (by edit distance, or
+/// holding the name given) for "did you mean".
+pub(super) fn unknown_frame<'a>(name: &str, names: impl Iterator<Item = &'a str>) -> GraphError {
+    let mut scored: Vec<(usize, &str)> = names.map(|n| (edit_distance(name, n), n)).collect();
+    scored.sort_by_key(|&(d, n)| (d, n.len()));
+    // Close by edit distance, or holding the name given (`imu` for `imu_front`).
+    let threshold = (name.chars().count() / 3).max(2);
+    let lower = name.to_lowercase();
+    let nearest = scored
+        .iter()
+        .filter(|(d, n)| *d <= threshold || (!lower.is_empty() && n.to_lowercase().contains(&lower)))
+        .take(3)
+        .map(|(_, n)| (*n).to_string())
+        .collect();
+    GraphError::UnknownFrame { name: name.to_string(), nearest }
 }
 
 /// Edit distance between two names (Levenshtein, by characters).
@@ -127,7 +147,8 @@ impl FrameGraph {
     /// ```
     #[must_use]
     pub fn new(root: &str, inertial: bool) -> Self {
-        Self { inertial, frames: alloc::vec![Entry { name: root.to_string(), parent: None, edge: Edge::Root }] }
+        let frames = alloc::vec![Entry { name: root.to_string(), parent: None, edge: Edge::Root }];
+        Self { inertial, frames, ids: BTreeMap::from([(root.to_string(), 0)]) }
     }
 
     /// Whether the root is declared inertial.
@@ -158,22 +179,10 @@ impl FrameGraph {
     /// # Errors
     /// [`GraphError::UnknownFrame`], with the nearest names.
     pub fn id(&self, name: &str) -> GraphResult<FrameId> {
-        if let Some(i) = self.frames.iter().position(|e| e.name == name) {
-            return Ok(i);
+        match self.ids.get(name) {
+            Some(&i) => Ok(i),
+            None => Err(unknown_frame(name, self.frames.iter().map(|e| e.name.as_str()))),
         }
-        let mut scored: Vec<(usize, &str)> =
-            self.frames.iter().map(|e| (edit_distance(name, &e.name), e.name.as_str())).collect();
-        scored.sort_by_key(|&(d, n)| (d, n.len()));
-        // Close by edit distance, or holding the name given (`imu` for `imu_front`).
-        let threshold = (name.chars().count() / 3).max(2);
-        let lower = name.to_lowercase();
-        let nearest = scored
-            .iter()
-            .filter(|(d, n)| *d <= threshold || (!lower.is_empty() && n.to_lowercase().contains(&lower)))
-            .take(3)
-            .map(|(_, n)| (*n).to_string())
-            .collect();
-        Err(GraphError::UnknownFrame { name: name.to_string(), nearest })
     }
 
     /// The name of frame `id` (panics for an index not from this graph).
@@ -241,7 +250,7 @@ impl FrameGraph {
         if name.is_empty() || name.chars().any(char::is_control) {
             return Err(GraphError::BadName { name: name.to_string() });
         }
-        if self.frames.iter().any(|e| e.name == name) {
+        if self.ids.contains_key(name) {
             return Err(GraphError::DuplicateName { name: name.to_string() });
         }
         Ok(())
@@ -251,7 +260,7 @@ impl FrameGraph {
     /// attaches) frame `name` under `parent` with `edge`.
     fn insert(&mut self, name: &str, parent: &str, edge: Edge) -> GraphResult<FrameId> {
         let parent_id = self.id(parent)?;
-        if let Some(i) = self.frames.iter().position(|e| e.name == name) {
+        if let Some(&i) = self.ids.get(name) {
             let entry = &self.frames[i];
             let attachable = matches!(
                 (&entry.edge, &edge),
@@ -275,6 +284,7 @@ impl FrameGraph {
             self.frames.pop();
             return Err(self.named(fault, None));
         }
+        self.ids.insert(name.to_string(), id);
         Ok(id)
     }
 
