@@ -11,7 +11,7 @@ returns the ``matplotlib.figure.Figure``; nothing is shown or saved unless you d
 * :func:`drift_plot`: an INS's horizontal and vertical position error (m) and velocity error
   (m/s) against time, optionally with 1σ bands from ``predict_covariance``, and the Schuler
   period ``2π √(R / g)`` marked (R the Gaussian mean radius of curvature and g normal
-  gravity at the latitude given; 84.4 min near mid-latitudes, Titterton and Weston ch. 12).
+  gravity at the latitude given; 84.5 min at 45°, Titterton and Weston ch. 12).
 """
 
 from __future__ import annotations
@@ -40,11 +40,37 @@ def _axes(ax: Any, rows: int = 1) -> tuple[Any, Sequence[Any]]:
     if ax is not None:
         axes = list(ax) if isinstance(ax, (list, tuple, np.ndarray)) else [ax]
         if len(axes) != rows:
-            raise ValueError(f"`ax` must hold {rows} axes, got {len(axes)}")
+            raise _native.ShapeError(f"`ax` must hold {rows} axes, got {len(axes)}")
         return axes[0].figure, axes
     plt = _pyplot()
     fig, axes = plt.subplots(rows, 1, sharex=True, figsize=(8, 3 + 2 * rows), squeeze=False)
     return fig, list(axes[:, 0])
+
+
+def _times(t: Any) -> Any:
+    """``t`` as a finite, non-decreasing 1-D float array of at least one value."""
+    try:
+        times = np.asarray(t, dtype=float)
+    except (TypeError, ValueError) as error:
+        raise _native.InputTypeError(f"`t` must be an array of numbers (s), got {type(t).__name__}") from error
+    if times.ndim != 1 or times.size == 0:
+        raise _native.ShapeError(f"`t` must have shape (N,) with N ≥ 1, got {times.shape}")
+    if not np.all(np.isfinite(times)):
+        raise _native.NonFiniteError("`t` must be finite")
+    if np.any(np.diff(times) < 0):
+        raise _native.RotaframeError("`t` must not decrease")
+    return times
+
+
+def _rows(value: Any, name: str, n: int) -> Any:
+    """``value`` as an (n, 3) float array named ``name`` in errors."""
+    try:
+        rows = np.asarray(value, dtype=float)
+    except (TypeError, ValueError) as error:
+        raise _native.InputTypeError(f"`{name}` must be an array of numbers, got {type(value).__name__}") from error
+    if rows.shape != (n, 3):
+        raise _native.ShapeError(f"`{name}` must have shape {(n, 3)} (one row per time in `t`), got {rows.shape}")
+    return rows
 
 
 def schuler_period(lat: float, *, h: float = 0.0, degrees: bool = False, model: Optional[Any] = None) -> float:
@@ -61,15 +87,18 @@ def budget_plot(t: Any, terms: Any, *, ax: Any = None, title: Optional[str] = No
     the translational, Coriolis, centrifugal and Euler terms stacked (one filled band each, in
     that order) and the magnitude of their vector sum as a line, so that a term that cancels
     another shows as a total below the stack. ``time_unit`` is "s", "min" or "h"."""
-    scale = {"s": 1.0, "min": 60.0, "h": 3600.0}[time_unit]
-    t = np.asarray(t, dtype=float) / scale
-    magnitudes = [np.linalg.norm(np.asarray(getattr(terms, name), dtype=float), axis=-1) for name in TERM_NAMES]
-    if any(m.shape != t.shape for m in magnitudes):
-        raise ValueError(f"`terms` must hold one (3,) vector per time in `t` {t.shape}")
+    scales = {"s": 1.0, "min": 60.0, "h": 3600.0}
+    if time_unit not in scales:
+        raise _native.RotaframeError(f"`time_unit` must be one of 's', 'min' or 'h', got {time_unit!r}")
+    t = _times(t) / scales[time_unit]
+    missing = [name for name in TERM_NAMES + ("total",) if not hasattr(terms, name)]
+    if missing:
+        raise _native.InputTypeError(f"`terms` must be an ApparentAcceleration (it has no {', '.join(missing)}), got {type(terms).__name__}")
+    magnitudes = [np.linalg.norm(_rows(getattr(terms, name), f"terms.{name}", t.size), axis=-1) for name in TERM_NAMES]
     fig, (axis,) = _axes(ax)
     labels = ["translational", "Coriolis", "centrifugal", "Euler"]
     axis.stackplot(t, *magnitudes, labels=labels, alpha=0.8)
-    total = np.linalg.norm(np.asarray(terms.total, dtype=float), axis=-1)
+    total = np.linalg.norm(_rows(terms.total, "terms.total", t.size), axis=-1)
     axis.plot(t, total, color="black", linewidth=1.2, label="|total|")
     axis.set_xlabel(f"time ({time_unit})")
     axis.set_ylabel("apparent acceleration magnitude (m/s²)")
@@ -98,30 +127,29 @@ def drift_plot(
     ``velocity_sigma`` (N, 3) 1σ values (from ``predict_covariance``) draw the horizontal
     ``√(σ_N² + σ_E²)`` as a dashed line. With ``lat`` the Schuler period at that latitude is
     marked by dotted vertical lines at each multiple within the run. Time is shown in minutes."""
-    minutes = np.asarray(t, dtype=float) / 60.0
+    minutes = _times(t) / 60.0
+    n = minutes.size
+    arrays = [
+        (_rows(position_error, "position_error", n), None if position_sigma is None else _rows(position_sigma, "position_sigma", n)),
+        (_rows(velocity_error, "velocity_error", n), None if velocity_sigma is None else _rows(velocity_sigma, "velocity_sigma", n)),
+    ]
+    period = None if lat is None else schuler_period(lat, degrees=degrees) / 60.0
     fig, (top, bottom) = _axes(ax, rows=2)
-    for axis, error, sigma, unit, what in (
-        (top, position_error, position_sigma, "m", "position"),
-        (bottom, velocity_error, velocity_sigma, "m/s", "velocity"),
-    ):
-        error = np.asarray(error, dtype=float)
-        if error.shape != minutes.shape + (3,):
-            raise ValueError(f"`{what}_error` must have shape {minutes.shape + (3,)}, got {error.shape}")
+    for axis, (error, sigma), unit, what in ((top, arrays[0], "m", "position"), (bottom, arrays[1], "m/s", "velocity")):
         axis.plot(minutes, np.hypot(error[:, 0], error[:, 1]), label=f"horizontal {what} error")
         axis.plot(minutes, np.abs(error[:, 2]), label=f"vertical {what} error")
         if sigma is not None:
-            sigma = np.asarray(sigma, dtype=float)
             axis.plot(minutes, np.hypot(sigma[:, 0], sigma[:, 1]), linestyle="--", color="grey", label="horizontal 1σ (predicted)")
         axis.set_ylabel(f"{what} error ({unit})")
         axis.set_ylim(bottom=0.0)
         axis.legend(loc="upper left", fontsize="small")
-    if lat is not None:
-        period = schuler_period(lat, degrees=degrees) / 60.0
-        k = 1
-        while k * period <= minutes[-1]:
+    if period is not None:
+        # One line per whole period within the run: at most one per data point (a run far
+        # longer than its samples would otherwise draw millions of lines).
+        count = min(int(minutes[-1] // period), n)
+        for k in range(1, count + 1):
             for axis in (top, bottom):
                 axis.axvline(k * period, color="black", linestyle=":", linewidth=1.0)
-            k += 1
         top.text(0.99, 0.97, f"Schuler period {period:.1f} min (dotted)", transform=top.transAxes, ha="right", va="top", fontsize="small")
     bottom.set_xlabel("time (min)")
     bottom.set_xlim(minutes[0], minutes[-1])

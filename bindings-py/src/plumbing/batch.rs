@@ -11,8 +11,9 @@
 //!
 //! `threads` is the number of threads (default 1; 0 means one per core). The batch is split
 //! into contiguous chunks of elements, each computed exactly as in the one-thread loop, so the
-//! results are the same bits whatever the count. Work runs on a rayon pool per thread count,
-//! made on first use and kept; the GIL is released throughout. The default of one thread never
+//! results are the same bits whatever the count. Work runs on the process's one rayon pool,
+//! made on first use, sized to the largest request so far and at most one thread per core,
+//! with at most `threads` workers per call; the GIL is released throughout. The default of one thread never
 //! oversubscribes a process that is one of many workers (a Dask worker, say).
 
 use std::ops::Range;
@@ -24,12 +25,63 @@ use pyo3::types::PyTuple;
 
 use crate::plumbing::errors::{ShapeError, input_type_error};
 
+/// Whether a float64 array's data and strides are all multiples of 8 bytes: Rust reads only
+/// aligned `f64`, while numpy allows views at any byte offset (`np.frombuffer(b, offset=1)`).
+pub fn is_aligned(array: &Bound<'_, PyArrayDyn<f64>>) -> bool {
+    let size = core::mem::size_of::<f64>();
+    (array.data() as usize).is_multiple_of(size) && array.strides().iter().all(|&s| s.unsigned_abs().is_multiple_of(size))
+}
+
+/// The byte range `[start, end)` of a C-contiguous array's data.
+fn byte_range(array: &Bound<'_, PyArrayDyn<f64>>) -> (usize, usize) {
+    let start = array.data() as usize;
+    (start, start + array.len() * core::mem::size_of::<f64>())
+}
+
+std::thread_local! {
+    /// The byte ranges of the inputs being read in place on this thread (the GIL's thread,
+    /// where operands are extracted and outputs checked).
+    static READ_IN_PLACE: std::cell::RefCell<Vec<(usize, usize)>> = const { std::cell::RefCell::new(Vec::new()) };
+}
+
+/// An input's bytes, registered as read in place while this value lives, so that an `out=`
+/// array over any of them is refused whichever Python object holds it (two buffer objects
+/// over one memory block are invisible to rust-numpy's borrow tracking, which compares bases).
+#[derive(Debug)]
+pub struct ReadInPlace((usize, usize));
+
+impl ReadInPlace {
+    /// Registers the data of a C-contiguous array.
+    pub fn register(array: &Bound<'_, PyArrayDyn<f64>>) -> Self {
+        let range = byte_range(array);
+        READ_IN_PLACE.with(|r| r.borrow_mut().push(range));
+        Self(range)
+    }
+}
+
+impl Drop for ReadInPlace {
+    fn drop(&mut self) {
+        READ_IN_PLACE.with(|r| {
+            let mut r = r.borrow_mut();
+            if let Some(k) = r.iter().rposition(|&x| x == self.0) {
+                r.swap_remove(k);
+            }
+        });
+    }
+}
+
+/// Whether two byte ranges share a byte (empty ranges share none).
+fn intersect(a: (usize, usize), b: (usize, usize)) -> bool {
+    a.0 < a.1 && b.0 < b.1 && a.0 < b.1 && b.0 < a.1
+}
+
 /// Batches smaller than this per thread run on the calling thread (splitting would cost more
 /// than it saves).
 const MIN_CHUNK: usize = 4096;
 
-/// The most threads a call may ask for.
-const MAX_THREADS: usize = 1024;
+/// The most threads a call may ask for (more is refused: no machine this library targets has
+/// that many cores, and a typo such as `threads=10000` should not start thousands of threads).
+pub const MAX_THREADS: usize = 256;
 
 /// The `threads` argument: a non-negative integer, 0 meaning one per core.
 pub fn threads(obj: &Bound<'_, PyAny>) -> PyResult<usize> {
@@ -37,23 +89,34 @@ pub fn threads(obj: &Bound<'_, PyAny>) -> PyResult<usize> {
     if n as usize > MAX_THREADS {
         return Err(crate::plumbing::errors::OutOfRangeError::new_err(format!("`threads` = {n} is outside [0, {MAX_THREADS}]")));
     }
-    Ok(if n == 0 { std::thread::available_parallelism().map_or(1, std::num::NonZeroUsize::get) } else { n as usize })
+    Ok(if n == 0 { cores() } else { n as usize })
 }
 
-static POOLS: Mutex<Vec<(usize, Arc<rayon::ThreadPool>)>> = Mutex::new(Vec::new());
+/// The number of cores this process may use.
+fn cores() -> usize {
+    std::thread::available_parallelism().map_or(1, std::num::NonZeroUsize::get)
+}
+
+/// The process's one worker pool, sized to the largest request so far up to the core count:
+/// a larger request replaces it (the old pool's threads end when its last user finishes), so
+/// at most one pool lives between calls, and never more threads than cores.
+static POOL: Mutex<Option<Arc<rayon::ThreadPool>>> = Mutex::new(None);
 
 fn pool(threads: usize) -> PyResult<Arc<rayon::ThreadPool>> {
-    let mut pools = POOLS.lock().unwrap_or_else(std::sync::PoisonError::into_inner);
-    if let Some((_, p)) = pools.iter().find(|(n, _)| *n == threads) {
+    let wanted = threads.min(cores()).max(1);
+    let mut pool = POOL.lock().unwrap_or_else(std::sync::PoisonError::into_inner);
+    if let Some(p) = pool.as_ref()
+        && p.current_num_threads() >= wanted
+    {
         return Ok(Arc::clone(p));
     }
     let p = rayon::ThreadPoolBuilder::new()
-        .num_threads(threads)
+        .num_threads(wanted)
         .thread_name(|i| format!("rotaframe-{i}"))
         .build()
-        .map_err(|e| pyo3::exceptions::PyRuntimeError::new_err(format!("could not start {threads} threads: {e}")))?;
+        .map_err(|e| pyo3::exceptions::PyRuntimeError::new_err(format!("could not start {wanted} threads: {e}")))?;
     let p = Arc::new(p);
-    pools.push((threads, Arc::clone(&p)));
+    *pool = Some(Arc::clone(&p));
     Ok(p)
 }
 
@@ -85,9 +148,33 @@ pub fn parallel<T: Send, R: Send>(threads: usize, items: Vec<T>, work: impl Fn(T
     if threads <= 1 || items.len() <= 1 {
         return Ok(items.into_iter().map(work).collect());
     }
-    use rayon::prelude::*;
+    // `threads` workers at most (fewer on fewer cores), each taking the next item: the pool
+    // may be larger than this call asked for, and the call must not use more.
     let p = pool(threads)?;
-    Ok(p.install(|| items.into_par_iter().map(&work).collect()))
+    let workers = threads.min(p.current_num_threads()).min(items.len());
+    let slots: Vec<Mutex<Option<T>>> = items.into_iter().map(|t| Mutex::new(Some(t))).collect();
+    let results: Vec<Mutex<Option<R>>> = slots.iter().map(|_| Mutex::new(None)).collect();
+    let next = std::sync::atomic::AtomicUsize::new(0);
+    let take = |m: &Mutex<Option<T>>| m.lock().unwrap_or_else(std::sync::PoisonError::into_inner).take();
+    p.scope(|scope| {
+        for _ in 0..workers {
+            scope.spawn(|_| {
+                loop {
+                    let i = next.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+                    let Some(slot) = slots.get(i) else { break };
+                    if let Some(item) = take(slot) {
+                        let r = work(item);
+                        *results[i].lock().unwrap_or_else(std::sync::PoisonError::into_inner) = Some(r);
+                    }
+                }
+            });
+        }
+    });
+    results
+        .into_iter()
+        .map(|m| m.into_inner().unwrap_or_else(std::sync::PoisonError::into_inner))
+        .collect::<Option<Vec<R>>>()
+        .ok_or_else(|| pyo3::exceptions::PyRuntimeError::new_err("a worker thread stopped before finishing its chunk"))
 }
 
 /// The first failure, by element index, of per-chunk results.
@@ -173,9 +260,28 @@ impl<'py, const M: usize> Outputs<'py, M> {
                     name(j)
                 )));
             }
+            if !is_aligned(a) {
+                return Err(crate::plumbing::errors::RotaframeError::new_err(format!(
+                    "{} must be aligned (its data at an address that is a multiple of 8 bytes); a view at a byte offset cannot be written in place",
+                    name(j)
+                )));
+            }
             arrays.push(a.clone());
         }
-        // Overlap and writeability: borrow all outputs at once (the inputs are borrowed), and
+        // Overlap by address: with every input read in place, and with each other.
+        for (j, a) in arrays.iter().enumerate() {
+            let range = byte_range(a);
+            let with_input = READ_IN_PLACE.with(|r| r.borrow().iter().any(|&x| intersect(x, range)));
+            let with_output = arrays[..j].iter().any(|b| intersect(byte_range(b), range));
+            if with_input || with_output {
+                return Err(crate::plumbing::errors::RotaframeError::new_err(format!(
+                    "{} overlaps {} (outputs must not share memory with inputs or with each other)",
+                    name(j),
+                    if with_input { "an input" } else { "another output" }
+                )));
+            }
+        }
+        // Same-buffer views and writeability: borrow all outputs at once (the inputs are borrowed), and
         // release them before the caller borrows them again.
         {
             let mut guards = Vec::with_capacity(M);

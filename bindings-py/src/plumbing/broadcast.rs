@@ -36,6 +36,8 @@ pub struct Operand<'py> {
     core: usize,
     leading: Vec<usize>,
     storage: Storage<'py>,
+    /// The bytes read in place, registered for the overlap check of `out=` while this lives.
+    _region: Option<crate::plumbing::batch::ReadInPlace>,
 }
 
 /// The `ShapeError` for a scalar given where a vector, quaternion or matrix is required.
@@ -58,7 +60,7 @@ pub fn real_array<'py>(obj: &Bound<'py, PyAny>, name: &str) -> PyResult<Bound<'p
         return Err(input_type_error(format!("`{name}` must be a number or an array of numbers, got None")));
     }
     if let Ok(a) = obj.cast::<PyArrayDyn<f64>>() {
-        return Ok(a.clone());
+        return aligned(a.clone());
     }
     let asarray =
         ASARRAY.get_or_try_init(py, || -> PyResult<Py<PyAny>> { Ok(py.import("numpy")?.getattr("asarray")?.unbind()) })?;
@@ -77,8 +79,17 @@ pub fn real_array<'py>(obj: &Bound<'py, PyAny>, name: &str) -> PyResult<Bound<'p
             )));
         }
     }
+    // `astype` gives native byte order (a byte-swapped array is not float64 to rust-numpy).
     let array = if array.cast::<PyArrayDyn<f64>>().is_ok() { array } else { array.call_method1("astype", ("float64",))? };
-    Ok(array.cast_into::<PyArrayDyn<f64>>()?)
+    aligned(array.cast_into::<PyArrayDyn<f64>>()?)
+}
+
+/// `array`, or an aligned copy of it when its data are not aligned (see [`is_aligned`]).
+fn aligned<'py>(array: Bound<'py, PyArrayDyn<f64>>) -> PyResult<Bound<'py, PyArrayDyn<f64>>> {
+    if crate::plumbing::batch::is_aligned(&array) {
+        return Ok(array);
+    }
+    Ok(array.call_method1("copy", ("C",))?.cast_into::<PyArrayDyn<f64>>()?)
 }
 
 fn shape_text(shape: &[usize]) -> String {
@@ -103,7 +114,7 @@ impl<'py> Operand<'py> {
                 return Err(needs_core(name, core_shape, "a number"));
             }
             let v = crate::plumbing::args::number(obj, name)?;
-            return Ok(Self { name, core, leading: Vec::new(), storage: Storage::Scalar([v; MAX_CORE]) });
+            return Ok(Self { name, core, leading: Vec::new(), storage: Storage::Scalar([v; MAX_CORE]), _region: None });
         }
         let array = real_array(obj, name)?;
         let shape = array.shape().to_vec();
@@ -112,7 +123,7 @@ impl<'py> Operand<'py> {
                 return Err(needs_core(name, core_shape, "a 0-d array"));
             }
             let v = array.readonly().as_array().first().copied().unwrap_or(f64::NAN);
-            return Ok(Self { name, core, leading: Vec::new(), storage: Storage::Scalar([v; MAX_CORE]) });
+            return Ok(Self { name, core, leading: Vec::new(), storage: Storage::Scalar([v; MAX_CORE]), _region: None });
         }
         let k = core_shape.len();
         if shape.len() < k || shape[shape.len() - k..] != *core_shape {
@@ -123,12 +134,12 @@ impl<'py> Operand<'py> {
             )));
         }
         let leading = shape[..shape.len() - k].to_vec();
-        let storage = if array.is_c_contiguous() {
-            Storage::Array(array.readonly())
+        let (storage, region) = if array.is_c_contiguous() {
+            (Storage::Array(array.readonly()), Some(crate::plumbing::batch::ReadInPlace::register(&array)))
         } else {
-            Storage::Owned(array.readonly().as_array().iter().copied().collect())
+            (Storage::Owned(array.readonly().as_array().iter().copied().collect()), None)
         };
-        Ok(Self { name, core, leading, storage })
+        Ok(Self { name, core, leading, storage, _region: region })
     }
 
     /// [`extract`](Self::extract) for an optional argument: `None` (omitted) is zero in every
@@ -141,6 +152,7 @@ impl<'py> Operand<'py> {
                 core: core_shape.iter().product(),
                 leading: Vec::new(),
                 storage: Storage::Scalar([0.0; MAX_CORE]),
+                _region: None,
             }),
         }
     }
@@ -163,6 +175,7 @@ impl<'py> Operand<'py> {
             owned.extend_from_slice(&source[j * self.core..(j + 1) * self.core]);
         }
         self.storage = Storage::Owned(owned);
+        self._region = None;
         self.leading = plan.shape.clone();
     }
 
