@@ -65,6 +65,11 @@ pub const MIN_INTERVAL: f64 = 1.0e-9;
 /// modulo 2π has lost more than 1e-10 rad to rounding.
 pub const MAX_ROTATION_ANGLE: f64 = 1.0e6;
 
+/// Largest supported magnitude of an entry of an initial error covariance (in the squared
+/// units of its states): a variance of 1e100 m² is already meaningless, and `Φ P Φᵀ` of
+/// entries this size stays far from overflow over any supported interval.
+pub const MAX_COVARIANCE_ENTRY: f64 = 1.0e100;
+
 /// Lowest supported ellipsoidal height for `model`: minus half the semi-minor axis (m).
 ///
 /// ```

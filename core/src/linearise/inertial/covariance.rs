@@ -176,10 +176,20 @@ pub fn predict_covariance<const N: usize>(
 /// does not).
 pub const P0_SYMMETRY_TOLERANCE: f64 = 1e-12;
 
-/// Checks an initial covariance: finite, and symmetric to [`P0_SYMMETRY_TOLERANCE`].
+/// Tolerance of the positive-semidefinite test of an initial covariance, on its correlation
+/// matrix: `C + P0_DEFINITENESS_TOLERANCE · I` must have a Cholesky factor. An eigenvalue of
+/// `C` as negative as `−1e-10` (rounding in a matrix assembled by hand) passes; a correlation
+/// matrix that is indefinite by more does not.
+pub const P0_DEFINITENESS_TOLERANCE: f64 = 1e-10;
+
+/// Checks an initial covariance: finite, entries within
+/// [`MAX_COVARIANCE_ENTRY`](crate::limits::MAX_COVARIANCE_ENTRY), symmetric to
+/// [`P0_SYMMETRY_TOLERANCE`], no negative variance, no correlation above 1, and positive
+/// semidefinite (to [`P0_DEFINITENESS_TOLERANCE`] on its correlation matrix
+/// `C_ij = P_ij / √(P_ii P_jj)`; a state of zero variance must have zero covariances).
 ///
 /// # Errors
-/// [`Error::NonFinite`] or [`Error::Invalid`] naming `p0`.
+/// [`Error::NonFinite`], [`Error::OutOfRange`] or [`Error::Invalid`] naming `p0`.
 ///
 /// ```
 /// use nalgebra::SMatrix;
@@ -187,12 +197,47 @@ pub const P0_SYMMETRY_TOLERANCE: f64 = 1e-12;
 /// let mut p0 = SMatrix::<f64, 15, 15>::identity();
 /// assert!(check_initial_covariance(&p0).is_ok());
 /// p0[(0, 1)] = 0.5;
-/// assert!(check_initial_covariance(&p0).is_err());
+/// assert!(check_initial_covariance(&p0).is_err()); // not symmetric
+/// p0[(1, 0)] = 0.5;
+/// assert!(check_initial_covariance(&p0).is_ok());
+/// p0[(0, 1)] = 1.5;
+/// p0[(1, 0)] = 1.5;
+/// assert!(check_initial_covariance(&p0).is_err()); // a correlation of 1.5
 /// ```
 pub fn check_initial_covariance<const N: usize>(p0: &SMatrix<f64, N, N>) -> Result<(), Error> {
     crate::error::ensure_finite(p0.as_slice(), "p0")?;
-    if (p0 - p0.transpose()).amax() > P0_SYMMETRY_TOLERANCE * p0.amax() {
+    let largest = p0.amax();
+    if largest > crate::limits::MAX_COVARIANCE_ENTRY {
+        return Err(Error::OutOfRange { quantity: "p0", value: largest, min: 0.0, max: crate::limits::MAX_COVARIANCE_ENTRY });
+    }
+    if (p0 - p0.transpose()).amax() > P0_SYMMETRY_TOLERANCE * largest {
         return Err(Error::Invalid { quantity: "p0", reason: "must be symmetric" });
+    }
+    if p0.diagonal().iter().any(|&v| v < 0.0) {
+        return Err(Error::Invalid { quantity: "p0", reason: "must not hold a negative variance (its diagonal)" });
+    }
+    let sd = p0.diagonal().map(crate::math::sqrt);
+    let mut correlation = SMatrix::<f64, N, N>::identity();
+    for i in 0..N {
+        for j in 0..N {
+            if i == j {
+                continue;
+            }
+            let bound = sd[i] * sd[j];
+            if p0[(i, j)].abs() > bound * (1.0 + P0_SYMMETRY_TOLERANCE) {
+                return Err(Error::Invalid {
+                    quantity: "p0",
+                    reason: "must not hold a correlation above 1 (|P_ij| > √(P_ii P_jj))",
+                });
+            }
+            correlation[(i, j)] = if bound > 0.0 { p0[(i, j)] / bound } else { 0.0 };
+        }
+    }
+    for i in 0..N {
+        correlation[(i, i)] += P0_DEFINITENESS_TOLERANCE;
+    }
+    if nalgebra::linalg::Cholesky::new(correlation).is_none() {
+        return Err(Error::Invalid { quantity: "p0", reason: "must be positive semidefinite" });
     }
     Ok(())
 }

@@ -25,7 +25,7 @@ macro_rules! padded_call {
 /// # Errors
 /// [`Error::NotPositive`] or [`Error::OutOfRange`] naming `interval` (positive, at most
 /// [`MAX_INTERVAL`](crate::limits::MAX_INTERVAL)); [`Error::NonFinite`] naming `f`, `g` or
-/// `psd`; [`Error::Invalid`] naming `psd` for a negative density.
+/// `psd`; [`Error::Invalid`] naming `psd` for a negative density, and naming `f` or `psd` when `Φ` or `Q_d` overflows f64.
 ///
 /// ```
 /// use nalgebra::{SMatrix, SVector};
@@ -51,6 +51,7 @@ pub fn discretise<const N: usize, const M: usize>(
         exact_from_noise_input,
         (f.as_slice(), g.as_slice(), psd.as_slice(), interval, phi.as_mut_slice(), q.as_mut_slice())
     );
+    check_discrete_form(&phi, &q)?;
     Ok((phi, q))
 }
 
@@ -90,6 +91,7 @@ pub fn discretise_second_order<const N: usize, const M: usize>(
         second_order_body,
         (f.as_slice(), g.as_slice(), psd.as_slice(), interval, phi.as_mut_slice(), q.as_mut_slice())
     );
+    check_discrete_form(&phi, &q)?;
     Ok((phi, q))
 }
 
@@ -159,6 +161,18 @@ fn check_discretisation<const N: usize, const M: usize>(
     crate::error::ensure_finite(psd.as_slice(), "psd")?;
     if psd.iter().any(|&q| q < 0.0) {
         return Err(Error::Invalid { quantity: "psd", reason: "spectral densities must be non-negative" });
+    }
+    Ok(())
+}
+
+/// Refuses a discrete form that overflowed: `Φ` (an `F·T` too large for f64, naming `f`) or
+/// `Q_d` (noise densities too large, naming `psd`).
+fn check_discrete_form<const N: usize>(phi: &SMatrix<f64, N, N>, q: &SMatrix<f64, N, N>) -> Result<()> {
+    if crate::error::ensure_finite(phi.as_slice(), "f").is_err() {
+        return Err(Error::Invalid { quantity: "f", reason: "F·T is too large: Φ = exp(F T) overflows f64" });
+    }
+    if crate::error::ensure_finite(q.as_slice(), "psd").is_err() {
+        return Err(Error::Invalid { quantity: "psd", reason: "the noise densities are too large: Q_d overflows f64" });
     }
     Ok(())
 }

@@ -66,8 +66,10 @@ pub fn bias_covariance<const N: usize>(model: &ImuErrorModel) -> SMatrix<f64, N,
 /// # Errors
 /// [`Error::Invalid`] naming `states` unless `N` is 15 or 21; as the gravity Jacobians
 /// ([`Error::NearPole`] in the NED form within
-/// [`POLE_EXCLUSION`](crate::earth::POLE_EXCLUSION) of a pole); [`Error::NonFinite`] naming
-/// `specific_force` or `angular_rate`.
+/// [`POLE_EXCLUSION`](crate::earth::POLE_EXCLUSION) of a pole); [`Error::NonFinite`] or
+/// [`Error::BeyondLimit`] naming `specific_force` (at most
+/// [`MAX_ACCELERATION`](crate::limits::MAX_ACCELERATION)) or `angular_rate` (at most
+/// [`MAX_ANGULAR_VELOCITY`](crate::limits::MAX_ANGULAR_VELOCITY)).
 ///
 /// ```
 /// use nalgebra::Vector3;
@@ -93,8 +95,10 @@ pub fn error_model<const N: usize>(
     if N != 15 && N != 21 {
         return Err(Error::Invalid { quantity: "states", reason: "the error model has 15 or 21 states" });
     }
-    crate::error::ensure_finite3(specific_force, "specific_force")?;
-    crate::error::ensure_finite3(angular_rate, "angular_rate")?;
+    // The ranges of an IMU sample (`ImuSample::validate`): beyond them the products in F
+    // overflow or lose all meaning.
+    crate::limits::check_vector(specific_force, crate::limits::MAX_ACCELERATION, "m/s²", "specific_force")?;
+    crate::limits::check_vector(angular_rate, crate::limits::MAX_ANGULAR_VELOCITY, "rad/s", "angular_rate")?;
     let mut f = SMatrix::<f64, N, N>::zeros();
     let mut g = NoiseInput::<N>::zeros();
     let (c_b, up) = match state {
