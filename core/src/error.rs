@@ -278,8 +278,17 @@ impl core::error::Error for BatchError {
 }
 
 /// Checks that every component of a value is finite.
+///
+/// # Errors
+/// [`Error::NonFinite`] naming `quantity`.
+///
+/// ```
+/// use rotaframe::error::ensure_finite;
+/// assert!(ensure_finite(&[1.0, 2.0], "x").is_ok());
+/// assert_eq!(ensure_finite(&[1.0, f64::NAN], "x").unwrap_err().quantity(), "x");
+/// ```
 #[inline]
-pub(crate) fn ensure_finite(values: &[f64], quantity: &'static str) -> Result<()> {
+pub fn ensure_finite(values: &[f64], quantity: &'static str) -> Result<()> {
     // NaN and infinity are the values whose exponent bits are all ones; an integer OR over
     // the slice has no early exit and vectorises (the matrices checked here have hundreds of
     // entries and are almost always finite).

@@ -57,7 +57,7 @@
 use nalgebra::{Matrix3, Vector3};
 
 use super::stats::chi_square_quantile;
-use crate::error::{Error, Result, ensure_finite};
+use crate::error::{Error, Result, ensure_finite, ensure_finite1};
 use crate::math;
 
 /// `√(2 ln 2 / π)`: the ratio of the flat Allan deviation of flicker rate noise to its
@@ -210,7 +210,9 @@ pub fn allan_deviation(
         });
     }
     crate::nav::ImuIncrement::new(Vector3::zeros(), Vector3::zeros(), interval).validate()?;
-    if !(confidence > 0.0 && confidence < 1.0) {
+    // The two tail probabilities (1 ± c)/2 must both lie strictly inside (0, 1) in f64: a
+    // confidence within rounding of 1 makes the upper one exactly 1.
+    if !(confidence > 0.0 && confidence < 1.0 && 0.5 * (1.0 + confidence) < 1.0) {
         return Err(Error::OutOfRange { quantity: "confidence", value: confidence, min: 0.0, max: 1.0 });
     }
     if scratch.len() < n + 1 {
@@ -267,8 +269,9 @@ pub fn allan_deviation(
             DominantNoise::RateRandomWalk
         };
         let edf = equivalent_degrees_of_freedom(n, out[i].cluster_size, dominant);
-        let upper_quantile = chi_square_quantile(0.5 * (1.0 + confidence), edf)?;
-        let lower_quantile = chi_square_quantile(0.5 * (1.0 - confidence), edf)?;
+        let as_confidence = |e: Error| if e.quantity() == "p" { e.with_quantity("confidence") } else { e };
+        let upper_quantile = chi_square_quantile(0.5 * (1.0 + confidence), edf).map_err(as_confidence)?;
+        let lower_quantile = chi_square_quantile(0.5 * (1.0 - confidence), edf).map_err(as_confidence)?;
         let p = &mut out[i];
         p.dominant = dominant;
         p.degrees_of_freedom = edf;
@@ -307,6 +310,38 @@ impl NoiseTerms {
     pub fn deviation(&self, tau: f64) -> f64 {
         let (n, b, k) = (self.white_noise, self.bias_instability * BIAS_INSTABILITY_FACTOR, self.rate_random_walk);
         math::sqrt(n * n / tau + b * b + k * k * tau / 3.0)
+    }
+
+    /// [`deviation`](Self::deviation) with `tau` checked and the result finite.
+    ///
+    /// # Errors
+    /// [`Error::NonFinite`], [`Error::NotPositive`] or [`Error::OutOfRange`] naming `tau`
+    /// (positive, at most [`MAX_TIME`](crate::limits::MAX_TIME)); [`Error::Invalid`] naming
+    /// `noise_terms` when a term is negative or not finite, or the deviation overflows.
+    ///
+    /// ```
+    /// use rotaframe::calibrate::allan::NoiseTerms;
+    /// let t = NoiseTerms { white_noise: 1e-3, bias_instability: 0.0, rate_random_walk: 0.0 };
+    /// assert_eq!(t.checked_deviation(4.0).unwrap(), 5e-4);
+    /// assert!(t.checked_deviation(0.0).is_err());
+    /// ```
+    pub fn checked_deviation(&self, tau: f64) -> Result<f64> {
+        ensure_finite1(tau, "tau")?;
+        if tau <= 0.0 {
+            return Err(Error::NotPositive { quantity: "tau", value: tau });
+        }
+        if tau > crate::limits::MAX_TIME {
+            return Err(Error::OutOfRange { quantity: "tau", value: tau, min: 0.0, max: crate::limits::MAX_TIME });
+        }
+        let terms = [self.white_noise, self.bias_instability, self.rate_random_walk];
+        if !terms.iter().all(|t| t.is_finite() && *t >= 0.0) {
+            return Err(Error::Invalid { quantity: "noise_terms", reason: "must be finite and non-negative" });
+        }
+        let d = self.deviation(tau);
+        if !d.is_finite() {
+            return Err(Error::Invalid { quantity: "noise_terms", reason: "too large: the deviation overflows f64" });
+        }
+        Ok(d)
     }
 
     /// Gyro terms in trade units: angle random walk (deg/√h), bias instability (deg/h), rate

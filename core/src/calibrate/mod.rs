@@ -186,6 +186,52 @@ pub struct TriadCalibration {
 }
 
 impl TriadCalibration {
+    /// Checks a calibration rebuilt from saved numbers (a file, a pickle): every number
+    /// finite, the sensor errors within [`MAX_SENSOR_ERROR`](crate::nav::MAX_SENSOR_ERROR),
+    /// the misalignment's diagonal zero, the covariance symmetric with no negative variance,
+    /// the residual RMS, noise and condition number non-negative, and the estimated set among
+    /// the twelve parameters.
+    ///
+    /// # Errors
+    /// [`Error::NonFinite`] or [`Error::Invalid`] naming `calibration`.
+    ///
+    /// ```
+    /// use rotaframe::calibrate::TriadCalibration;
+    /// let mut c = TriadCalibration::perfect();
+    /// assert!(c.validate().is_ok());
+    /// c.bias.x = f64::NAN;
+    /// assert!(c.validate().is_err());
+    /// ```
+    pub fn validate(&self) -> Result<()> {
+        let invalid = |reason| Err(Error::Invalid { quantity: "calibration", reason });
+        let numbers =
+            [self.bias.as_slice(), self.scale_factor.as_slice(), self.misalignment.as_slice(), self.covariance.as_slice()];
+        for values in numbers {
+            crate::error::ensure_finite(values, "calibration")?;
+        }
+        let rest = [self.residual_rms.as_slice(), self.noise.as_slice(), core::slice::from_ref(&self.condition_number)];
+        for values in rest {
+            crate::error::ensure_finite(values, "calibration")?;
+            if values.iter().any(|&v| v < 0.0) {
+                return invalid("the residual RMS, noise and condition number must not be negative");
+            }
+        }
+        let largest = self.bias.amax().max(self.scale_factor.amax()).max(self.misalignment.amax());
+        if largest > crate::nav::MAX_SENSOR_ERROR {
+            return invalid("a bias, scale factor or misalignment is beyond the supported sensor errors");
+        }
+        if (0..3).any(|i| self.misalignment[(i, i)] != 0.0) {
+            return invalid("the misalignment's diagonal must be zero");
+        }
+        if self.covariance != self.covariance.transpose() || self.covariance.diagonal().iter().any(|&v| v < 0.0) {
+            return invalid("the covariance must be symmetric with no negative variance");
+        }
+        if self.estimated.0 & !ParameterSet::ALL.0 != 0 {
+            return invalid("the estimated set names a parameter beyond the twelve");
+        }
+        Ok(())
+    }
+
     /// A perfect triad: every parameter zero and exactly known (for combining a calibrated
     /// triad with an uncalibrated one).
     #[must_use]

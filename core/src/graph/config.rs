@@ -383,7 +383,8 @@ impl FrameGraph {
             line: e.span().map(|s| line_of(text, s.start)),
             message: e.message().trim_end().to_string(),
         })?;
-        let mut graph = FrameGraph::new(&doc.root, doc.inertial);
+        let mut graph = FrameGraph::try_new(&doc.root, doc.inertial)
+            .map_err(|e| GraphError::Config { line: None, message: alloc::format!("`root`: {e}") })?;
         let config = |span: &core::ops::Range<usize>, message: String| GraphError::Config {
             line: Some(line_of(text, span.start)),
             message,

@@ -105,6 +105,14 @@ impl FrameTree for FrameGraph {
     }
 }
 
+/// Refuses a frame name that is empty or holds control characters.
+fn check_name(name: &str) -> GraphResult<()> {
+    if name.is_empty() || name.chars().any(char::is_control) {
+        return Err(GraphError::BadName { name: name.to_string() });
+    }
+    Ok(())
+}
+
 /// The error for a name not among `names`, with the nearest of them (by edit distance, or
 /// holding the name given) for "did you mean".
 pub(super) fn unknown_frame<'a>(name: &str, names: impl Iterator<Item = &'a str>) -> GraphError {
@@ -149,6 +157,21 @@ impl FrameGraph {
     pub fn new(root: &str, inertial: bool) -> Self {
         let frames = alloc::vec![Entry { name: root.to_string(), parent: None, edge: Edge::Root }];
         Self { inertial, frames, ids: BTreeMap::from([(root.to_string(), 0)]) }
+    }
+
+    /// As [`new`](Self::new), with the root's name checked as every frame's is.
+    ///
+    /// # Errors
+    /// [`GraphError::BadName`] for an empty name or one holding control characters.
+    ///
+    /// ```
+    /// use rotaframe::graph::FrameGraph;
+    /// assert!(FrameGraph::try_new("eci", true).is_ok());
+    /// assert!(FrameGraph::try_new("", true).is_err());
+    /// ```
+    pub fn try_new(root: &str, inertial: bool) -> GraphResult<Self> {
+        check_name(root)?;
+        Ok(Self::new(root, inertial))
     }
 
     /// Whether the root is declared inertial.
@@ -247,9 +270,7 @@ impl FrameGraph {
     }
 
     fn check_new_name(&self, name: &str) -> GraphResult<()> {
-        if name.is_empty() || name.chars().any(char::is_control) {
-            return Err(GraphError::BadName { name: name.to_string() });
-        }
+        check_name(name)?;
         if self.ids.contains_key(name) {
             return Err(GraphError::DuplicateName { name: name.to_string() });
         }

@@ -302,8 +302,9 @@ pub struct SegmentCache(Option<Segment>);
 
 impl<P: PoseSource> SampledMotion<P> {
     /// Checks the poses and wraps them: at least 3 samples, times finite, within
-    /// [`MAX_TIME`](crate::limits::MAX_TIME) and strictly increasing, every pose (and rate)
-    /// convertible.
+    /// [`MAX_TIME`](crate::limits::MAX_TIME) and increasing by at least
+    /// [`MIN_INTERVAL`](crate::limits::MIN_INTERVAL) from one sample to the next (closer
+    /// samples would make the interpolated rates overflow), every pose (and rate) convertible.
     ///
     /// # Errors
     /// [`BatchError`] with the index of the first bad sample; [`Error::LengthMismatch`]
@@ -320,6 +321,12 @@ impl<P: PoseSource> SampledMotion<P> {
                 crate::limits::check_scalar(time, crate::limits::MAX_TIME, "s", "time")?;
                 if time <= previous {
                     return Err(Error::Invalid { quantity: "time", reason: "times must be strictly increasing" });
+                }
+                if time - previous < crate::limits::MIN_INTERVAL {
+                    return Err(Error::Invalid {
+                        quantity: "time",
+                        reason: "samples must be at least 1e-9 s (MIN_INTERVAL) apart",
+                    });
                 }
                 poses.pose(index)?;
                 poses.rates(index).map(|_| ())

@@ -163,7 +163,8 @@ fn combine<const N: usize>(y: &[f64; N], h: f64, a: &[f64; 16], k: &[[f64; N]; 1
 ///
 /// # Errors
 /// As [`Tolerances::validate`]; [`Error::NotPositive`] naming `t_span` if `t_end ≤ t0`;
-/// [`Error::NonFinite`] naming `t_span`; the first error of `f` or `on_step`;
+/// [`Error::NonFinite`] naming `t_span`; [`Error::Invalid`] naming `t_span` or `max_step`
+/// when it is below the resolution of the times; the first error of `f` or `on_step`;
 /// [`Error::Invalid`] naming `max_steps` when the step limit is reached, or `rtol` when the
 /// step size falls below the resolution of `t` (a singularity or a force that is not smooth).
 pub fn integrate<const N: usize>(
@@ -180,6 +181,21 @@ pub fn integrate<const N: usize>(
     }
     if t_end <= t0 {
         return Err(Error::NotPositive { quantity: "t_span", value: t_end - t0 });
+    }
+    // The smallest step the times can resolve (the loop's own floor): a span or a step limit
+    // below it can never be integrated, and is named as such rather than as a tolerance.
+    let resolution = 16.0 * f64::EPSILON * t0.abs().max(t_end.abs()).max(1.0);
+    if t_end - t0 <= resolution {
+        return Err(Error::Invalid {
+            quantity: "t_span",
+            reason: "is shorter than the resolution of its times (about 3.6e-15 of their magnitude)",
+        });
+    }
+    if tolerances.max_step <= resolution {
+        return Err(Error::Invalid {
+            quantity: "max_step",
+            reason: "is below the resolution of the times of t_span (about 3.6e-15 of their magnitude)",
+        });
     }
     let (rtol, atol) = (tolerances.rtol, tolerances.atol);
     let scale_of =

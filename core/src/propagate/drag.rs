@@ -145,4 +145,36 @@ impl Drag {
         let airspeed = velocity - self.wind;
         airspeed * (-self.density_at(position) * airspeed.norm() / (2.0 * self.ballistic_coefficient))
     }
+
+    /// [`acceleration`](Self::acceleration) with its inputs and result checked: for callers
+    /// outside a propagation (which checks the force it is given).
+    ///
+    /// # Errors
+    /// [`Error::NonFinite`] or [`Error::BeyondLimit`] naming `position` (at most
+    /// [`MAX_POSITION`](limits::MAX_POSITION)) or `velocity` (at most
+    /// [`MAX_VELOCITY`](limits::MAX_VELOCITY)); [`Error::BeyondLimit`] naming `drag` when the
+    /// acceleration passes [`MAX_ACCELERATION`](limits::MAX_ACCELERATION) (an exponential
+    /// atmosphere far below its origin, a speed near the limit) or overflows.
+    ///
+    /// ```
+    /// use nalgebra::Vector3;
+    /// use rotaframe::propagate::{AirDensity, Drag};
+    /// let drag = Drag::new(100.0, AirDensity::Constant(1.2), Vector3::zeros())?;
+    /// let a = drag.checked_acceleration(&Vector3::zeros(), &Vector3::new(10.0, 0.0, 0.0))?;
+    /// assert!((a.x + 0.6).abs() < 1e-15); // −ρ v² / (2 β)
+    /// assert!(drag.checked_acceleration(&Vector3::new(f64::NAN, 0.0, 0.0), &Vector3::zeros()).is_err());
+    /// # Ok::<(), rotaframe::Error>(())
+    /// ```
+    pub fn checked_acceleration(&self, position: &Vector3<f64>, velocity: &Vector3<f64>) -> Result<Vector3<f64>> {
+        limits::check_vector(position, limits::MAX_POSITION, "m", "position")?;
+        limits::check_vector(velocity, limits::MAX_VELOCITY, "m/s", "velocity")?;
+        let a = self.acceleration(position, velocity);
+        limits::check_vector(&a, limits::MAX_ACCELERATION, "m/s²", "drag").map_err(|e| match e {
+            Error::NonFinite { .. } => {
+                Error::BeyondLimit { quantity: "drag", magnitude: f64::INFINITY, limit: limits::MAX_ACCELERATION, unit: "m/s²" }
+            }
+            other => other,
+        })?;
+        Ok(a)
+    }
 }
