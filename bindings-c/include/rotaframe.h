@@ -1266,7 +1266,8 @@ rf_status rf_triad_correct_increment(const struct rf_triad_calibration *calibrat
 /**
  * Writes the default cluster sizes (octaves 1, 2, 4, … up to `(samples − 1)/2`) for a record
  * of `samples` into `out_sizes` (room for `capacity`; 64 always suffice) and their number
- * into `out_count`.
+ * into `out_count`. A `capacity` below their number is refused (`RF_STATUS_INVALID_ARGUMENT`)
+ * and nothing is written.
  */
 rf_status rf_allan_default_cluster_sizes(size_t samples, uint64_t *out_sizes, size_t capacity, size_t *out_count);
 
@@ -1478,7 +1479,9 @@ rf_status rf_graph_motion(const struct rf_graph *graph, uint32_t parent, uint32_
 /**
  * The motions of `child` relative to `parent` at `count` times, written to `out_motions`
  * (which must not overlap `times`). On error nothing is written: the motions are computed
- * once to check and once to write (function edges are called twice per time).
+ * once to check and once to write (function edges are called twice per time). A function
+ * edge that fails only on the second call (one that is not deterministic) leaves every
+ * output a NaN motion, never a partial result.
  */
 rf_status rf_graph_motion_batch(const struct rf_graph *graph, uint32_t parent, uint32_t child, const double *times, size_t count, struct rf_frame_motion *out_motions);
 

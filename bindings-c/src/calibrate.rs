@@ -322,7 +322,8 @@ pub struct rf_allan_point {
 
 /// Writes the default cluster sizes (octaves 1, 2, 4, … up to `(samples − 1)/2`) for a record
 /// of `samples` into `out_sizes` (room for `capacity`; 64 always suffice) and their number
-/// into `out_count`.
+/// into `out_count`. A `capacity` below their number is refused (`RF_STATUS_INVALID_ARGUMENT`)
+/// and nothing is written.
 #[unsafe(no_mangle)]
 pub unsafe extern "C" fn rf_allan_default_cluster_sizes(
     samples: usize,
@@ -333,12 +334,17 @@ pub unsafe extern "C" fn rf_allan_default_cluster_sizes(
     boundary(|| {
         let mut sizes = [0usize; 64];
         let n = allan::default_cluster_sizes(samples, &mut sizes);
+        // All of the list or nothing: a capacity below it is refused (not silently cut).
+        if capacity < n {
+            return Err(rotaframe::Error::LengthMismatch { quantity: "capacity", found: capacity, expected: n }.into());
+        }
+        disjoint(region(out_count.cast_const(), 1), &[region(out_sizes.cast_const(), n)])?;
         let count = unsafe { out(out_count) }?;
-        let o = unsafe { slice_mut(out_sizes, capacity.min(n)) }?;
+        let o = unsafe { slice_mut(out_sizes, n) }?;
         for (o, &m) in o.iter_mut().zip(&sizes[..n]) {
             *o = m as u64;
         }
-        *count = capacity.min(n);
+        *count = n;
         Ok(())
     })
 }

@@ -546,7 +546,9 @@ pub unsafe extern "C" fn rf_graph_motion(
 
 /// The motions of `child` relative to `parent` at `count` times, written to `out_motions`
 /// (which must not overlap `times`). On error nothing is written: the motions are computed
-/// once to check and once to write (function edges are called twice per time).
+/// once to check and once to write (function edges are called twice per time). A function
+/// edge that fails only on the second call (one that is not deterministic) leaves every
+/// output a NaN motion, never a partial result.
 #[unsafe(no_mangle)]
 pub unsafe extern "C" fn rf_graph_motion_batch(
     graph: *const rf_graph,
@@ -563,7 +565,23 @@ pub unsafe extern "C" fn rf_graph_motion_batch(
         disjoint(region(out_motions, count), &[region(times.as_ptr(), count), region(g.nodes.cast_const(), g.count)])?;
         let outs = unsafe { slice_mut(out_motions, count) }?;
         motions(frames, parent, child, times, |_, _| {})?;
-        motions(frames, parent, child, times, |i, m| outs[i] = (&m).into())
+        let written = motions(frames, parent, child, times, |i, m| outs[i] = (&m).into());
+        if written.is_err() {
+            // Only a function edge that answers differently the second time fails here: no
+            // partial result is left, every output becomes a NaN motion.
+            let nan = rf_vec3 { x: f64::NAN, y: f64::NAN, z: f64::NAN };
+            let rotation = rf_quat { w: f64::NAN, x: f64::NAN, y: f64::NAN, z: f64::NAN };
+            let poison = rf_frame_motion {
+                rotation,
+                position: nan,
+                velocity: nan,
+                acceleration: nan,
+                angular_velocity: nan,
+                angular_acceleration: nan,
+            };
+            outs.fill(poison);
+        }
+        written
     })
 }
 

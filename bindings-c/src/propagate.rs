@@ -331,12 +331,20 @@ pub unsafe extern "C" fn rf_propagate(
         let (settings, budget) = unsafe { read(config) }?.to_core()?;
         let frame = frame_motion.ok_or(RF_STATUS_NULL_POINTER)?;
         let (r0, v0): (Vector3<f64>, Vector3<f64>) = (unsafe { read(position) }?.into(), unsafe { read(velocity) }?.into());
+        // Every output (the states, the count, the result) apart from the inputs and from
+        // each other, checked on the addresses before any reference to them is formed.
+        let outputs = [
+            region(out_states.cast_const(), if out_states.is_null() { 0 } else { capacity }),
+            region(out_count.cast_const(), usize::from(!out_count.is_null())),
+            region(out_result.cast_const(), 1),
+        ];
+        let inputs = [region(config, 1), region(position, 1), region(velocity, 1)];
+        for (k, &o) in outputs.iter().enumerate() {
+            disjoint(o, &inputs)?;
+            disjoint(o, &outputs[k + 1..])?;
+        }
         let out_result = unsafe { out(out_result) }?;
         let out_count = unsafe { out_count.as_mut() };
-        if !out_states.is_null() {
-            let inputs = [region(config, 1), region(position, 1), region(velocity, 1), region(out_result as *const _, 1)];
-            disjoint(region(out_states.cast_const(), capacity), &inputs)?;
-        }
         let callbacks = Callbacks { frame, frame_context, force, force_context, event, event_context, failure: Cell::new(None) };
         let run = |on_step: &mut dyn FnMut(&DenseStep<6>)| -> Fallible<rp::Outcome> {
             callbacks.failure.set(None);

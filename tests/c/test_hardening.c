@@ -4,6 +4,21 @@
  * runs of scripts/test-c do). */
 #include "check.h"
 
+/* A function edge that works on its first `budget` calls and fails after: a callback that
+   is not deterministic, as C code reading a sensor may be. */
+static int calls_left = 0;
+static rf_status flaky(void *context, double time, rf_frame_motion *out) {
+    (void)context, (void)time;
+    if (calls_left-- <= 0) return RF_STATUS_INVALID_ARGUMENT;
+    return rf_motion_identity(out);
+}
+
+static rf_earth_model wgs84_for_frame;
+static rf_status earth_frame(void *context, double time, rf_frame_motion *out) {
+    (void)context;
+    return rf_earth_motion(&wgs84_for_frame, time, 0.0, out);
+}
+
 int main(void) {
     rf_earth_model wgs84, zero_model, bad;
     const char *expect = getenv("ROTAFRAME_EXPECT_FAST_KERNELS");
@@ -120,6 +135,51 @@ int main(void) {
         OK(rf_quat_multiply(&q, &p, &expected));
         OK(rf_quat_multiply(&q, &p, &q));
         CHECK(memcmp(&q, &expected, sizeof q) == 0, "rf_quat_multiply in place");
+    }
+    { /* Newer modules, all or nothing. The Allan cluster-size list is refused, not cut, when
+         the caller's capacity is short, and nothing is written. */
+        uint64_t sizes[4];
+        size_t count = 77;
+        memset(sizes, 0xA5, sizeof sizes);
+        CHECK(rf_allan_default_cluster_sizes(100001, sizes, 4, &count) == RF_STATUS_INVALID_ARGUMENT, "short capacity refused");
+        CHECK(still_filled(sizes, sizeof sizes, 0xA5) && count == 77, "sizes and count untouched");
+    }
+    { /* rf_propagate: a count pointer inside the states array is refused before the run. */
+        rf_propagate_config config;
+        rf_propagated_state states[8];
+        rf_propagation_result result;
+        rf_geodetic start = {0.6, -1.2, 1000.0};
+        rf_vec3 r0, v0 = {100.0, 0.0, 0.0};
+        memset(&config, 0, sizeof config);
+        wgs84_for_frame = wgs84;
+        OK(rf_geodetic_to_ecef(&wgs84, &start, &r0));
+        memset(states, 0xA5, sizeof states);
+        CHECK(rf_propagate(&config, earth_frame, NULL, NULL, NULL, NULL, NULL, 0.0, 10.0, &r0, &v0, states, 8, (size_t *)&states[3], &result) ==
+                  RF_STATUS_OVERLAPPING_BUFFERS,
+              "out_count inside out_states refused");
+        CHECK(still_filled(states, sizeof states, 0xA5), "states untouched");
+        CHECK(rf_propagate(&config, earth_frame, NULL, NULL, NULL, NULL, NULL, 0.0, 10.0, &r0, &v0, states, 8, NULL, (rf_propagation_result *)&states[1]) ==
+                  RF_STATUS_OVERLAPPING_BUFFERS,
+              "out_result inside out_states refused");
+    }
+    { /* A graph batch whose function edge fails only on the second (writing) pass leaves no
+         partial result: every output is a NaN motion. */
+        rf_graph_node storage[4];
+        rf_graph g;
+        rf_frame_motion out[5];
+        double times[5] = {0.0, 1.0, 2.0, 3.0, 4.0};
+        uint32_t f;
+        size_t i;
+        OK(rf_graph_init(storage, 4, 1, &g));
+        OK(rf_graph_add_function(&g, 0, flaky, NULL, &f));
+        calls_left = 5 + 2; /* the checking pass, then two times of the writing pass */
+        memset(out, 0xA5, sizeof out);
+        CHECK(rf_graph_motion_batch(&g, 0, f, times, 5, out) == RF_STATUS_INVALID_ARGUMENT, "the late failure is reported");
+        for (i = 0; i < 5; i++) CHECK(isnan(out[i].rotation.w) && isnan(out[i].position.x), "output %zu is a NaN motion", i);
+        calls_left = 0;
+        memset(out, 0xA5, sizeof out);
+        CHECK(rf_graph_motion_batch(&g, 0, f, times, 5, out) == RF_STATUS_INVALID_ARGUMENT, "an early failure is reported");
+        CHECK(still_filled(out, sizeof out, 0xA5), "outputs untouched by an early failure");
     }
     return check_report("test_hardening");
 }
