@@ -348,6 +348,8 @@ pub fn _calibration_from_parts(
         degrees_of_freedom,
         estimated: ParameterSet(estimated),
     };
+    inner.validate().map_err(|e| to_py(&e, "(not a valid pickled Calibration)"))?;
+    crate::plumbing::errors::check_finite(&residuals, "calibration")?;
     let sensor = if sensor == "gyro" { "gyro" } else { "accelerometer" };
     Ok(PyCalibration::new(inner, sensor, residuals, residual_width))
 }
@@ -638,7 +640,7 @@ impl PyNoiseTerms {
         let mut out = Vec::with_capacity(tau_values.len() * self.terms.len());
         for t in &tau_values {
             for terms in &self.terms {
-                out.push(terms.deviation(*t));
+                out.push(terms.checked_deviation(*t).map_err(|e| to_py(&e, ""))?);
             }
         }
         let mut dims = tau_shape;

@@ -189,7 +189,7 @@ impl PyFrameGraph {
     #[pyo3(signature = (root, *, inertial=true))]
     fn py_new(root: &Bound<'_, PyAny>, #[pyo3(from_py_with = crate::plumbing::args::inertial)] inertial: bool) -> PyResult<Self> {
         let root = crate::plumbing::args::text(root, "root")?;
-        Ok(Self::wrap(FrameGraph::new(&root, inertial)))
+        Ok(Self::wrap(FrameGraph::try_new(&root, inertial).map_err(graph_error)?))
     }
 
     /// Adds frame `name` fixed in `parent`: `rotation` child to parent (quaternion (4,) or

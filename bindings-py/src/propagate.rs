@@ -88,7 +88,7 @@ impl PyDrag {
         velocity: &Bound<'py, PyAny>,
     ) -> PyResult<Bound<'py, PyArray1<f64>>> {
         let (r, v) = (single_vector(position, "position")?, single_vector(velocity, "velocity")?);
-        Ok(vec3(py, &self.drag.acceleration(&r, &v)))
+        Ok(vec3(py, &self.drag.checked_acceleration(&r, &v).map_err(|e| to_py(&e, ""))?))
     }
 
     /// The ballistic coefficient (kg/m²).
@@ -121,6 +121,21 @@ fn single_vector(obj: &Bound<'_, PyAny>, name: &'static str) -> PyResult<Vector3
 
 /// A stop function's type when there is none.
 type NoStop = fn(f64, &Vector3<f64>, &Vector3<f64>) -> rotaframe::Result<f64>;
+
+/// The memory a propagation's dense output may hold (1 GiB): at about 400 bytes a step,
+/// some 2.6 million steps, past the default `max_steps` of 10⁶.
+const MAX_DENSE_BYTES: usize = 1 << 30;
+
+/// The most steps a propagation keeps.
+const MAX_KEPT_STEPS: usize = MAX_DENSE_BYTES / core::mem::size_of::<DenseStep<6>>();
+
+/// Why the steps of a run could not all be kept.
+enum StepsNotKept {
+    /// More than `MAX_KEPT_STEPS`.
+    Cap,
+    /// The allocator refused.
+    Memory,
+}
 
 /// A propagation in a graph's frame: everything but the force and stop callbacks.
 struct GraphRun<'a> {
@@ -507,6 +522,9 @@ pub fn propagate<'py>(
             crate::plumbing::args::describe(f)
         )));
     }
+    if let Some(h) = stop_height {
+        crate::plumbing::errors::check_finite(&[h], "stop_height")?;
+    }
     if stop_fn.is_some() && stop_height.is_some() {
         return Err(RotaframeError::new_err("give `stop_height` or `stop_fn`, not both"));
     }
@@ -545,7 +563,19 @@ pub fn propagate<'py>(
         crate::plumbing::args::number(&out, "stop_fn result").map_err(keep)
     };
     let mut steps: Vec<DenseStep<6>> = Vec::new();
+    // The dense output is kept whole (for `at`); past its memory cap, or when the allocator
+    // refuses, the run stops with a named error instead of exhausting memory.
+    let mut kept_all = Ok(());
     let record = |step: &DenseStep<6>| -> rotaframe::Result<()> {
+        let stop = rotaframe::Error::Invalid { quantity: "t_span", reason: "the run stopped: its steps cannot be kept" };
+        if steps.len() >= MAX_KEPT_STEPS {
+            kept_all = Err(StepsNotKept::Cap);
+            return Err(stop);
+        }
+        if steps.try_reserve(1).is_err() {
+            kept_all = Err(StepsNotKept::Memory);
+            return Err(stop);
+        }
         steps.push(*step);
         Ok(())
     };
@@ -622,7 +652,25 @@ pub fn propagate<'py>(
     if let Some(e) = raised.borrow_mut().take() {
         return Err(e);
     }
-    let outcome = result.map_err(|e| to_py(&e, ""))?;
+    match kept_all {
+        Err(StepsNotKept::Cap) => {
+            return Err(RotaframeError::new_err(format!(
+                "the run took more than {MAX_KEPT_STEPS} steps, whose dense output is propagate's memory cap of {} MiB: raise `max_step`, loosen `rtol`/`atol`, shorten `t_span` or split the run",
+                MAX_DENSE_BYTES >> 20
+            )));
+        }
+        Err(StepsNotKept::Memory) => {
+            return Err(pyo3::exceptions::PyMemoryError::new_err(format!(
+                "propagate: no memory for the dense output after {} steps: raise `max_step`, shorten `t_span` or split the run",
+                steps.len()
+            )));
+        }
+        Ok(()) => {}
+    }
+    // The core's `event` is this function's `stop_height` or `stop_fn`.
+    let event_name = if stop_height.is_some() { "stop_height" } else { "stop_fn" };
+    let outcome =
+        result.map_err(|e| if e.quantity() == "event" { e.with_quantity(event_name) } else { e }).map_err(|e| to_py(&e, ""))?;
     // At an event the last step reaches past the end of the run; `end` bounds its use (its
     // dense output stays that of the whole step).
     let state = |t: f64, r: &Vector3<f64>, v: &Vector3<f64>| [t, r.x, r.y, r.z, v.x, v.y, v.z];

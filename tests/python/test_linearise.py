@@ -252,6 +252,42 @@ def test_predict_covariance_equals_the_numpy_recursion_along_the_run():
     assert np.all(np.abs(p[-1] - cov) <= 1e-9 * scale)
 
 
+def test_initial_covariances_that_are_no_covariance_are_refused_naming_p0():
+    s = strapdown()
+    history = s.copy().run(np.zeros((20, 3)), np.tile([0.0, 0.0, -0.0979], (20, 1)), 0.01)
+    negative = np.eye(15)
+    negative[3, 3] = -1e-6  # a negative variance
+    correlated = np.eye(15)
+    correlated[0, 1] = correlated[1, 0] = 1.5  # a correlation of 1.5
+    indefinite = np.eye(15)
+    # Three states pairwise correlated at -0.9: every correlation is below 1 but the matrix
+    # has the eigenvalue 1 - 2(0.9) = -0.8 (its rows sum negative along (1, 1, 1)).
+    for i, j in [(0, 1), (0, 2), (1, 2)]:
+        indefinite[i, j] = indefinite[j, i] = -0.9
+    huge = np.eye(15) * 1e120
+    for p0, message in [(negative, "negative variance"), (correlated, "correlation above 1"), (indefinite, "positive semidefinite"), (huge, "P0")]:
+        with pytest.raises(rf.RotaframeError, match=message) as raised:
+            rf.predict_covariance(history, imu(), p0)
+        assert "`P0`" in str(raised.value)
+    # A zero-variance state with zero covariances, and a correlation of exactly 1, are fine.
+    fine = np.eye(15)
+    fine[5, 5] = 0.0
+    fine[0, 1] = fine[1, 0] = 1.0
+    rf.predict_covariance(history, imu(), fine)
+
+
+def test_overflowing_discrete_forms_and_out_of_range_error_model_inputs_are_refused():
+    s = strapdown()
+    with pytest.raises(rf.RotaframeError, match="`F`.*overflows"):
+        rf.discrete_error_model(np.eye(15) * 1e300, np.zeros((15, 12)), np.zeros(12), 100.0)
+    with pytest.raises(rf.RotaframeError, match="`noise`.*overflows"):
+        rf.discrete_error_model(np.zeros((15, 15)), np.ones((15, 12)) * 1e200, np.ones(12) * 1e200, 1.0)
+    with pytest.raises(rf.OutOfRangeError, match="specific_force"):
+        s.error_model([1e13, 0.0, 0.0], [0.0, 0.0, 0.0])
+    with pytest.raises(rf.OutOfRangeError, match="angular_rate"):
+        s.error_model([0.0, 0.0, -9.8], [0.0, 2e6, 0.0])
+
+
 def test_predict_covariance_refuses_changed_inputs_and_bad_covariances():
     s = strapdown()
     dtheta, dv = np.zeros((50, 3)), np.tile([0.0, 0.0, -0.0979], (50, 1))

@@ -168,3 +168,8 @@ pub fn python_error(error: rotaframe::Error, degrees: bool, lat: f64) -> rotafra
         other => other,
     }
 }
+
+/// Refuses values that are not all finite, naming `quantity` (through the core's check).
+pub fn check_finite(values: &[f64], quantity: &'static str) -> PyResult<()> {
+    rotaframe::error::ensure_finite(values, quantity).map_err(|e| to_py(&e, ""))
+}
