@@ -5,7 +5,7 @@
 //! Jacobians are row-major `(..., m, n)` with `J[..., i, j] = ∂yᵢ/∂xⱼ`, in the units of the
 //! arguments as given: with `degrees=True` angles are differentiated per degree.
 
-use numpy::{PyArrayDyn, PyArrayMethods};
+use numpy::PyArrayMethods;
 use pyo3::prelude::*;
 use pyo3::types::PyTuple;
 use rotaframe::linearise::inertial;
@@ -127,8 +127,8 @@ pub fn predict_covariance<'py>(
     }
     let (increments, heights) = replay_inputs(py, replay)?;
     let kept = inertial::kept_count(increments.len(), every as usize);
-    let t = PyArrayDyn::<f64>::zeros(py, vec![kept], false);
-    let p = PyArrayDyn::<f64>::zeros(py, vec![kept, n_states, n_states], false);
+    let t = crate::plumbing::memory::new_array(py, vec![kept], true)?;
+    let p = crate::plumbing::memory::new_array(py, vec![kept, n_states, n_states], true)?;
     {
         let (mut tw, mut pw) = (t.readwrite(), p.readwrite());
         let (to, po) = (out_slice(&mut tw), out_slice(&mut pw));

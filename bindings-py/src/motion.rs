@@ -345,7 +345,8 @@ impl PyFrameMotion {
         let (a, b) = (self.indexer(&plan), other.indexer(&plan));
         let mut dims = plan.shape.clone();
         dims.extend_from_slice(&[18, 18]);
-        let (j1, j2) = (PyArrayDyn::<f64>::zeros(py, dims.clone(), false), PyArrayDyn::<f64>::zeros(py, dims, false));
+        let (j1, j2) =
+            (crate::plumbing::memory::new_array(py, dims.clone(), true)?, crate::plumbing::memory::new_array(py, dims, true)?);
         {
             let (mut w1, mut w2) = (j1.readwrite(), j2.readwrite());
             let (o1, o2) = (out_slice(&mut w1), out_slice(&mut w2));
@@ -861,11 +862,11 @@ impl PyFrameMotion {
         let (ra, va, aa) = (ops[0].access(plan), ops[1].access(plan), ops[2].access(plan));
         let index = self.indexer(plan);
         let outs = [
-            plan.output(py, &[3]),
-            plan.output(py, &[3]),
-            plan.output(py, &[3]),
-            plan.output(py, &[9, 9]),
-            plan.output(py, &[9, 18]),
+            plan.output(py, &[3])?,
+            plan.output(py, &[3])?,
+            plan.output(py, &[3])?,
+            plan.output(py, &[9, 9])?,
+            plan.output(py, &[9, 18])?,
         ];
         {
             let mut guards: Vec<_> = outs.iter().map(|o| o.readwrite()).collect();

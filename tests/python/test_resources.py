@@ -75,3 +75,14 @@ def test_plot_helpers_refuse_bad_arguments_naming_them(call, error, name):
 
     with pytest.raises(error, match=name):
         call(p)
+
+
+def test_a_broadcast_too_large_for_memory_raises_memory_error_not_a_panic():
+    # (10⁶, 1) against (1, 10⁶) quaternions broadcast to 4·10¹² values (32 TB): numpy's
+    # MemoryError, as numpy itself would raise, never a Rust panic or an abort.
+    a = np.tile([1.0, 0.0, 0.0, 0.0], (10**6, 1, 1))
+    b = np.tile([1.0, 0.0, 0.0, 0.0], (1, 10**6, 1))
+    with pytest.raises(MemoryError):
+        rf.quat_multiply(a, b)
+    with pytest.raises(MemoryError):
+        rf.normal_gravity(np.zeros((10**6, 1)), np.zeros((1, 10**6)))

@@ -335,7 +335,7 @@ fn malformed_files_unknown_keys_and_wrong_types_give_their_line() {
         ),
         (
             "root = \"lab\"\n[[frame]]\nname = \"a\"\nparent = \"lab\"\nkind = \"spin\"\naxis = [0, 0, 1]\nrate = \"fast\"\n",
-            "line 7: invalid type: string \"fast\", expected f64",
+            "line 7: key `rate`: invalid type: string \"fast\", expected f64",
         ),
         (
             "root = \"lab\"\n[[frame]]\nname = \"a\"\nparent = \"b\"\nkind = \"fixed\"\n[[frame]]\nname = \"b\"\nparent = \"a\"\nkind = \"fixed\"\n",

@@ -71,12 +71,12 @@ pub(super) struct RunSlices<'a> {
 }
 
 impl<'py> RunJob<'py> {
-    pub(super) fn new(py: Python<'py>, inputs: &RunInputs<'py>, start: Strapdown, degrees: bool) -> Self {
+    pub(super) fn new(py: Python<'py>, inputs: &RunInputs<'py>, start: Strapdown, degrees: bool) -> PyResult<Self> {
         let n = inputs.plan.n;
-        let outputs =
-            [vec![n], vec![n], vec![n], vec![n, 3], vec![n, 4], vec![n]].map(|dims| PyArrayDyn::<f64>::zeros(py, dims, false));
+        let new = |dims: Vec<usize>| crate::plumbing::memory::new_array(py, dims, true);
+        let outputs = [new(vec![n])?, new(vec![n])?, new(vec![n])?, new(vec![n, 3])?, new(vec![n, 4])?, new(vec![n])?];
         let guards = outputs.iter().map(|o| o.readwrite()).collect();
-        Self { start, scale: crate::plumbing::output::degrees_scale(degrees), outputs, guards }
+        Ok(Self { start, scale: crate::plumbing::output::degrees_scale(degrees), outputs, guards })
     }
 
     pub(super) fn slices(&mut self) -> RunSlices<'_> {

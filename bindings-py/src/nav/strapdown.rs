@@ -215,7 +215,7 @@ impl PyStrapdown {
     ) -> PyResult<PyStrapdownHistory> {
         let inputs = RunInputs::new(dtheta, dv, dt, height_reference)?;
         let mut stepper = self.lock()?;
-        let mut job = RunJob::new(py, &inputs, *stepper, self.degrees);
+        let mut job = RunJob::new(py, &inputs, *stepper, self.degrees)?;
         let progress: Option<Py<PyAny>> = progress.filter(|p| !p.is_none()).map(|p| p.clone().unbind());
         let result = {
             let mut slices = job.slices();
@@ -521,7 +521,7 @@ pub fn run_strapdowns<'py>(
         guards.push(s.lock()?);
     }
     let mut jobs: Vec<RunJob<'py>> =
-        inputs.iter().zip(&guards).zip(&refs).map(|((i, g), s)| RunJob::new(py, i, **g, s.degrees)).collect();
+        inputs.iter().zip(&guards).zip(&refs).map(|((i, g), s)| RunJob::new(py, i, **g, s.degrees)).collect::<PyResult<_>>()?;
     let progress = progress.filter(|p| !p.is_none());
     let access: Vec<Vec<Access<'_>>> = inputs.iter().map(RunInputs::access).collect();
     // Runs go in groups of `threads` (the progress callback needs the GIL between groups).

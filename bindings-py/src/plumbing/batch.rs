@@ -213,14 +213,12 @@ impl<'py, const M: usize> Outputs<'py, M> {
     ) -> PyResult<Self> {
         let dims: [Vec<usize>; M] = core::array::from_fn(|j| [shape, cores[j]].concat());
         let Some(out) = out.filter(|o| !o.is_none()) else {
-            let arrays = dims.map(|d| {
-                if uninit {
-                    // SAFETY: see `uninit`: nothing reads the buffer before it is written.
-                    unsafe { PyArrayDyn::<f64>::new(py, d, false) }
-                } else {
-                    PyArrayDyn::<f64>::zeros(py, d, false)
-                }
-            });
+            // Uninitialised for `uninit`: nothing reads the buffer before it is written.
+            let mut arrays = Vec::with_capacity(M);
+            for d in dims {
+                arrays.push(crate::plumbing::memory::new_array(py, d, !uninit)?);
+            }
+            let arrays: [Bound<'py, PyArrayDyn<f64>>; M] = arrays.try_into().unwrap_or_else(|_| unreachable!("M arrays"));
             return Ok(Self { arrays, given: false });
         };
         let items: Vec<Bound<'py, PyAny>> = if let Ok(t) = out.cast::<PyTuple>() {

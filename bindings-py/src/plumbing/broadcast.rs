@@ -163,13 +163,13 @@ impl<'py> Operand<'py> {
 
     /// Makes the operand readable with a stride of 0 or `core` for the broadcast `shape`:
     /// an operand of a different size than the batch is expanded into a contiguous copy.
-    pub fn prepare(&mut self, plan: &Plan) {
+    pub fn prepare(&mut self, plan: &Plan) -> PyResult<()> {
         let size = self.size();
         if matches!(self.storage, Storage::Scalar(_)) || size == plan.n || size == 1 {
-            return;
+            return Ok(());
         }
         let source = self.data();
-        let mut owned = Vec::with_capacity(plan.n * self.core);
+        let mut owned = crate::plumbing::memory::try_vec(plan.n.saturating_mul(self.core))?;
         for i in 0..plan.n {
             let j = self.source_flat_index(i, plan);
             owned.extend_from_slice(&source[j * self.core..(j + 1) * self.core]);
@@ -177,6 +177,7 @@ impl<'py> Operand<'py> {
         self.storage = Storage::Owned(owned);
         self._region = None;
         self.leading = plan.shape.clone();
+        Ok(())
     }
 
     /// The operand's values as one slice covering the whole batch, when they can be used as
@@ -391,7 +392,7 @@ impl Plan {
         shapes.extend_from_slice(extra);
         let plan = Self::new(&shapes)?;
         for o in operands.iter_mut() {
-            o.prepare(&plan);
+            o.prepare(&plan)?;
         }
         Ok(plan)
     }
@@ -414,10 +415,10 @@ impl Plan {
     }
 
     /// A new zero-filled output array of shape `batch + core`.
-    pub fn output<'py>(&self, py: Python<'py>, core: &[usize]) -> Bound<'py, PyArrayDyn<f64>> {
+    pub fn output<'py>(&self, py: Python<'py>, core: &[usize]) -> PyResult<Bound<'py, PyArrayDyn<f64>>> {
         let mut dims = self.shape.clone();
         dims.extend_from_slice(core);
-        PyArrayDyn::zeros(py, dims, false)
+        crate::plumbing::memory::new_array(py, dims, true)
     }
 }
 

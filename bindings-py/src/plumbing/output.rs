@@ -34,6 +34,7 @@ pub fn put_row_major<R: Dim, C: Dim, S: RawStorage<f64, R, C>>(o: &mut [f64], m:
 
 /// A new C-contiguous float64 array of shape `dims` filled from `values`.
 pub fn array_from<'py>(py: Python<'py>, dims: Vec<usize>, values: &[f64]) -> Bound<'py, PyArrayDyn<f64>> {
+    // As large as `values`, which is already in memory.
     let out = PyArrayDyn::zeros(py, dims, false);
     {
         let mut w = out.readwrite();
@@ -47,6 +48,7 @@ pub fn matrix_out<'py, R: Dim, C: Dim, S: RawStorage<f64, R, C>>(
     py: Python<'py>,
     m: &Matrix<f64, R, C, S>,
 ) -> Bound<'py, PyArrayDyn<f64>> {
+    // As large as `m`, which is already in memory.
     let out = PyArrayDyn::<f64>::zeros(py, vec![m.nrows(), m.ncols()], false);
     {
         let mut w = out.readwrite();

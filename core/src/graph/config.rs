@@ -321,6 +321,16 @@ impl FrameDoc {
     }
 }
 
+/// The bare key assigned on the line of byte `offset` in `text` (`rate` for `rate = "fast"`).
+fn key_at(text: &str, offset: usize) -> Option<&str> {
+    let offset = offset.min(text.len());
+    let start = text[..offset].rfind('\n').map_or(0, |i| i + 1);
+    let end = text[start..].find('\n').map_or(text.len(), |i| start + i);
+    let (key, _) = text[start..end].split_once('=')?;
+    let key = key.trim();
+    (!key.is_empty() && key.chars().all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-')).then_some(key)
+}
+
 /// The 1-based line of byte `offset` in `text`.
 fn line_of(text: &str, offset: usize) -> usize {
     text.as_bytes()[..offset.min(text.len())].iter().filter(|&&b| b == b'\n').count() + 1
@@ -379,9 +389,17 @@ impl FrameGraph {
     /// assert_eq!(e.to_string(), "frame graph file, line 2: frame \"a\": key `rate` does not apply to a fixed frame (keys: rotation, euler_deg, position)");
     /// ```
     pub fn from_toml(text: &str) -> Result<Self, GraphError> {
-        let doc: FileDoc = toml::from_str(text).map_err(|e| GraphError::Config {
-            line: e.span().map(|s| line_of(text, s.start)),
-            message: e.message().trim_end().to_string(),
+        let doc: FileDoc = toml::from_str(text).map_err(|e| {
+            let message = e.message().trim_end();
+            // A value of the wrong type: the parser names the line; the key is on it.
+            let key = e.span().and_then(|s| key_at(text, s.start)).filter(|k| !message.contains(&alloc::format!("`{k}`")));
+            GraphError::Config {
+                line: e.span().map(|s| line_of(text, s.start)),
+                message: match key {
+                    Some(k) => alloc::format!("key `{k}`: {message}"),
+                    None => message.to_string(),
+                },
+            }
         })?;
         let mut graph = FrameGraph::try_new(&doc.root, doc.inertial)
             .map_err(|e| GraphError::Config { line: None, message: alloc::format!("`root`: {e}") })?;
