@@ -11,7 +11,9 @@ use rotaframe::calibrate::{
 };
 use rotaframe::nalgebra::{Matrix3, SMatrix, UnitQuaternion, Vector3};
 
-use crate::status::{Fallible, RF_STATUS_INVALID_ARGUMENT, boundary, disjoint, out, read, region, rf_status, slice, slice_mut};
+use crate::status::{
+    Fallible, RF_STATUS_INVALID_ARGUMENT, boundary, disjoint, distinct_outputs, out, read, region, rf_status, slice, slice_mut,
+};
 use crate::types::{rf_earth_model, rf_quat, rf_vec3};
 
 /// Which parameters a calibration with known attitudes estimates, for `parameters`.
@@ -194,6 +196,10 @@ pub unsafe extern "C" fn rf_calibrate_accelerometers(
         let p = unsafe { slice(positions, count) }?;
         let sigma = unsafe { noise(noise_per_axis) }?;
         attitudes(p.iter().map(|x| &x.attitude))?;
+        distinct_outputs(&[
+            region(out_calibration, 1),
+            region(out_residuals, if out_residuals.is_null() { 0 } else { 3 * count }),
+        ])?;
         let residuals = unsafe { residual_slot(out_residuals, 3 * count, region(positions, count)) }?;
         let o = unsafe { out(out_calibration) }?;
         let positions =
@@ -223,6 +229,10 @@ pub unsafe extern "C" fn rf_calibrate_gyros(
         let r = unsafe { slice(records, count) }?;
         let sigma = unsafe { noise(noise_per_axis) }?;
         attitudes(r.iter().map(|x| &x.attitude))?;
+        distinct_outputs(&[
+            region(out_calibration, 1),
+            region(out_residuals, if out_residuals.is_null() { 0 } else { 3 * count }),
+        ])?;
         let residuals = unsafe { residual_slot(out_residuals, 3 * count, region(records, count)) }?;
         let o = unsafe { out(out_calibration) }?;
         let records = r.iter().map(|x| GyroRecord {
@@ -256,6 +266,7 @@ pub unsafe extern "C" fn rf_calibrate_accelerometers_by_magnitude(
         let s = site(&unsafe { read(calibration_site) }?)?;
         let f = unsafe { slice(specific_force, count) }?;
         let sigma = unsafe { noise(noise_per_axis) }?;
+        distinct_outputs(&[region(out_calibration, 1), region(out_residuals, if out_residuals.is_null() { 0 } else { count })])?;
         let residuals = unsafe { residual_slot(out_residuals, count, region(specific_force, count)) }?;
         let o = unsafe { out(out_calibration) }?;
         let forces = f.iter().map(|&v| Vector3::from(v));

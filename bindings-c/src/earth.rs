@@ -3,7 +3,7 @@
 use rotaframe::earth::{self, EarthModel, Geodetic};
 use rotaframe::nalgebra::{Matrix3, Vector3};
 
-use crate::status::{Fallible, boundary, disjoint, out, read, region, rf_status, slice, slice_mut};
+use crate::status::{Fallible, boundary, disjoint, distinct_outputs, out, read, region, rf_status, slice, slice_mut};
 use crate::types::{rf_earth_model, rf_frame_motion, rf_geodetic, rf_vec3};
 
 /// The validated model behind a C pointer.
@@ -178,6 +178,7 @@ pub unsafe extern "C" fn rf_radii_of_curvature(
 ) -> rf_status {
     boundary(|| {
         let m = unsafe { core_model(model) }?;
+        distinct_outputs(&[region(out_meridian, 1), region(out_prime_vertical, 1)])?;
         let (om, on) = (unsafe { out(out_meridian) }?, unsafe { out(out_prime_vertical) }?);
         let r = earth::radii_of_curvature(&m, latitude)?;
         (*om, *on) = (r.meridian, r.prime_vertical);

@@ -19,8 +19,8 @@ use rotaframe::rotation::EulerZyx;
 use crate::earth::core_model;
 use crate::nav::{rf_imu_error_model, rf_imu_increment, rf_strapdown};
 use crate::status::{
-    Fallible, RF_STATUS_INVALID_ARGUMENT, RF_STATUS_NULL_POINTER, boundary, disjoint, out, read, region, rf_status, slice,
-    slice_mut,
+    Fallible, RF_STATUS_INVALID_ARGUMENT, RF_STATUS_NULL_POINTER, boundary, disjoint, distinct_outputs, out, read, region,
+    rf_status, slice, slice_mut,
 };
 use crate::types::{rf_earth_model, rf_euler, rf_frame_motion, rf_geodetic, rf_point_kinematics, rf_quat, rf_vec3};
 
@@ -51,6 +51,7 @@ pub unsafe extern "C" fn rf_geodetic_to_ecef_jacobian(
         let m = unsafe { core_model(model) }?;
         let p: Geodetic = unsafe { read(position) }?.into();
         let (x, j) = linearise::geodetic_to_ecef_jacobian(&m, &p)?;
+        distinct_outputs(&[region(out_ecef, 1), region(out_jacobian, 9)])?;
         let (o, oj) = (unsafe { out(out_ecef) }?, unsafe { matrix_out(out_jacobian, 9) }?);
         *o = x.into();
         put(oj, &j);
@@ -71,6 +72,7 @@ pub unsafe extern "C" fn rf_ecef_to_geodetic_jacobian(
         let m = unsafe { core_model(model) }?;
         let x: Vector3<f64> = unsafe { read(ecef) }?.into();
         let (g, j) = linearise::ecef_to_geodetic_jacobian(&m, &x)?;
+        distinct_outputs(&[region(out_position, 1), region(out_jacobian, 9)])?;
         let (o, oj) = (unsafe { out(out_position) }?, unsafe { matrix_out(out_jacobian, 9) }?);
         *o = g.into();
         put(oj, &j);
@@ -102,6 +104,7 @@ pub unsafe extern "C" fn rf_normal_gravity_jacobian(
     boundary(|| {
         let m = unsafe { core_model(model) }?;
         let (g, (per_latitude, per_height)) = linearise::normal_gravity_jacobian(&m, latitude, height)?;
+        distinct_outputs(&[region(out_gravity, 1), region(out_gradient, 2)])?;
         let (o, oj) = (unsafe { out(out_gravity) }?, unsafe { matrix_out(out_gradient, 2) }?);
         *o = g;
         oj.copy_from_slice(&[per_latitude, per_height]);
@@ -127,6 +130,7 @@ pub unsafe extern "C" fn rf_gravity_ecef_jacobian(
         } else {
             linearise::gravitation_jacobian(&m, &x)?
         };
+        distinct_outputs(&[region(out_gravity, 1), region(out_jacobian, 9)])?;
         let (o, oj) = (unsafe { out(out_gravity) }?, unsafe { matrix_out(out_jacobian, 9) }?);
         *o = g.into();
         put(oj, &j);
@@ -147,6 +151,7 @@ pub unsafe extern "C" fn rf_quat_from_euler_jacobian(
         let e = EulerZyx::new(a.yaw, a.pitch, a.roll);
         e.validate("angles")?;
         let (q, j) = linearise::quaternion_from_euler_jacobian(&e);
+        distinct_outputs(&[region(out_quat, 1), region(out_jacobian, 9)])?;
         let (o, oj) = (unsafe { out(out_quat) }?, unsafe { matrix_out(out_jacobian, 9) }?);
         *o = (&q).into();
         put(oj, &j);
@@ -165,6 +170,7 @@ pub unsafe extern "C" fn rf_euler_from_quat_jacobian(
     boundary(|| {
         let q = unsafe { read(quat) }?.to_core("quat")?;
         let (e, j) = linearise::euler_from_quaternion_jacobian(&q)?;
+        distinct_outputs(&[region(out_angles, 1), region(out_jacobian, 9)])?;
         let (o, oj) = (unsafe { out(out_angles) }?, unsafe { matrix_out(out_jacobian, 9) }?);
         *o = rf_euler { yaw: e.yaw, pitch: e.pitch, roll: e.roll };
         put(oj, &j);
@@ -183,6 +189,7 @@ pub unsafe extern "C" fn rf_quat_from_rotvec_jacobian(
     boundary(|| {
         let v: Vector3<f64> = unsafe { read(rotvec) }?.into();
         let (q, j) = linearise::quaternion_from_rotation_vector_jacobian(&v)?;
+        distinct_outputs(&[region(out_quat, 1), region(out_jacobian, 9)])?;
         let (o, oj) = (unsafe { out(out_quat) }?, unsafe { matrix_out(out_jacobian, 9) }?);
         *o = (&q).into();
         put(oj, &j);
@@ -201,6 +208,7 @@ pub unsafe extern "C" fn rf_quat_to_rotvec_jacobian(
     boundary(|| {
         let q = unsafe { read(quat) }?.to_core("quat")?;
         let (v, j) = linearise::rotation_vector_from_quaternion_jacobian(&q)?;
+        distinct_outputs(&[region(out_rotvec, 1), region(out_jacobian, 9)])?;
         let (o, oj) = (unsafe { out(out_rotvec) }?, unsafe { matrix_out(out_jacobian, 9) }?);
         *o = v.into();
         put(oj, &j);
@@ -222,6 +230,7 @@ pub unsafe extern "C" fn rf_motion_map_point_jacobian(
         let m = unsafe { read(motion) }?.to_core()?;
         let p: PointKinematics<AnyFrame> = unsafe { read(point) }?.to_core()?;
         let (mapped, jp, jm) = linearise::map_point_jacobian(&m, &p);
+        distinct_outputs(&[region(out_point, 1), region(out_jacobian_point, 81), region(out_jacobian_motion, 162)])?;
         let o = unsafe { out(out_point) }?;
         let (op, om) = (unsafe { matrix_out(out_jacobian_point, 81) }?, unsafe { matrix_out(out_jacobian_motion, 162) }?);
         *o = (&mapped).into();
@@ -244,6 +253,7 @@ pub unsafe extern "C" fn rf_motion_compose_jacobian(
     boundary(|| {
         let (a, b) = (unsafe { read(first) }?.to_core()?, unsafe { read(second) }?.to_core()?);
         let (composed, j1, j2) = linearise::then_jacobian(&a, &b);
+        distinct_outputs(&[region(out_motion, 1), region(out_jacobian_first, 324), region(out_jacobian_second, 324)])?;
         let o = unsafe { out(out_motion) }?;
         let (o1, o2) = (unsafe { matrix_out(out_jacobian_first, 324) }?, unsafe { matrix_out(out_jacobian_second, 324) }?);
         *o = (&composed).into();
@@ -263,6 +273,7 @@ pub unsafe extern "C" fn rf_motion_inverse_jacobian(
     boundary(|| {
         let m = unsafe { read(motion) }?.to_core()?;
         let (inverse, j) = linearise::inverse_jacobian(&m);
+        distinct_outputs(&[region(out_motion, 1), region(out_jacobian, 324)])?;
         let (o, oj) = (unsafe { out(out_motion) }?, unsafe { matrix_out(out_jacobian, 324) }?);
         *o = (&inverse).into();
         put(oj, &j);
@@ -355,6 +366,7 @@ pub unsafe extern "C" fn rf_strapdown_error_model(
         let model = unsafe { error_model_of(errors) }?;
         let (config, state, _) = stepper.parts();
         let times = (&model.accelerometer.markov_time, &model.gyro.markov_time);
+        distinct_outputs(&[region(out_f, states * states), region(out_g, states * 12)])?;
         let (of, og) = (unsafe { matrix_out(out_f, states * states) }?, unsafe { matrix_out(out_g, states * 12) }?);
         if states == 15 {
             let (fm, gm) = inertial::error_model::<15>(&config, &state, &f, &w, times)?;

@@ -6,7 +6,7 @@ use rotaframe::motion::FrameMotion;
 
 use rotaframe::limits::{MAX_ACCELERATION, MAX_ANGULAR_ACCELERATION, MAX_ANGULAR_VELOCITY, MAX_POSITION, MAX_VELOCITY, within};
 
-use crate::status::{boundary, disjoint, out, read, region, rf_status, slice, slice_mut};
+use crate::status::{boundary, disjoint, distinct_outputs, out, read, region, rf_status, slice, slice_mut};
 use crate::types::{rf_apparent_terms, rf_frame_motion, rf_point_kinematics, rf_vec3};
 
 rotaframe::frame!(
@@ -158,7 +158,8 @@ pub unsafe extern "C" fn rf_motion_rates_in_child(
 ) -> rf_status {
     boundary(|| {
         let m = unsafe { read(motion) }?.to_core()?;
-        // SAFETY: the caller guarantees each pointer is NULL or writable.
+        distinct_outputs(&[region(out_angular_velocity, 1), region(out_angular_acceleration, 1)])?;
+        // SAFETY: the caller guarantees each pointer is NULL or writable; they do not overlap.
         let (w, a) = unsafe { (out_angular_velocity.as_mut(), out_angular_acceleration.as_mut()) };
         if w.is_none() && a.is_none() {
             return Err(rf_status::RF_STATUS_NULL_POINTER);

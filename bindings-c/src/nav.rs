@@ -14,8 +14,8 @@ use rotaframe::nav::{
 };
 
 use crate::status::{
-    Fallible, RF_STATUS_INVALID_ARGUMENT, RF_STATUS_NULL_POINTER, boundary, disjoint, out, read, region, rf_status, slice,
-    slice_mut,
+    Fallible, RF_STATUS_INVALID_ARGUMENT, RF_STATUS_NULL_POINTER, boundary, disjoint, distinct_outputs, out, read, region,
+    rf_status, slice, slice_mut,
 };
 use crate::types::{rf_earth_model, rf_frame_motion, rf_geodetic, rf_quat, rf_vec3};
 
@@ -726,6 +726,7 @@ pub unsafe extern "C" fn rf_lever_arm_state(
         let state = unsafe { read(state) }?.to_core()?;
         let rate: Vector3<f64> = unsafe { read(angular_rate) }?.into();
         let lever: Vector3<f64> = unsafe { read(lever_arm) }?.into();
+        distinct_outputs(&[region(out_position, 1), region(out_velocity_ned, 1)])?;
         let out_position = unsafe { out(out_position) }?;
         let out_velocity_ned = unsafe { out(out_velocity_ned) }?;
         let (p, v) = nav::lever_arm_state(&m, &state, &rate, &lever)?;

@@ -180,6 +180,17 @@ pub fn region<T>(p: *const T, n: usize) -> (usize, usize) {
     (start, start.saturating_add(n.saturating_mul(core::mem::size_of::<T>())))
 }
 
+/// `RF_STATUS_OVERLAPPING_BUFFERS` if any two output regions share a byte: checked on the
+/// addresses before the outputs' references are formed (two mutable references to one byte
+/// would be undefined behaviour, whatever the values written).
+#[inline]
+pub fn distinct_outputs(outputs: &[(usize, usize)]) -> Fallible<()> {
+    for (k, &o) in outputs.iter().enumerate() {
+        disjoint(o, &outputs[k + 1..])?;
+    }
+    Ok(())
+}
+
 /// `RF_STATUS_OVERLAPPING_BUFFERS` if the output region overlaps any input region (empty
 /// regions overlap nothing). Call before forming the output slice: array functions never
 /// work in place, and a Rust slice may not alias another.

@@ -181,5 +181,16 @@ int main(void) {
         CHECK(rf_graph_motion_batch(&g, 0, f, times, 5, out) == RF_STATUS_INVALID_ARGUMENT, "an early failure is reported");
         CHECK(still_filled(out, sizeof out, 0xA5), "outputs untouched by an early failure");
     }
+    { /* Two outputs over one address are refused before either is written (two mutable
+         references to one place would be undefined behaviour in the library). */
+        double x = -7.0, jac[9];
+        rf_geodetic here = {0.5, 0.1, 10.0};
+        rf_vec3 ecef;
+        CHECK(rf_radii_of_curvature(&wgs84, 0.5, &x, &x) == RF_STATUS_OVERLAPPING_BUFFERS && x == -7.0, "radii into one double refused");
+        memset(jac, 0xA5, sizeof jac);
+        CHECK(rf_geodetic_to_ecef_jacobian(&wgs84, &here, (rf_vec3 *)&jac[6], jac) == RF_STATUS_OVERLAPPING_BUFFERS, "ECEF inside the Jacobian refused");
+        CHECK(still_filled(jac, sizeof jac, 0xA5), "Jacobian untouched");
+        OK(rf_geodetic_to_ecef_jacobian(&wgs84, &here, &ecef, jac));
+    }
     return check_report("test_hardening");
 }
