@@ -14,7 +14,7 @@ use rotaframe::nalgebra::{Matrix3, SMatrix, UnitQuaternion, Vector3};
 use crate::status::{
     Fallible, RF_STATUS_INVALID_ARGUMENT, boundary, disjoint, distinct_outputs, out, read, region, rf_status, slice, slice_mut,
 };
-use crate::types::{rf_earth_model, rf_quat, rf_vec3};
+use crate::types::{put_row_major, rf_earth_model, rf_quat, rf_vec3};
 
 /// Which parameters a calibration with known attitudes estimates, for `parameters`.
 #[repr(u32)]
@@ -98,9 +98,9 @@ pub struct rf_triad_calibration {
 impl From<&TriadCalibration> for rf_triad_calibration {
     fn from(c: &TriadCalibration) -> Self {
         let mut misalignment = [0.0; 9];
-        misalignment.copy_from_slice(c.misalignment.transpose().as_slice());
+        put_row_major(&mut misalignment, &c.misalignment);
         let mut covariance = [0.0; 144];
-        covariance.copy_from_slice(c.covariance.transpose().as_slice());
+        put_row_major(&mut covariance, &c.covariance);
         Self {
             bias: c.bias.into(),
             scale_factor: c.scale_factor.into(),

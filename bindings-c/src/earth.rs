@@ -1,10 +1,10 @@
 //! Earth models, geodesy, local-level frames, Earth rotation, gravity and field quantities.
 
 use rotaframe::earth::{self, EarthModel, Geodetic};
-use rotaframe::nalgebra::{Matrix3, Vector3};
+use rotaframe::nalgebra::Vector3;
 
 use crate::status::{Fallible, boundary, disjoint, distinct_outputs, out, read, region, rf_status, slice, slice_mut};
-use crate::types::{rf_earth_model, rf_frame_motion, rf_geodetic, rf_vec3};
+use crate::types::{put_row_major, rf_earth_model, rf_frame_motion, rf_geodetic, rf_vec3};
 
 /// The validated model behind a C pointer.
 ///
@@ -13,10 +13,6 @@ use crate::types::{rf_earth_model, rf_frame_motion, rf_geodetic, rf_vec3};
 pub(crate) unsafe fn core_model(m: *const rf_earth_model) -> Fallible<EarthModel> {
     // SAFETY: the caller guarantees validity when non-NULL; read in place, not copied.
     unsafe { m.as_ref() }.ok_or(crate::status::RF_STATUS_NULL_POINTER)?.to_core()
-}
-
-fn write_row_major(m: &Matrix3<f64>, out: &mut [f64]) {
-    out.copy_from_slice(m.transpose().as_slice());
 }
 
 /// Writes the WGS 84 model (NIMA TR8350.2).
@@ -152,7 +148,7 @@ pub unsafe extern "C" fn rf_ecef_to_geodetic_batch(
 pub unsafe extern "C" fn rf_ned_from_ecef(latitude: f64, longitude: f64, out_matrix: *mut f64) -> rf_status {
     boundary(|| {
         let out_matrix = unsafe { slice_mut(out_matrix, 9) }?;
-        write_row_major(&earth::ned_from_ecef(latitude, longitude)?, out_matrix);
+        put_row_major(out_matrix, &earth::ned_from_ecef(latitude, longitude)?);
         Ok(())
     })
 }
@@ -163,7 +159,7 @@ pub unsafe extern "C" fn rf_ned_from_ecef(latitude: f64, longitude: f64, out_mat
 pub unsafe extern "C" fn rf_enu_from_ecef(latitude: f64, longitude: f64, out_matrix: *mut f64) -> rf_status {
     boundary(|| {
         let out_matrix = unsafe { slice_mut(out_matrix, 9) }?;
-        write_row_major(&earth::enu_from_ecef(latitude, longitude)?, out_matrix);
+        put_row_major(out_matrix, &earth::enu_from_ecef(latitude, longitude)?);
         Ok(())
     })
 }

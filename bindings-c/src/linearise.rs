@@ -22,16 +22,9 @@ use crate::status::{
     Fallible, RF_STATUS_INVALID_ARGUMENT, RF_STATUS_NULL_POINTER, boundary, disjoint, distinct_outputs, out, read, region,
     rf_status, slice, slice_mut,
 };
-use crate::types::{rf_earth_model, rf_euler, rf_frame_motion, rf_geodetic, rf_point_kinematics, rf_quat, rf_vec3};
-
-/// Writes a matrix row-major into `o` (`R·C` values).
-fn put<const R: usize, const C: usize>(o: &mut [f64], m: &SMatrix<f64, R, C>) {
-    for i in 0..R {
-        for j in 0..C {
-            o[i * C + j] = m[(i, j)];
-        }
-    }
-}
+use crate::types::{
+    put_row_major, rf_earth_model, rf_euler, rf_frame_motion, rf_geodetic, rf_point_kinematics, rf_quat, rf_vec3,
+};
 
 /// `n` output values at `p`.
 unsafe fn matrix_out<'a>(p: *mut f64, n: usize) -> Fallible<&'a mut [f64]> {
@@ -54,7 +47,7 @@ pub unsafe extern "C" fn rf_geodetic_to_ecef_jacobian(
         distinct_outputs(&[region(out_ecef, 1), region(out_jacobian, 9)])?;
         let (o, oj) = (unsafe { out(out_ecef) }?, unsafe { matrix_out(out_jacobian, 9) }?);
         *o = x.into();
-        put(oj, &j);
+        put_row_major(oj, &j);
         Ok(())
     })
 }
@@ -75,7 +68,7 @@ pub unsafe extern "C" fn rf_ecef_to_geodetic_jacobian(
         distinct_outputs(&[region(out_position, 1), region(out_jacobian, 9)])?;
         let (o, oj) = (unsafe { out(out_position) }?, unsafe { matrix_out(out_jacobian, 9) }?);
         *o = g.into();
-        put(oj, &j);
+        put_row_major(oj, &j);
         Ok(())
     })
 }
@@ -86,7 +79,7 @@ pub unsafe extern "C" fn rf_ecef_to_geodetic_jacobian(
 pub unsafe extern "C" fn rf_local_level_rotation_jacobian(latitude: f64, longitude: f64, out_jacobian: *mut f64) -> rf_status {
     boundary(|| {
         let j = linearise::local_level_rotation_jacobian(latitude, longitude)?;
-        put(unsafe { matrix_out(out_jacobian, 6) }?, &j);
+        put_row_major(unsafe { matrix_out(out_jacobian, 6) }?, &j);
         Ok(())
     })
 }
@@ -133,7 +126,7 @@ pub unsafe extern "C" fn rf_gravity_ecef_jacobian(
         distinct_outputs(&[region(out_gravity, 1), region(out_jacobian, 9)])?;
         let (o, oj) = (unsafe { out(out_gravity) }?, unsafe { matrix_out(out_jacobian, 9) }?);
         *o = g.into();
-        put(oj, &j);
+        put_row_major(oj, &j);
         Ok(())
     })
 }
@@ -154,7 +147,7 @@ pub unsafe extern "C" fn rf_quat_from_euler_jacobian(
         distinct_outputs(&[region(out_quat, 1), region(out_jacobian, 9)])?;
         let (o, oj) = (unsafe { out(out_quat) }?, unsafe { matrix_out(out_jacobian, 9) }?);
         *o = (&q).into();
-        put(oj, &j);
+        put_row_major(oj, &j);
         Ok(())
     })
 }
@@ -173,7 +166,7 @@ pub unsafe extern "C" fn rf_euler_from_quat_jacobian(
         distinct_outputs(&[region(out_angles, 1), region(out_jacobian, 9)])?;
         let (o, oj) = (unsafe { out(out_angles) }?, unsafe { matrix_out(out_jacobian, 9) }?);
         *o = rf_euler { yaw: e.yaw, pitch: e.pitch, roll: e.roll };
-        put(oj, &j);
+        put_row_major(oj, &j);
         Ok(())
     })
 }
@@ -192,7 +185,7 @@ pub unsafe extern "C" fn rf_quat_from_rotvec_jacobian(
         distinct_outputs(&[region(out_quat, 1), region(out_jacobian, 9)])?;
         let (o, oj) = (unsafe { out(out_quat) }?, unsafe { matrix_out(out_jacobian, 9) }?);
         *o = (&q).into();
-        put(oj, &j);
+        put_row_major(oj, &j);
         Ok(())
     })
 }
@@ -211,7 +204,7 @@ pub unsafe extern "C" fn rf_quat_to_rotvec_jacobian(
         distinct_outputs(&[region(out_rotvec, 1), region(out_jacobian, 9)])?;
         let (o, oj) = (unsafe { out(out_rotvec) }?, unsafe { matrix_out(out_jacobian, 9) }?);
         *o = v.into();
-        put(oj, &j);
+        put_row_major(oj, &j);
         Ok(())
     })
 }
@@ -234,8 +227,8 @@ pub unsafe extern "C" fn rf_motion_map_point_jacobian(
         let o = unsafe { out(out_point) }?;
         let (op, om) = (unsafe { matrix_out(out_jacobian_point, 81) }?, unsafe { matrix_out(out_jacobian_motion, 162) }?);
         *o = (&mapped).into();
-        put(op, &jp);
-        put(om, &jm);
+        put_row_major(op, &jp);
+        put_row_major(om, &jm);
         Ok(())
     })
 }
@@ -257,8 +250,8 @@ pub unsafe extern "C" fn rf_motion_compose_jacobian(
         let o = unsafe { out(out_motion) }?;
         let (o1, o2) = (unsafe { matrix_out(out_jacobian_first, 324) }?, unsafe { matrix_out(out_jacobian_second, 324) }?);
         *o = (&composed).into();
-        put(o1, &j1);
-        put(o2, &j2);
+        put_row_major(o1, &j1);
+        put_row_major(o2, &j2);
         Ok(())
     })
 }
@@ -276,7 +269,7 @@ pub unsafe extern "C" fn rf_motion_inverse_jacobian(
         distinct_outputs(&[region(out_motion, 1), region(out_jacobian, 324)])?;
         let (o, oj) = (unsafe { out(out_motion) }?, unsafe { matrix_out(out_jacobian, 324) }?);
         *o = (&inverse).into();
-        put(oj, &j);
+        put_row_major(oj, &j);
         Ok(())
     })
 }
@@ -310,7 +303,7 @@ pub unsafe extern "C" fn rf_apparent_terms_jacobian(
         for (k, m) in
             [j.position, j.velocity, j.origin_acceleration, j.angular_velocity, j.angular_acceleration].iter().enumerate()
         {
-            put(&mut o[9 * k..9 * (k + 1)], m);
+            put_row_major(&mut o[9 * k..9 * (k + 1)], m);
         }
         Ok(())
     })
@@ -370,12 +363,12 @@ pub unsafe extern "C" fn rf_strapdown_error_model(
         let (of, og) = (unsafe { matrix_out(out_f, states * states) }?, unsafe { matrix_out(out_g, states * 12) }?);
         if states == 15 {
             let (fm, gm) = inertial::error_model::<15>(&config, &state, &f, &w, times)?;
-            put(of, &fm);
-            put(og, &gm);
+            put_row_major(of, &fm);
+            put_row_major(og, &gm);
         } else {
             let (fm, gm) = inertial::error_model::<21>(&config, &state, &f, &w, times)?;
-            put(of, &fm);
-            put(og, &gm);
+            put_row_major(of, &fm);
+            put_row_major(og, &gm);
         }
         Ok(())
     })
@@ -448,8 +441,8 @@ unsafe fn discrete(
                     inertial::discretise(&fm, &gm, &q, interval)?
                 };
                 let (op, oq) = (unsafe { matrix_out(out_phi, n2) }?, unsafe { matrix_out(out_qd, n2) }?);
-                put(op, &phi);
-                put(oq, &qd);
+                put_row_major(op, &phi);
+                put_row_major(oq, &qd);
             }};
         }
         if states == 15 {

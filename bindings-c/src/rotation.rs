@@ -5,7 +5,7 @@ use rotaframe::nalgebra::Matrix3;
 use rotaframe::rotation::{self, EulerZyx};
 
 use crate::status::{boundary, out, read, rf_status, slice, slice_mut};
-use crate::types::{rf_euler, rf_quat, rf_vec3};
+use crate::types::{put_row_major, rf_euler, rf_quat, rf_vec3};
 
 /// Body-to-local-level quaternion from z-y-x Euler angles (rad).
 #[unsafe(no_mangle)]
@@ -37,7 +37,7 @@ pub unsafe extern "C" fn rf_quat_to_matrix(quat: *const rf_quat, out_matrix: *mu
     boundary(|| {
         let q = unsafe { read(quat) }?.to_core("quat")?;
         let out_matrix = unsafe { slice_mut(out_matrix, 9) }?;
-        out_matrix.copy_from_slice(rotation::matrix_from_quaternion(&q).transpose().as_slice());
+        put_row_major(out_matrix, &rotation::matrix_from_quaternion(&q));
         Ok(())
     })
 }

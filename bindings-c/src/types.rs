@@ -3,9 +3,21 @@
 use rotaframe::earth::{EarthModel, EarthModelConstants, Geodetic};
 use rotaframe::frames::{AnyFrame, PointKinematics};
 use rotaframe::motion::{FrameMotion, MotionParts};
-use rotaframe::nalgebra::{UnitQuaternion, Vector3};
+use rotaframe::nalgebra::{Dim, Matrix, RawStorage, UnitQuaternion, Vector3};
 
 use crate::status::Fallible;
+
+/// Writes a matrix row-major (C order: `o[i·columns + j] = m[(i, j)]`) into `o`: the one
+/// writer of every matrix output of the C interface.
+#[inline]
+pub(crate) fn put_row_major<R: Dim, C: Dim, S: RawStorage<f64, R, C>>(o: &mut [f64], m: &Matrix<f64, R, C, S>) {
+    let columns = m.ncols();
+    for i in 0..m.nrows() {
+        for j in 0..columns {
+            o[i * columns + j] = m[(i, j)];
+        }
+    }
+}
 
 /// A 3-vector.
 #[repr(C)]

@@ -16,7 +16,7 @@ use crate::nav::sensor::PyImuErrors;
 use crate::plumbing::broadcast::real_array;
 use crate::plumbing::broadcast::single;
 use crate::plumbing::errors::{ShapeError, to_py};
-use crate::plumbing::output::array_from;
+use crate::plumbing::output::{array_from, matrix_out};
 
 /// The rows of a 1-D or 2-D array argument: `(N, width)` as `N` rows (or one row of shape
 /// `(width,)` when `allow_single`).
@@ -178,13 +178,13 @@ impl PyCalibration {
     /// true component j axis i sees).
     #[getter]
     fn misalignment<'py>(&self, py: Python<'py>) -> Bound<'py, PyArrayDyn<f64>> {
-        array_from(py, vec![3, 3], self.inner.misalignment.transpose().as_slice())
+        matrix_out(py, &self.inner.misalignment)
     }
     /// Covariance of the 12 parameters `(12, 12)`, in the order of `parameter_names` (zero
     /// rows and columns for parameters not estimated).
     #[getter]
     fn covariance<'py>(&self, py: Python<'py>) -> Bound<'py, PyArrayDyn<f64>> {
-        array_from(py, vec![12, 12], self.inner.covariance.transpose().as_slice())
+        matrix_out(py, &self.inner.covariance)
     }
     /// The 12 parameters in the order of `parameter_names`, `(12,)`.
     #[getter]

@@ -39,7 +39,7 @@ pub fn put_quaternion(o: &mut [f64], q: &UnitQuaternion<f64>) {
 
 /// Writes a rotation as a row-major 3×3 matrix.
 pub fn put_matrix(o: &mut [f64], q: &UnitQuaternion<f64>) {
-    o.copy_from_slice(rotation::matrix_from_quaternion(q).transpose().as_slice());
+    put_row_major(o, &rotation::matrix_from_quaternion(q));
 }
 
 /// Body-to-local-level quaternions `(..., 4)` from z-y-x (yaw, pitch, roll) Euler angles;

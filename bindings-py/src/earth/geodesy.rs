@@ -219,8 +219,7 @@ fn local_rotation<'py>(
     let ops = [Operand::extract(lat, "lat", &[])?, Operand::extract(lon, "lon", &[])?];
     let (_, [out]) = map_elements(py, ops, &[3, 3], batch, lat_first(degrees), |x, [o]| {
         let m = f(x[0][0] * s, x[1][0] * s)?;
-        // Row-major (C order), matching numpy's `m[..., row, column]`.
-        o.copy_from_slice(m.transpose().as_slice());
+        put_row_major(o, &m);
         Ok(())
     })?;
     Ok(out.into_any())
