@@ -54,7 +54,7 @@ impl From<Error> for rf_status {
             Error::NotPositive { .. } => RF_STATUS_NOT_POSITIVE,
             Error::NearPole { .. } => RF_STATUS_NEAR_POLE,
             Error::NearEarthCentre { .. } => RF_STATUS_NEAR_EARTH_CENTRE,
-            Error::Unobservable { .. } => RF_STATUS_UNOBSERVABLE,
+            Error::Unobservable { .. } | Error::Undetermined { .. } => RF_STATUS_UNOBSERVABLE,
             _ => RF_STATUS_INVALID_ARGUMENT,
         }
     }

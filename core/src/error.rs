@@ -148,6 +148,17 @@ pub enum Error {
         /// Why, and what would help.
         reason: &'static str,
     },
+    /// Data that cannot determine a quantity asked of them (a heading from gyros that cannot
+    /// see the Earth's rotation).
+    #[error("`{quantity}` cannot determine {unknown}: {reason}")]
+    Undetermined {
+        /// The rejected quantity.
+        quantity: &'static str,
+        /// What it cannot determine.
+        unknown: &'static str,
+        /// Why, and what would help.
+        reason: &'static str,
+    },
 }
 
 impl Error {
@@ -171,7 +182,8 @@ impl Error {
             | Error::LengthMismatch { quantity, .. }
             | Error::BeyondLimit { quantity, .. }
             | Error::Invalid { quantity, .. }
-            | Error::Unobservable { quantity, .. } => quantity,
+            | Error::Unobservable { quantity, .. }
+            | Error::Undetermined { quantity, .. } => quantity,
         }
     }
 }
@@ -202,6 +214,7 @@ impl Error {
             Error::BeyondLimit { magnitude, limit, unit, .. } => Error::BeyondLimit { quantity, magnitude, limit, unit },
             Error::Invalid { reason, .. } => Error::Invalid { quantity, reason },
             Error::Unobservable { parameters, reason, .. } => Error::Unobservable { quantity, parameters, reason },
+            Error::Undetermined { unknown, reason, .. } => Error::Undetermined { quantity, unknown, reason },
         }
     }
 }

@@ -72,6 +72,7 @@ mod dd;
 mod dd_tables;
 mod math;
 
+pub mod aided;
 pub mod apparent;
 pub mod calibrate;
 pub mod dispatch;

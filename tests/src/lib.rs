@@ -1,6 +1,7 @@
 //! Shared helpers for rotaframe's integration tests: proptest strategies (one per type),
 //! finite-difference stencils and named tolerances.
 
+pub mod aided;
 pub mod shared;
 pub mod trajectories;
 

@@ -114,7 +114,7 @@ pub fn to_py(error: &Error, context: &str) -> PyErr {
         Error::NearEarthCentre { .. } => NearEarthCentreError::new_err(message),
         Error::OutOfRange { .. } | Error::BeyondLimit { .. } => OutOfRangeError::new_err(message),
         Error::LengthMismatch { .. } => ShapeError::new_err(message),
-        Error::Unobservable { .. } => UnobservableError::new_err(message),
+        Error::Unobservable { .. } | Error::Undetermined { .. } => UnobservableError::new_err(message),
         _ => RotaframeError::new_err(message),
     }
 }

@@ -48,6 +48,7 @@
 //! Every Jacobian is checked against central finite differences of the function itself by
 //! property tests over the whole domain (`tests/tests/jacobians.rs`).
 
+pub mod aiding;
 pub mod inertial;
 
 use nalgebra::{Matrix3, Matrix3x2, SMatrix, UnitQuaternion, Vector3};

@@ -198,6 +198,26 @@ pub struct ImuErrorModel {
     pub accelerometer: SensorErrorModel,
 }
 
+impl ImuErrorModel {
+    /// Checks both triads.
+    ///
+    /// # Errors
+    /// As [`SensorErrorModel::validate`], the field named with its triad (`gyro_bias`,
+    /// `accelerometer_noise_density`, ...).
+    ///
+    /// ```
+    /// use nalgebra::Vector3;
+    /// use rotaframe::nav::{ImuErrorModel, SensorErrorModel};
+    /// let gyro = SensorErrorModel { noise_density: Vector3::repeat(-1.0), ..Default::default() };
+    /// let e = ImuErrorModel { gyro, ..Default::default() }.validate().unwrap_err();
+    /// assert_eq!(e.quantity(), "gyro_noise_density");
+    /// ```
+    pub fn validate(&self) -> Result<()> {
+        self.gyro.validate().map_err(|e| qualify(e, true))?;
+        self.accelerometer.validate().map_err(|e| qualify(e, false))
+    }
+}
+
 /// Applies an [`ImuErrorModel`] to ideal increments, with its own seeded random stream and
 /// Gauss–Markov states. No heap.
 ///

@@ -425,6 +425,85 @@ impl Strapdown {
         }
     }
 
+    /// Replaces the position, velocity and attitude (an external fix, a filter's correction),
+    /// keeping the step memory: the previous increment for the coning and sculling terms,
+    /// the height reference and the elapsed time. On error the stepper is unchanged.
+    ///
+    /// # Errors
+    /// As [`NavState::validate_for`]; [`Error::NearPole`] for the NED form within
+    /// [`POLE_EXCLUSION`](crate::earth::POLE_EXCLUSION) of a pole.
+    ///
+    /// ```
+    /// use nalgebra::Vector3;
+    /// use rotaframe::earth::Geodetic;
+    /// use rotaframe::nav::{ImuIncrement, NavState, Strapdown, StrapdownConfig};
+    /// let start = NavState::new(Geodetic::from_degrees(45.0, 7.0, 200.0), Vector3::zeros(), Default::default());
+    /// let mut ins = Strapdown::new(StrapdownConfig::default(), &start).unwrap();
+    /// ins.step(&ImuIncrement::new(Vector3::zeros(), Vector3::new(0.0, 0.0, -0.098), 0.01)).unwrap();
+    /// ins.set_state(&start).unwrap();
+    /// assert_eq!(ins.state().position, start.position);
+    /// assert!((ins.elapsed() - 0.01).abs() < 1e-15); // the time and the step memory stay
+    /// ```
+    pub fn set_state(&mut self, state: &NavState) -> Result<()> {
+        let memory = self.memory;
+        let mut fresh = Strapdown::new(self.config, state)?;
+        fresh.memory = memory;
+        *self = fresh;
+        Ok(())
+    }
+
+    /// Removes an estimated error from the state, in the mechanization's own error
+    /// coordinates (the [`linearise::inertial`](crate::linearise::inertial) state order, errors
+    /// estimate minus truth): NED form `position_error = (δφ, δλ, δh)` (rad, rad, m), ECEF form
+    /// `δr^e` (m); `velocity_error` in the mechanization's axes (m/s); `attitude_error` the
+    /// parent-side small rotation ψ with `Ĉ = (I + [ψ×]) C` (rad), removed as `C ← exp(−ψ) Ĉ`.
+    /// The step memory is kept. On error the stepper is unchanged.
+    ///
+    /// # Errors
+    /// [`Error::NonFinite`] naming the argument; as [`set_state`](Self::set_state) for the
+    /// corrected state (the NED form's `NearPole`; a position or velocity outside the
+    /// supported ranges).
+    ///
+    /// ```
+    /// use nalgebra::Vector3;
+    /// use rotaframe::earth::Geodetic;
+    /// use rotaframe::nav::{NavState, Strapdown, StrapdownConfig};
+    /// let start = NavState::new(Geodetic::from_degrees(45.0, 7.0, 200.0), Vector3::new(1.0, 0.0, 0.0), Default::default());
+    /// let mut ins = Strapdown::new(StrapdownConfig::default(), &start).unwrap();
+    /// ins.remove_error(&Vector3::new(0.0, 0.0, 2.0), &Vector3::new(0.5, 0.0, 0.0), &Vector3::zeros()).unwrap();
+    /// assert!((ins.state().position.height - 198.0).abs() < 1e-9);
+    /// assert!((ins.state().velocity_ned.x - 0.5).abs() < 1e-12);
+    /// ```
+    pub fn remove_error(
+        &mut self,
+        position_error: &Vector3<f64>,
+        velocity_error: &Vector3<f64>,
+        attitude_error: &Vector3<f64>,
+    ) -> Result<()> {
+        crate::error::ensure_finite3(position_error, "position_error")?;
+        crate::error::ensure_finite3(velocity_error, "velocity_error")?;
+        crate::error::ensure_finite3(attitude_error, "attitude_error")?;
+        let undo = UnitQuaternion::from_scaled_axis(-attitude_error);
+        let state = match self.state {
+            MechanizationState::Ned { position, velocity_ned, attitude } => MechanizationState::Ned {
+                position: Geodetic {
+                    latitude: position.latitude - position_error.x,
+                    longitude: wrap_longitude(position.longitude - position_error.y),
+                    height: position.height - position_error.z,
+                },
+                velocity_ned: velocity_ned - velocity_error,
+                attitude: renormalise(undo * attitude),
+            },
+            MechanizationState::Ecef { position_ecef, velocity_ecef, attitude_ecef } => MechanizationState::Ecef {
+                position_ecef: position_ecef - position_error,
+                velocity_ecef: velocity_ecef - velocity_error,
+                attitude_ecef: renormalise(undo * attitude_ecef),
+            },
+        };
+        *self = Strapdown::from_parts(self.config, state, self.memory)?;
+        Ok(())
+    }
+
     /// Sets the external height reference (ellipsoidal, m) used by the
     /// [`Hold`](VerticalChannel::Hold) and [`Aided`](VerticalChannel::Aided) vertical channels
     /// from the next step on. Ignored by [`Free`](VerticalChannel::Free).

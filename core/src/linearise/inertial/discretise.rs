@@ -148,6 +148,70 @@ fn second_order_body<const N: usize, const W: usize>(
     q.write_symmetric(q_out);
 }
 
+/// `P ← Φ P Φᵀ + Q_d` with the second-order `Φ` and `Q_d` of [`discretise_second_order`] over
+/// `interval`, from a symmetric `P`: `Φ` is sparse (the identity, `F T` and the fill of
+/// `F² T²/2`: about 110 non-zero entries of 225 for the 15-state model), so `Φ P` is one
+/// vectorised row update per non-zero entry, and `Φ (Φ P)ᵀ = Φ P Φᵀ` the same again, instead
+/// of two dense products. The result is made exactly symmetric.
+///
+/// # Errors
+/// As [`discretise`].
+///
+/// ```
+/// use nalgebra::{SMatrix, SVector};
+/// use rotaframe::linearise::inertial::{discretise_second_order, propagate_covariance_second_order};
+/// let f = SMatrix::<f64, 2, 2>::new(0.0, 1.0, 0.0, -0.5);
+/// let g = SMatrix::<f64, 2, 1>::new(0.0, 1.0);
+/// let psd = SVector::<f64, 1>::new(0.2);
+/// let p = SMatrix::<f64, 2, 2>::new(1.0, 0.1, 0.1, 2.0);
+/// let (phi, qd) = discretise_second_order(&f, &g, &psd, 0.01).unwrap();
+/// let dense = phi * p * phi.transpose() + qd;
+/// let sparse = propagate_covariance_second_order(&f, &g, &psd, &p, 0.01).unwrap();
+/// assert!((sparse - dense).amax() < 1e-15);
+/// ```
+#[inline]
+pub fn propagate_covariance_second_order<const N: usize, const M: usize>(
+    f: &SMatrix<f64, N, N>,
+    g: &SMatrix<f64, N, M>,
+    psd: &SVector<f64, M>,
+    p: &SMatrix<f64, N, N>,
+    interval: f64,
+) -> Result<SMatrix<f64, N, N>> {
+    let (phi, q) = discretise_second_order(f, g, psd, interval)?;
+    let mut out = SMatrix::<f64, N, N>::zeros();
+    padded_call!(
+        sandwich_15_fast,
+        sandwich_21_fast,
+        sandwich_body,
+        (phi.as_slice(), p.as_slice(), q.as_slice(), out.as_mut_slice())
+    );
+    crate::error::ensure_finite(out.as_slice(), "p")
+        .map_err(|_| Error::Invalid { quantity: "p", reason: "Φ P Φᵀ overflows f64" })?;
+    Ok(out)
+}
+
+crate::fast_twin!(fn sandwich_15_fast(phi: &[f64], p: &[f64], q: &[f64], out: &mut [f64]) -> () = sandwich_body::<15, 16>);
+crate::fast_twin!(fn sandwich_21_fast(phi: &[f64], p: &[f64], q: &[f64], out: &mut [f64]) -> () = sandwich_body::<21, 24>);
+
+/// `out = Φ P Φᵀ + Q` (all column-major; `P` and `Q` symmetric) by two sparse left products.
+#[inline(always)]
+fn sandwich_body<const N: usize, const W: usize>(phi: &[f64], p: &[f64], q: &[f64], out: &mut [f64]) {
+    let pattern = RowPattern::<N>::of(phi);
+    let rows = Rows::<N, W>::from_columns(p, 1.0);
+    let mut left = Rows::<N, W>::zeros();
+    left_product(&pattern, &rows, 1.0, &mut left);
+    let mut transposed = Rows::<N, W>::zeros();
+    transpose_blocks(&left, &mut transposed, false);
+    left_product(&pattern, &transposed, 1.0, &mut left);
+    // `left` is Φ P Φᵀ by rows; add Q and write the mean of each mirrored pair.
+    for j in 0..N {
+        for i in 0..N {
+            let value = 0.5 * (left.0[i][j] + left.0[j][i]) + q[j * N + i];
+            out[j * N + i] = value;
+        }
+    }
+}
+
 /// The checks of [`discretise`]: the interval, finite `F`, `G`, densities, none negative.
 fn check_discretisation<const N: usize, const M: usize>(
     f: &SMatrix<f64, N, N>,
@@ -590,7 +654,7 @@ pub(super) fn noise_covariance<const N: usize, const M: usize>(
 }
 
 /// Makes `p` exactly symmetric: each pair of off-diagonal entries becomes its mean.
-pub(super) fn symmetrise<const N: usize>(p: &mut SMatrix<f64, N, N>) {
+pub(crate) fn symmetrise<const N: usize>(p: &mut SMatrix<f64, N, N>) {
     for i in 0..N {
         for j in 0..i {
             let m = 0.5 * (p[(i, j)] + p[(j, i)]);

@@ -1,0 +1,285 @@
+//! A seeded Monte Carlo harness for the aided navigator: the manoeuvring trajectory of
+//! [`trajectories`](crate::trajectories) flown with an invented tactical-grade IMU and 1 Hz
+//! GNSS position and velocity fixes at a lever arm, the filter's errors measured against the
+//! truth. The antenna's true position and velocity come from the frame machinery
+//! (`FrameMotion::map_point`), not from the filter's lever-arm models.
+
+use nalgebra::{SMatrix, SVector, UnitQuaternion, Vector3};
+use rotaframe::aided::{AidedFilter, FilterSettings, Measurement};
+use rotaframe::earth::{Geodetic, GravityModel, WGS84, ecef_to_geodetic, ned_from_ecef};
+use rotaframe::frames::PointKinematics;
+use rotaframe::nalgebra;
+use rotaframe::nav::{
+    ImuErrorGenerator, ImuErrorModel, ImuIncrement, NavState, SensorErrorModel, Strapdown, StrapdownConfig, imu_increments,
+};
+
+use crate::Seeded;
+use crate::trajectories::Manoeuvres;
+
+/// IMU rate (Hz) and run length (s).
+pub const RATE: f64 = 50.0;
+/// Run length (s).
+pub const DURATION: f64 = 240.0;
+/// GNSS antenna lever arm (m, body axes).
+pub const LEVER_ARM: [f64; 3] = [1.2, 0.3, -0.8];
+/// GNSS position 1σ north, east, down (m) and velocity 1σ (m/s).
+pub const POSITION_SIGMA: [f64; 3] = [1.0, 1.0, 2.0];
+/// GNSS velocity 1σ per axis (m/s).
+pub const VELOCITY_SIGMA: f64 = 0.05;
+
+/// An invented tactical-grade IMU: 0.1 deg/√h angle random walk, a 1 deg/h random-constant
+/// gyro bias, 0.05 m/s/√h velocity random walk, a 0.5 mg Gauss–Markov accelerometer bias of
+/// 10 minutes.
+#[must_use]
+pub fn tactical_imu() -> ImuErrorModel {
+    ImuErrorModel {
+        gyro: SensorErrorModel {
+            noise_density: Vector3::repeat(0.1_f64.to_radians() / 60.0),
+            markov_sigma: Vector3::repeat(1.0_f64.to_radians() / 3600.0),
+            ..SensorErrorModel::default()
+        },
+        accelerometer: SensorErrorModel {
+            noise_density: Vector3::repeat(0.05 / 60.0),
+            markov_sigma: Vector3::repeat(5e-3),
+            markov_time: Vector3::repeat(600.0),
+            ..SensorErrorModel::default()
+        },
+    }
+}
+
+/// The initial 1σ of the navigation states (rad, rad, m; m/s; rad), at the trajectory's
+/// start.
+#[must_use]
+pub fn initial_sigma(start: &Geodetic) -> [f64; 9] {
+    let r = 6.378e6;
+    [3.0 / r, 3.0 / (r * start.latitude.cos()), 3.0, 0.1, 0.1, 0.1, 1e-3, 1e-3, 5e-3]
+}
+
+/// The initial covariance: [`initial_sigma`] and the bias variances of `imu`.
+#[must_use]
+pub fn initial_covariance(start: &Geodetic, imu: &ImuErrorModel) -> SMatrix<f64, 15, 15> {
+    let mut p = rotaframe::linearise::inertial::bias_covariance::<15>(imu);
+    for (i, s) in initial_sigma(start).iter().enumerate() {
+        p[(i, i)] = s * s;
+    }
+    p
+}
+
+/// The trajectory, its ideal increments and the truth at every IMU time.
+#[allow(missing_debug_implementations)]
+pub struct Flight {
+    /// The trajectory.
+    pub trajectory: Manoeuvres,
+    /// Ideal increments at [`RATE`].
+    pub increments: Vec<ImuIncrement>,
+    /// True states at the IMU times (one more than the increments).
+    pub truth: Vec<NavState>,
+}
+
+impl Flight {
+    /// The standard manoeuvring flight over [`DURATION`].
+    #[must_use]
+    pub fn standard() -> Self {
+        let trajectory = Manoeuvres::standard(WGS84);
+        let times: Vec<f64> = (0..=(DURATION * RATE) as usize).map(|k| k as f64 / RATE).collect();
+        let increments = imu_increments(&WGS84, GravityModel::Normal, |t| trajectory.relative_to_inertial(t), &times)
+            .collect::<Result<Vec<_>, _>>()
+            .unwrap();
+        let truth = times.iter().map(|&t| trajectory.truth(t).unwrap()).collect();
+        Self { trajectory, increments, truth }
+    }
+
+    /// The antenna's true geodetic position and NED velocity at time `t`.
+    #[must_use]
+    pub fn antenna(&self, t: f64) -> (Geodetic, Vector3<f64>) {
+        let body = self.trajectory.relative_to_earth(t).unwrap();
+        let arm = PointKinematics::new(Vector3::from(LEVER_ARM), Vector3::zeros(), Vector3::zeros());
+        let point = body.map_point(&arm);
+        let position = ecef_to_geodetic(&WGS84, &point.position).unwrap();
+        let c_en = ned_from_ecef(position.latitude, position.longitude).unwrap();
+        (position, c_en * point.velocity)
+    }
+}
+
+/// A standard normal draw (Box–Muller on [`Seeded`]).
+pub fn normal(rng: &mut Seeded) -> f64 {
+    let u = rng.next_unit().max(1e-300);
+    let v = rng.next_unit();
+    (-2.0 * u.ln()).sqrt() * (std::f64::consts::TAU * v).cos()
+}
+
+/// The navigation error (estimate minus truth) in the 15-state order's first nine states.
+#[must_use]
+pub fn nav_error(estimate: &NavState, truth: &NavState) -> SVector<f64, 9> {
+    let psi = (estimate.attitude * truth.attitude.inverse()).scaled_axis();
+    let dv = estimate.velocity_ned - truth.velocity_ned;
+    let (a, b) = (&estimate.position, &truth.position);
+    SVector::<f64, 9>::from_column_slice(&[
+        a.latitude - b.latitude,
+        a.longitude - b.longitude,
+        a.height - b.height,
+        dv.x,
+        dv.y,
+        dv.z,
+        psi.x,
+        psi.y,
+        psi.z,
+    ])
+}
+
+/// What one run measured: the NEES of the nine navigation states after each GNSS epoch's
+/// updates, and the NIS of every accepted position and velocity innovation.
+#[derive(Debug, Default, Clone)]
+pub struct RunStatistics {
+    /// NEES per GNSS epoch.
+    pub nees: Vec<f64>,
+    /// NIS of accepted position fixes.
+    pub position_nis: Vec<f64>,
+    /// NIS of accepted velocity fixes.
+    pub velocity_nis: Vec<f64>,
+    /// Rejected measurements.
+    pub rejected: usize,
+}
+
+/// One seeded run: the filter with `filter_imu` as its process noise flies the flight with
+/// sensors corrupted by [`tactical_imu`] (the initial covariance is always that of the true
+/// sensors: a change of `filter_imu` changes only `Q`).
+#[must_use]
+pub fn run_once(flight: &Flight, seed: u64, filter_imu: &ImuErrorModel) -> RunStatistics {
+    let truth_imu = tactical_imu();
+    let mut sensors = ImuErrorGenerator::new(truth_imu, 0xa1d_0000 + seed).unwrap();
+    let mut rng = Seeded(0x9a55_0000 + seed);
+    let start = flight.truth[0];
+    let sigma = initial_sigma(&start.position);
+    let d: Vec<f64> = sigma.iter().map(|s| s * normal(&mut rng)).collect();
+    let psi = Vector3::new(d[6], d[7], d[8]);
+    let initial = NavState::new(
+        Geodetic {
+            latitude: start.position.latitude + d[0],
+            longitude: start.position.longitude + d[1],
+            height: start.position.height + d[2],
+        },
+        start.velocity_ned + Vector3::new(d[3], d[4], d[5]),
+        UnitQuaternion::from_scaled_axis(psi) * start.attitude,
+    );
+    let ins = Strapdown::new(StrapdownConfig::default(), &initial).unwrap();
+    let p0 = initial_covariance(&start.position, &truth_imu);
+    let mut filter = AidedFilter::<15>::new(ins, filter_imu, &p0, FilterSettings::default()).unwrap();
+    let mut stats = RunStatistics::default();
+    let every = RATE as usize;
+    for (k, increment) in flight.increments.iter().enumerate() {
+        filter.predict(&sensors.corrupt(increment).unwrap()).unwrap();
+        if (k + 1) % every != 0 {
+            continue;
+        }
+        let t = (k + 1) as f64 / RATE;
+        let (antenna, velocity) = flight.antenna(t);
+        let radii = rotaframe::earth::radii_of_curvature(&WGS84, antenna.latitude).unwrap();
+        let noise = Vector3::from_fn(|i, _| POSITION_SIGMA[i] * normal(&mut rng));
+        let measured = Geodetic {
+            latitude: antenna.latitude + noise.x / (radii.meridian + antenna.height),
+            longitude: antenna.longitude + noise.y / ((radii.prime_vertical + antenna.height) * antenna.latitude.cos()),
+            height: antenna.height - noise.z,
+        };
+        let fix = Measurement::Position {
+            position: measured,
+            sigma_ned: Vector3::from(POSITION_SIGMA),
+            lever_arm: Vector3::from(LEVER_ARM),
+        };
+        let report = filter.update(&fix).unwrap();
+        if report.accepted {
+            stats.position_nis.push(report.nis);
+        } else {
+            stats.rejected += 1;
+        }
+        let v_noise = Vector3::from_fn(|_, _| VELOCITY_SIGMA * normal(&mut rng));
+        let fix = Measurement::Velocity {
+            velocity_ned: velocity + v_noise,
+            sigma_ned: Vector3::repeat(VELOCITY_SIGMA),
+            lever_arm: Vector3::from(LEVER_ARM),
+        };
+        let report = filter.update(&fix).unwrap();
+        if report.accepted {
+            stats.velocity_nis.push(report.nis);
+        } else {
+            stats.rejected += 1;
+        }
+        let error = nav_error(&filter.state(), &flight.truth[k + 1]);
+        let p = filter.covariance().fixed_view::<9, 9>(0, 0).into_owned();
+        let nees = error.dot(&(p.try_inverse().unwrap() * error));
+        stats.nees.push(nees);
+    }
+    stats
+}
+
+/// Runs seeds `0..runs` on two threads.
+#[must_use]
+pub fn monte_carlo(flight: &Flight, runs: u64, filter_imu: &ImuErrorModel) -> Vec<RunStatistics> {
+    let half = runs / 2;
+    std::thread::scope(|scope| {
+        let a = scope.spawn(|| (0..half).map(|s| run_once(flight, s, filter_imu)).collect::<Vec<_>>());
+        let b: Vec<_> = (half..runs).map(|s| run_once(flight, s, filter_imu)).collect();
+        let mut all = a.join().unwrap();
+        all.extend(b);
+        all
+    })
+}
+
+/// The chi-square distribution function with `k` degrees of freedom by the regularised lower
+/// incomplete gamma function (its series; A&S 6.5.29), for the bands of the tests.
+#[must_use]
+pub fn chi_square_cdf(x: f64, k: f64) -> f64 {
+    let (a, z) = (0.5 * k, 0.5 * x);
+    if z <= 0.0 {
+        return 0.0;
+    }
+    let mut term = 1.0 / a;
+    let mut sum = term;
+    for n in 1..2000 {
+        term *= z / (a + f64::from(n));
+        sum += term;
+        if term < sum * 1e-17 {
+            break;
+        }
+    }
+    (sum.ln() + a * z.ln() - z - ln_gamma(a)).exp()
+}
+
+/// `ln Γ(a)` for `a` a positive multiple of ½ (exact recurrences).
+fn ln_gamma(a: f64) -> f64 {
+    let mut x = a;
+    let mut acc = 0.0;
+    while x > 1.0 {
+        x -= 1.0;
+        acc += x.ln();
+    }
+    if (x - 0.5).abs() < 1e-12 { acc + 0.5 * std::f64::consts::PI.ln() } else { acc }
+}
+
+/// The mean and variance of a chi-square of `k` degrees of freedom truncated at `gate`
+/// (`P(χ² ≤ gate)` of the mass kept), by Simpson's rule on its density.
+#[must_use]
+pub fn truncated_chi_square_moments(k: f64, gate: f64) -> (f64, f64) {
+    let density = |x: f64| {
+        if x <= 0.0 { 0.0 } else { ((0.5 * k - 1.0) * x.ln() - 0.5 * x - 0.5 * k * 2f64.ln() - ln_gamma(0.5 * k)).exp() }
+    };
+    let n = 20_000;
+    let h = gate / n as f64;
+    let (mut m0, mut m1, mut m2) = (0.0, 0.0, 0.0);
+    for i in 0..=n {
+        let x = i as f64 * h;
+        let w = if i == 0 || i == n {
+            1.0
+        } else if i % 2 == 1 {
+            4.0
+        } else {
+            2.0
+        };
+        let f = density(x.max(1e-300)) * w;
+        m0 += f;
+        m1 += f * x;
+        m2 += f * x * x;
+    }
+    let mean = m1 / m0;
+    (mean, m2 / m0 - mean * mean)
+}
