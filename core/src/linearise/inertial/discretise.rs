@@ -149,13 +149,13 @@ fn second_order_body<const N: usize, const W: usize>(
 }
 
 /// `P ← Φ P Φᵀ + Q_d` with the second-order `Φ` and `Q_d` of [`discretise_second_order`] over
-/// `interval`, from a symmetric `P`: `Φ` is sparse (the identity, `F T` and the fill of
-/// `F² T²/2`: about 110 non-zero entries of 225 for the 15-state model), so `Φ P` is one
-/// vectorised row update per non-zero entry, and `Φ (Φ P)ᵀ = Φ P Φᵀ` the same again, instead
-/// of two dense products. The result is made exactly symmetric.
+/// `interval`, from a symmetric `P`, in one pass on the stack: `F` and `Φ = I + F T + F² T²/2`
+/// are sparse (about 53 and 110 non-zero entries of 225 for the 15-state model), so `F²`,
+/// `Φ P`, `Φ (Φ P)ᵀ = Φ P Φᵀ` and `F Q_c` are each one vectorised row update per non-zero
+/// entry, instead of dense products. The result is made exactly symmetric.
 ///
 /// # Errors
-/// As [`discretise`].
+/// As [`discretise`]; [`Error::Invalid`] naming `p` if the result overflows.
 ///
 /// ```
 /// use nalgebra::{SMatrix, SVector};
@@ -177,37 +177,99 @@ pub fn propagate_covariance_second_order<const N: usize, const M: usize>(
     p: &SMatrix<f64, N, N>,
     interval: f64,
 ) -> Result<SMatrix<f64, N, N>> {
-    let (phi, q) = discretise_second_order(f, g, psd, interval)?;
+    check_discretisation(f, g, psd, interval)?;
     let mut out = SMatrix::<f64, N, N>::zeros();
     padded_call!(
-        sandwich_15_fast,
-        sandwich_21_fast,
-        sandwich_body,
-        (phi.as_slice(), p.as_slice(), q.as_slice(), out.as_mut_slice())
+        covariance_step_15_fast,
+        covariance_step_21_fast,
+        covariance_step_body,
+        (f.as_slice(), g.as_slice(), psd.as_slice(), interval, p.as_slice(), out.as_mut_slice())
     );
     crate::error::ensure_finite(out.as_slice(), "p")
-        .map_err(|_| Error::Invalid { quantity: "p", reason: "Φ P Φᵀ overflows f64" })?;
+        .map_err(|_| Error::Invalid { quantity: "p", reason: "Φ P Φᵀ + Q_d overflows f64" })?;
     Ok(out)
 }
 
-crate::fast_twin!(fn sandwich_15_fast(phi: &[f64], p: &[f64], q: &[f64], out: &mut [f64]) -> () = sandwich_body::<15, 16>);
-crate::fast_twin!(fn sandwich_21_fast(phi: &[f64], p: &[f64], q: &[f64], out: &mut [f64]) -> () = sandwich_body::<21, 24>);
+crate::fast_twin!(fn covariance_step_15_fast(f: &[f64], g: &[f64], psd: &[f64], t: f64, p: &[f64], out: &mut [f64]) -> () = covariance_step_body::<15, 16>);
+crate::fast_twin!(fn covariance_step_21_fast(f: &[f64], g: &[f64], psd: &[f64], t: f64, p: &[f64], out: &mut [f64]) -> () = covariance_step_body::<21, 24>);
 
-/// `out = Φ P Φᵀ + Q` (all column-major; `P` and `Q` symmetric) by two sparse left products.
+/// Dense rows padded to `W` lanes.
+type PaddedRows<const N: usize, const W: usize> = [[f64; W]; N];
+
+/// `out = A X` by rows, one vectorised row update per non-zero entry of `A` (the zero test is
+/// a branch that follows the same pattern on every call of a filter, so the predictor learns
+/// it; cheaper than building a list of the non-zero entries each time).
 #[inline(always)]
-fn sandwich_body<const N: usize, const W: usize>(phi: &[f64], p: &[f64], q: &[f64], out: &mut [f64]) {
-    let pattern = RowPattern::<N>::of(phi);
-    let rows = Rows::<N, W>::from_columns(p, 1.0);
-    let mut left = Rows::<N, W>::zeros();
-    left_product(&pattern, &rows, 1.0, &mut left);
-    let mut transposed = Rows::<N, W>::zeros();
-    transpose_blocks(&left, &mut transposed, false);
-    left_product(&pattern, &transposed, 1.0, &mut left);
-    // `left` is Φ P Φᵀ by rows; add Q and write the mean of each mirrored pair.
+fn sparse_product<const N: usize, const W: usize>(a: &PaddedRows<N, W>, x: &PaddedRows<N, W>, out: &mut PaddedRows<N, W>) {
+    for (row_out, a_row) in out.iter_mut().zip(a) {
+        let mut row = [0.0f64; W];
+        for (&value, x_row) in a_row[..N].iter().zip(x) {
+            if value != 0.0 {
+                for (r, v) in row.iter_mut().zip(x_row) {
+                    *r += value * v;
+                }
+            }
+        }
+        *row_out = row;
+    }
+}
+
+/// The fused second-order covariance step (see [`propagate_covariance_second_order`]); all
+/// matrices column-major, `P` symmetric (its columns are its rows).
+#[inline(always)]
+fn covariance_step_body<const N: usize, const W: usize>(f: &[f64], g: &[f64], psd: &[f64], t: f64, p: &[f64], out: &mut [f64]) {
+    let mut f_rows: PaddedRows<N, W> = [[0.0; W]; N];
+    for (j, column) in f.chunks_exact(N).enumerate() {
+        for (i, &x) in column.iter().enumerate() {
+            f_rows[i][j] = x;
+        }
+    }
+    // Φ = I + F T + F² T²/2, by rows.
+    let mut phi: PaddedRows<N, W> = [[0.0; W]; N];
+    sparse_product(&f_rows, &f_rows, &mut phi);
+    let half_t2 = 0.5 * t * t;
+    for (i, (row, f_row)) in phi.iter_mut().zip(&f_rows).enumerate() {
+        for (r, &x) in row.iter_mut().zip(f_row) {
+            *r = *r * half_t2 + x * t;
+        }
+        row[i] += 1.0;
+    }
+    let mut p_rows: PaddedRows<N, W> = [[0.0; W]; N];
+    for (row, column) in p_rows.iter_mut().zip(p.chunks_exact(N)) {
+        row[..N].copy_from_slice(column);
+    }
+    // Φ P, its transpose P Φᵀ, and Φ P Φᵀ.
+    let mut left: PaddedRows<N, W> = [[0.0; W]; N];
+    sparse_product(&phi, &p_rows, &mut left);
+    for i in 0..N {
+        for j in 0..N {
+            p_rows[j][i] = left[i][j];
+        }
+    }
+    // Φ (P Φᵀ): only the lower triangle is kept (row i up to column i, in whole lanes of
+    // four), then mirrored, so the result is exactly symmetric.
+    for (i, (row_out, phi_row)) in left.iter_mut().zip(&phi).enumerate() {
+        let mut row = [0.0f64; W];
+        let used = ((i / 4 + 1) * 4).min(W);
+        for (&value, x_row) in phi_row[..N].iter().zip(&p_rows) {
+            if value != 0.0 {
+                for (r, v) in row[..used].iter_mut().zip(x_row) {
+                    *r += value * v;
+                }
+            }
+        }
+        *row_out = row;
+    }
+    // Q_d = Q_c T + (F Q_c + Q_c Fᵀ) T²/2.
+    let mut qc: PaddedRows<N, W> = [[0.0; W]; N];
+    noise_entries::<N>(g, psd, |i, j, v| qc[i][j] += v);
+    let mut fq: PaddedRows<N, W> = [[0.0; W]; N];
+    sparse_product(&f_rows, &qc, &mut fq);
     for j in 0..N {
-        for i in 0..N {
-            let value = 0.5 * (left.0[i][j] + left.0[j][i]) + q[j * N + i];
+        for i in j..N {
+            let value = left[i][j] + qc[i][j] * t + (fq[i][j] + fq[j][i]) * half_t2;
             out[j * N + i] = value;
+            out[i * N + j] = value;
         }
     }
 }
