@@ -36,6 +36,11 @@
 #include <stdint.h>
 
 /**
+ * 64-bit words of `rf_aided_nav`.
+ */
+#define RF_AIDED_NAV_WORDS 713
+
+/**
  * The most cluster sizes one `rf_allan_deviation` call takes (the octaves of any record fit).
  */
 #define RF_MAX_CLUSTER_SIZES 64
@@ -423,27 +428,49 @@ typedef struct rf_earth_model {
 } rf_earth_model;
 
 /**
- * Where a calibration test runs. All-zero is WGS 84, normal gravity, on the equator at zero
- * height.
+ * Settings of a strapdown stepper. Zero-initialised (`= {0}`) it is a NED mechanization
+ * with normal gravity, a free vertical channel and (the all-zero `earth`) WGS 84.
  */
-typedef struct rf_calibration_site {
+typedef struct rf_strapdown_config {
   /**
    * The Earth model.
    */
-  struct rf_earth_model model;
+  struct rf_earth_model earth;
   /**
-   * An `rf_gravity_model` value (for the accelerometers' reference).
+   * An `rf_gravity_model` value.
    */
   uint32_t gravity;
   /**
-   * Geodetic latitude (rad).
+   * An `rf_vertical_channel` value.
    */
-  double latitude;
+  uint32_t vertical;
   /**
-   * Ellipsoidal height (m).
+   * An `rf_nav_frame` value.
    */
-  double height;
-} rf_calibration_site;
+  uint32_t frame;
+  /**
+   * Loop time constant (s) for `RF_VERTICAL_AIDED`; ignored otherwise.
+   */
+  double height_time_constant;
+} rf_strapdown_config;
+
+/**
+ * A 3-vector.
+ */
+typedef struct rf_vec3 {
+  /**
+   * First component.
+   */
+  double x;
+  /**
+   * Second component.
+   */
+  double y;
+  /**
+   * Third component.
+   */
+  double z;
+} rf_vec3;
 
 /**
  * A Hamilton quaternion, scalar first.
@@ -468,22 +495,212 @@ typedef struct rf_quat {
 } rf_quat;
 
 /**
- * A 3-vector.
+ * The output of an integrating IMU over one interval.
  */
-typedef struct rf_vec3 {
+typedef struct rf_imu_increment {
   /**
-   * First component.
+   * Integral of the angular rate over the interval, in body axes (rad).
    */
-  double x;
+  struct rf_vec3 delta_angle;
   /**
-   * Second component.
+   * Integral of the specific force over the interval, in body axes (m/s).
    */
-  double y;
+  struct rf_vec3 delta_velocity;
   /**
-   * Third component.
+   * Interval length (s), positive.
    */
-  double z;
-} rf_vec3;
+  double interval;
+} rf_imu_increment;
+
+/**
+ * The complete state of a strapdown stepper, as plain data. Create it with
+ * `rf_strapdown_init`; advance it with `rf_strapdown_step`; read it with `rf_strapdown_state`.
+ * The mechanization's own coordinates are kept: for NED `position` is (latitude, longitude,
+ * height), `velocity` the NED velocity and `attitude` body-to-NED; for ECEF `position` and
+ * `velocity` are ECEF vectors and `attitude` body-to-ECEF.
+ */
+typedef struct rf_strapdown {
+  /**
+   * Settings.
+   */
+  struct rf_strapdown_config config;
+  /**
+   * Position in the mechanization's coordinates.
+   */
+  struct rf_vec3 position;
+  /**
+   * Velocity relative to the Earth in the mechanization's axes (m/s).
+   */
+  struct rf_vec3 velocity;
+  /**
+   * Attitude: body to the mechanization's axes.
+   */
+  struct rf_quat attitude;
+  /**
+   * The previous step's increment, used for coning and sculling when `has_previous` is 1.
+   */
+  struct rf_imu_increment previous;
+  /**
+   * 1 if `previous` holds the previous step's increment, else 0.
+   */
+  uint32_t has_previous;
+  /**
+   * External ellipsoidal height reference (m) for the hold and aided vertical channels.
+   */
+  double height_reference;
+  /**
+   * Time since the initial state (s), rounded; `rf_strapdown_state` users add
+   * `elapsed_correction` for the exact sum.
+   */
+  double elapsed;
+  /**
+   * Rounding error of `elapsed` (s), carried by compensated summation.
+   */
+  double elapsed_correction;
+} rf_strapdown;
+
+/**
+ * Error model of one sensor triad (gyro units rad/s, accelerometer units m/s²).
+ * Zero-initialised (`= {0}`) it is a perfect sensor: no bias, scale or misalignment error, no
+ * noise and no Gauss–Markov process.
+ */
+typedef struct rf_sensor_errors {
+  /**
+   * Fixed bias per axis.
+   */
+  struct rf_vec3 bias;
+  /**
+   * Scale-factor error per axis (dimensionless).
+   */
+  struct rf_vec3 scale_factor;
+  /**
+   * Misalignment matrix, row-major, zero diagonal (dimensionless).
+   */
+  double misalignment[9];
+  /**
+   * White-noise density per axis (rad/√s or m/s/√s; see `rf_angle_random_walk_si`).
+   */
+  struct rf_vec3 noise_density;
+  /**
+   * Gauss–Markov bias steady-state standard deviation per axis.
+   */
+  struct rf_vec3 markov_sigma;
+  /**
+   * Gauss–Markov correlation time per axis (s); positive, INFINITY for a random constant, or
+   * 0 (with `markov_sigma` 0) for no Gauss–Markov process.
+   */
+  struct rf_vec3 markov_time;
+} rf_sensor_errors;
+
+/**
+ * Error models of both triads. Zero-initialised it is a perfect IMU.
+ */
+typedef struct rf_imu_error_model {
+  /**
+   * Gyro triad.
+   */
+  struct rf_sensor_errors gyro;
+  /**
+   * Accelerometer triad.
+   */
+  struct rf_sensor_errors accelerometer;
+} rf_imu_error_model;
+
+/**
+ * Caller-owned storage for an aided navigator (opaque: only `rf_aided_init` fills it; copy
+ * it freely; 5,704 bytes, aligned to 8). See `rf_aided_init`.
+ */
+typedef struct rf_aided_nav {
+  /**
+   * Opaque contents.
+   */
+  uint64_t storage[RF_AIDED_NAV_WORDS];
+} rf_aided_nav;
+
+/**
+ * Geodetic latitude and longitude (rad) and ellipsoidal height (m).
+ */
+typedef struct rf_geodetic {
+  /**
+   * Geodetic latitude (rad), in [−π/2, π/2].
+   */
+  double latitude;
+  /**
+   * Longitude (rad), east positive.
+   */
+  double longitude;
+  /**
+   * Ellipsoidal height (m), positive above the ellipsoid.
+   */
+  double height;
+} rf_geodetic;
+
+/**
+ * What one measurement update found.
+ */
+typedef struct rf_aided_report {
+  /**
+   * Rows used (1 to 3).
+   */
+  uint32_t rows;
+  /**
+   * 1 if the measurement passed the gate and was applied, else 0.
+   */
+  uint32_t accepted;
+  /**
+   * Innovation `z − ẑ` (position in NED metres); zero beyond `rows`.
+   */
+  struct rf_vec3 innovation;
+  /**
+   * Square roots of the diagonal of the innovation covariance.
+   */
+  struct rf_vec3 std;
+  /**
+   * Normalised innovation squared.
+   */
+  double nis;
+} rf_aided_report;
+
+/**
+ * Position, velocity and attitude as every mechanization reports them.
+ */
+typedef struct rf_nav_state {
+  /**
+   * Geodetic position.
+   */
+  struct rf_geodetic position;
+  /**
+   * Velocity relative to the Earth, resolved in NED (m/s).
+   */
+  struct rf_vec3 velocity_ned;
+  /**
+   * Body-to-NED attitude quaternion.
+   */
+  struct rf_quat attitude;
+} rf_nav_state;
+
+/**
+ * Where a calibration test runs. All-zero is WGS 84, normal gravity, on the equator at zero
+ * height.
+ */
+typedef struct rf_calibration_site {
+  /**
+   * The Earth model.
+   */
+  struct rf_earth_model model;
+  /**
+   * An `rf_gravity_model` value (for the accelerometers' reference).
+   */
+  uint32_t gravity;
+  /**
+   * Geodetic latitude (rad).
+   */
+  double latitude;
+  /**
+   * Ellipsoidal height (m).
+   */
+  double height;
+} rf_calibration_site;
 
 /**
  * One static position of an accelerometer test.
@@ -619,24 +836,6 @@ typedef struct rf_noise_terms {
    */
   double rate_random_walk;
 } rf_noise_terms;
-
-/**
- * Geodetic latitude and longitude (rad) and ellipsoidal height (m).
- */
-typedef struct rf_geodetic {
-  /**
-   * Geodetic latitude (rad), in [−π/2, π/2].
-   */
-  double latitude;
-  /**
-   * Longitude (rad), east positive.
-   */
-  double longitude;
-  /**
-   * Ellipsoidal height (m), positive above the ellipsoid.
-   */
-  double height;
-} rf_geodetic;
 
 /**
  * The motion of a child frame C relative to a parent frame P: `rotation` maps C-coordinates
@@ -859,145 +1058,6 @@ typedef struct rf_euler {
 } rf_euler;
 
 /**
- * Error model of one sensor triad (gyro units rad/s, accelerometer units m/s²).
- * Zero-initialised (`= {0}`) it is a perfect sensor: no bias, scale or misalignment error, no
- * noise and no Gauss–Markov process.
- */
-typedef struct rf_sensor_errors {
-  /**
-   * Fixed bias per axis.
-   */
-  struct rf_vec3 bias;
-  /**
-   * Scale-factor error per axis (dimensionless).
-   */
-  struct rf_vec3 scale_factor;
-  /**
-   * Misalignment matrix, row-major, zero diagonal (dimensionless).
-   */
-  double misalignment[9];
-  /**
-   * White-noise density per axis (rad/√s or m/s/√s; see `rf_angle_random_walk_si`).
-   */
-  struct rf_vec3 noise_density;
-  /**
-   * Gauss–Markov bias steady-state standard deviation per axis.
-   */
-  struct rf_vec3 markov_sigma;
-  /**
-   * Gauss–Markov correlation time per axis (s); positive, INFINITY for a random constant, or
-   * 0 (with `markov_sigma` 0) for no Gauss–Markov process.
-   */
-  struct rf_vec3 markov_time;
-} rf_sensor_errors;
-
-/**
- * Error models of both triads. Zero-initialised it is a perfect IMU.
- */
-typedef struct rf_imu_error_model {
-  /**
-   * Gyro triad.
-   */
-  struct rf_sensor_errors gyro;
-  /**
-   * Accelerometer triad.
-   */
-  struct rf_sensor_errors accelerometer;
-} rf_imu_error_model;
-
-/**
- * Settings of a strapdown stepper. Zero-initialised (`= {0}`) it is a NED mechanization
- * with normal gravity, a free vertical channel and (the all-zero `earth`) WGS 84.
- */
-typedef struct rf_strapdown_config {
-  /**
-   * The Earth model.
-   */
-  struct rf_earth_model earth;
-  /**
-   * An `rf_gravity_model` value.
-   */
-  uint32_t gravity;
-  /**
-   * An `rf_vertical_channel` value.
-   */
-  uint32_t vertical;
-  /**
-   * An `rf_nav_frame` value.
-   */
-  uint32_t frame;
-  /**
-   * Loop time constant (s) for `RF_VERTICAL_AIDED`; ignored otherwise.
-   */
-  double height_time_constant;
-} rf_strapdown_config;
-
-/**
- * The output of an integrating IMU over one interval.
- */
-typedef struct rf_imu_increment {
-  /**
-   * Integral of the angular rate over the interval, in body axes (rad).
-   */
-  struct rf_vec3 delta_angle;
-  /**
-   * Integral of the specific force over the interval, in body axes (m/s).
-   */
-  struct rf_vec3 delta_velocity;
-  /**
-   * Interval length (s), positive.
-   */
-  double interval;
-} rf_imu_increment;
-
-/**
- * The complete state of a strapdown stepper, as plain data. Create it with
- * `rf_strapdown_init`; advance it with `rf_strapdown_step`; read it with `rf_strapdown_state`.
- * The mechanization's own coordinates are kept: for NED `position` is (latitude, longitude,
- * height), `velocity` the NED velocity and `attitude` body-to-NED; for ECEF `position` and
- * `velocity` are ECEF vectors and `attitude` body-to-ECEF.
- */
-typedef struct rf_strapdown {
-  /**
-   * Settings.
-   */
-  struct rf_strapdown_config config;
-  /**
-   * Position in the mechanization's coordinates.
-   */
-  struct rf_vec3 position;
-  /**
-   * Velocity relative to the Earth in the mechanization's axes (m/s).
-   */
-  struct rf_vec3 velocity;
-  /**
-   * Attitude: body to the mechanization's axes.
-   */
-  struct rf_quat attitude;
-  /**
-   * The previous step's increment, used for coning and sculling when `has_previous` is 1.
-   */
-  struct rf_imu_increment previous;
-  /**
-   * 1 if `previous` holds the previous step's increment, else 0.
-   */
-  uint32_t has_previous;
-  /**
-   * External ellipsoidal height reference (m) for the hold and aided vertical channels.
-   */
-  double height_reference;
-  /**
-   * Time since the initial state (s), rounded; `rf_strapdown_state` users add
-   * `elapsed_correction` for the exact sum.
-   */
-  double elapsed;
-  /**
-   * Rounding error of `elapsed` (s), carried by compensated summation.
-   */
-  double elapsed_correction;
-} rf_strapdown;
-
-/**
  * Ideal gyro and accelerometer outputs at one instant, resolved in the body.
  */
 typedef struct rf_imu_sample {
@@ -1017,24 +1077,6 @@ typedef struct rf_imu_sample {
  * `RF_STATUS_OK`, or any other status to abort.
  */
 typedef rf_status (*rf_trajectory_fn)(void *context, double time, struct rf_frame_motion *out_motion);
-
-/**
- * Position, velocity and attitude as every mechanization reports them.
- */
-typedef struct rf_nav_state {
-  /**
-   * Geodetic position.
-   */
-  struct rf_geodetic position;
-  /**
-   * Velocity relative to the Earth, resolved in NED (m/s).
-   */
-  struct rf_vec3 velocity_ned;
-  /**
-   * Body-to-NED attitude quaternion.
-   */
-  struct rf_quat attitude;
-} rf_nav_state;
 
 /**
  * A seeded IMU error generator's state, as plain data: the model, the Gauss–Markov states
@@ -1228,6 +1270,104 @@ typedef struct rf_drag {
 #ifdef __cplusplus
 extern "C" {
 #endif // __cplusplus
+
+/**
+ * Creates an aided navigator in `out_nav` starting from `strapdown`'s state: `errors`
+ * (NULL: a perfect IMU) gives the process noise (white noise, Gauss–Markov terms) and the
+ * initial sensor-error estimate (fixed bias, scale factor, misalignment, compensated from the
+ * first increment); `p0` the initial covariance, `states × states` values (15 or 21 states;
+ * symmetric, row- or column-major alike) in the error-state order of the README's
+ * "Linearisation"; `gate` the probability of the innovation gate (0: no gate, else strictly
+ * between 0 and 1); `propagate_every` the increments per covariance propagation (1: every
+ * increment, second-order form).
+ *
+ * Size and stack: `rf_aided_nav` is 5,704 bytes; every call of this module copies it once
+ * and uses about 40 KB of stack at most (the 21-state covariance step).
+ */
+rf_status rf_aided_init(const struct rf_strapdown *strapdown, const struct rf_imu_error_model *errors, const double *p0, size_t states, double gate, size_t propagate_every, struct rf_aided_nav *out_nav);
+
+/**
+ * Advances `nav` by one IMU increment (compensated by the current sensor-error estimate).
+ * On error `nav` is unchanged.
+ */
+rf_status rf_aided_predict(struct rf_aided_nav *nav, const struct rf_imu_increment *increment);
+
+/**
+ * A GNSS position fix: geodetic antenna `position` (rad, rad, m), `sigma_ned` 1σ north, east,
+ * down (m), `lever_arm` the antenna in body axes (m; NULL: none). On error `nav` is unchanged.
+ */
+rf_status rf_aided_update_position(struct rf_aided_nav *nav, const struct rf_geodetic *position, const struct rf_vec3 *sigma_ned, const struct rf_vec3 *lever_arm, struct rf_aided_report *out_report);
+
+/**
+ * A GNSS velocity fix (NED, m/s) at `lever_arm` (NULL: none).
+ */
+rf_status rf_aided_update_velocity(struct rf_aided_nav *nav, const struct rf_vec3 *velocity_ned, const struct rf_vec3 *sigma_ned, const struct rf_vec3 *lever_arm, struct rf_aided_report *out_report);
+
+/**
+ * A zero-velocity update (σ per NED axis, m/s).
+ */
+rf_status rf_aided_update_zero_velocity(struct rf_aided_nav *nav, const struct rf_vec3 *sigma_ned, struct rf_aided_report *out_report);
+
+/**
+ * A zero-angular-rate update (σ per body axis, rad/s).
+ */
+rf_status rf_aided_update_zero_angular_rate(struct rf_aided_nav *nav, const struct rf_vec3 *sigma, struct rf_aided_report *out_report);
+
+/**
+ * The land-vehicle constraint at `lever_arm` (NULL: none) in vehicle axes given by the
+ * body-to-vehicle `mounting` (NULL: identity), with 1σ lateral and vertical (m/s).
+ */
+rf_status rf_aided_update_vehicle_constraint(struct rf_aided_nav *nav, const struct rf_quat *mounting, const struct rf_vec3 *lever_arm, double sigma_lateral, double sigma_vertical, struct rf_aided_report *out_report);
+
+/**
+ * An odometer's forward `speed` (m/s) at `lever_arm` in vehicle axes (`mounting` as for the
+ * constraint), 1σ `sigma` (m/s).
+ */
+rf_status rf_aided_update_odometer(struct rf_aided_nav *nav, double speed, const struct rf_quat *mounting, const struct rf_vec3 *lever_arm, double sigma, struct rf_aided_report *out_report);
+
+/**
+ * An ellipsoidal `height` (m) with 1σ `sigma` (m).
+ */
+rf_status rf_aided_update_height(struct rf_aided_nav *nav, double height, double sigma, struct rf_aided_report *out_report);
+
+/**
+ * A true `heading` (rad, clockwise from north; a magnetic heading plus the declination) with
+ * 1σ `sigma` (rad).
+ */
+rf_status rf_aided_update_heading(struct rf_aided_nav *nav, double heading, double sigma, struct rf_aided_report *out_report);
+
+/**
+ * Writes the navigation state (geodetic position, NED velocity, body-to-NED attitude).
+ */
+rf_status rf_aided_state(const struct rf_aided_nav *nav, struct rf_nav_state *out_state);
+
+/**
+ * Writes the stepper with every correction fed back into `inout_strapdown`, whose
+ * configuration must be that of the stepper given to `rf_aided_init` (its state and step
+ * memory are overwritten; `RF_STATUS_INVALID_ARGUMENT` for another configuration).
+ */
+rf_status rf_aided_strapdown(const struct rf_aided_nav *nav, struct rf_strapdown *inout_strapdown);
+
+/**
+ * Writes the covariance (`count` must be states², symmetric) to `out_covariance`.
+ */
+rf_status rf_aided_covariance(const struct rf_aided_nav *nav, double *out_covariance, size_t count);
+
+/**
+ * Writes the estimated sensor errors (`count` must be states − 9: accelerometer bias, gyro
+ * bias, then for 21 states the accelerometer and gyro scale factors; measured = true + bias).
+ */
+rf_status rf_aided_sensor_errors(const struct rf_aided_nav *nav, double *out_errors, size_t count);
+
+/**
+ * Stationary coarse alignment from `count` increments at rest at `latitude`, `height` (rad,
+ * m): levelling and gyrocompassing. `errors` (NULL allowed) gives the 1σ; `heading` (NULL
+ * allowed) points to an external `(heading, σ)` pair (rad) used instead of gyrocompassing.
+ * Writes the body-to-NED attitude and the roll, pitch, heading 1σ (rad).
+ * `RF_STATUS_UNOBSERVABLE` when the gyros cannot see the Earth's rotation and no heading is
+ * given.
+ */
+rf_status rf_align_stationary(const struct rf_imu_increment *increments, size_t count, double latitude, double height, const struct rf_imu_error_model *errors, const double *heading, struct rf_quat *out_attitude, struct rf_vec3 *out_sigma);
 
 /**
  * Calibrates an accelerometer triad from `count` static positions with known attitudes
@@ -1729,6 +1869,13 @@ rf_status rf_imu_increments_from_record(const struct rf_earth_model *model, uint
  * A stepper at `initial` with settings `config`, written to `out_strapdown`.
  */
 rf_status rf_strapdown_init(const struct rf_strapdown_config *config, const struct rf_nav_state *initial, struct rf_strapdown *out_strapdown);
+
+/**
+ * Replaces the position, velocity and attitude of `strapdown` with `state` (an external fix,
+ * a filter's correction), keeping its step memory (the previous increment for coning and
+ * sculling, the height reference, the elapsed time). On error it is unchanged.
+ */
+rf_status rf_strapdown_set_state(struct rf_strapdown *strapdown, const struct rf_nav_state *state);
 
 /**
  * Advances `strapdown` by one increment. On error it is unchanged.

@@ -14,6 +14,7 @@
 // is documented on each and in the header.
 #![allow(clippy::missing_safety_doc)]
 
+pub mod aided;
 pub mod calibrate;
 pub mod earth;
 mod enums;

@@ -13,11 +13,11 @@ use rotaframe::earth::Geodetic;
 use rotaframe::frames::{AnyFrame, PointKinematics};
 use rotaframe::linearise::{self, inertial};
 use rotaframe::nalgebra::{SMatrix, SVector, Vector3};
-use rotaframe::nav::{ImuErrorModel, ImuIncrement};
+use rotaframe::nav::ImuIncrement;
 use rotaframe::rotation::EulerZyx;
 
 use crate::earth::core_model;
-use crate::nav::{rf_imu_error_model, rf_imu_increment, rf_strapdown};
+use crate::nav::{error_model_of, rf_imu_error_model, rf_imu_increment, rf_strapdown};
 use crate::status::{
     Fallible, RF_STATUS_INVALID_ARGUMENT, RF_STATUS_NULL_POINTER, boundary, disjoint, distinct_outputs, out, read, region,
     rf_status, slice, slice_mut,
@@ -307,18 +307,6 @@ pub unsafe extern "C" fn rf_apparent_terms_jacobian(
         }
         Ok(())
     })
-}
-
-/// The core error model of a C one (NULL: a perfect IMU, random-constant biases).
-unsafe fn error_model_of(model: *const rf_imu_error_model) -> Fallible<ImuErrorModel> {
-    if model.is_null() {
-        return Ok(ImuErrorModel::default());
-    }
-    let m = unsafe { read(model) }?;
-    let core = ImuErrorModel { gyro: m.gyro.to_core()?, accelerometer: m.accelerometer.to_core()? };
-    core.gyro.validate()?;
-    core.accelerometer.validate()?;
-    Ok(core)
 }
 
 /// The 12 noise spectral densities of an IMU error model, in the order of the noise inputs

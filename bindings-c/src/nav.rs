@@ -256,6 +256,11 @@ impl rf_strapdown_config {
 }
 
 impl rf_strapdown {
+    /// The core configuration (validated).
+    pub(crate) fn config_core(&self) -> Fallible<StrapdownConfig> {
+        self.config.to_core()
+    }
+
     /// The core stepper (validated).
     pub(crate) fn to_core(self) -> Fallible<Strapdown> {
         let config = self.config.to_core()?;
@@ -286,7 +291,7 @@ impl rf_strapdown {
     }
 
     /// Writes a core stepper's parts back (the configuration is unchanged by stepping).
-    fn store(&mut self, stepper: &Strapdown) {
+    pub(crate) fn store(&mut self, stepper: &Strapdown) {
         let (_, state, memory) = stepper.parts();
         match state {
             MechanizationState::Ned { position, velocity_ned, attitude } => {
@@ -497,6 +502,21 @@ pub unsafe extern "C" fn rf_strapdown_init(
         let mut result = rf_strapdown { config: config_c, ..rf_strapdown::default() };
         result.store(&stepper);
         *out_strapdown = result;
+        Ok(())
+    })
+}
+
+/// Replaces the position, velocity and attitude of `strapdown` with `state` (an external fix,
+/// a filter's correction), keeping its step memory (the previous increment for coning and
+/// sculling, the height reference, the elapsed time). On error it is unchanged.
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn rf_strapdown_set_state(strapdown: *mut rf_strapdown, state: *const rf_nav_state) -> rf_status {
+    boundary(|| {
+        let state = unsafe { read(state) }?.to_core()?;
+        let strapdown = unsafe { out(strapdown) }?;
+        let mut stepper = strapdown.to_core()?;
+        stepper.set_state(&state)?;
+        strapdown.store(&stepper);
         Ok(())
     })
 }
@@ -734,4 +754,15 @@ pub unsafe extern "C" fn rf_lever_arm_state(
         *out_velocity_ned = v.into();
         Ok(())
     })
+}
+
+/// The core error model of a C one (NULL: a perfect IMU, random-constant biases).
+pub(crate) unsafe fn error_model_of(model: *const rf_imu_error_model) -> Fallible<ImuErrorModel> {
+    if model.is_null() {
+        return Ok(ImuErrorModel::default());
+    }
+    let m = unsafe { read(model) }?;
+    let core = ImuErrorModel { gyro: m.gyro.to_core()?, accelerometer: m.accelerometer.to_core()? };
+    core.validate()?;
+    Ok(core)
 }

@@ -10,10 +10,11 @@
 #![allow(clippy::too_many_arguments)]
 
 // Floors (scripts/check_layers.py holds them): plumbing; rotation; earth; motion; apparent;
-// nav; graph, linearise, calibrate; propagate. A file imports only from floors below its own
+// nav; graph, linearise, calibrate, aided; propagate. A file imports only from floors below its own
 // (or from files of its own folder, without circles).
 mod plumbing;
 
+mod aided;
 mod apparent;
 mod calibrate;
 mod earth;
@@ -61,6 +62,23 @@ fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(nav::lever::lever_arm_state, m)?)?;
     m.add_function(wrap_pyfunction!(nav::strapdown::run_strapdowns, m)?)?;
     m.add_function(wrap_pyfunction!(nav::sensor::_imu_errors_from_parts, m)?)?;
+    m.add_class::<aided::PyMeasurementSet>()?;
+    m.add_class::<aided::PyPositionFixes>()?;
+    m.add_class::<aided::PyVelocityFixes>()?;
+    m.add_class::<aided::PyZeroVelocity>()?;
+    m.add_class::<aided::PyZeroAngularRate>()?;
+    m.add_class::<aided::PyHeightFixes>()?;
+    m.add_class::<aided::PyHeadingFixes>()?;
+    m.add_class::<aided::PyVehicleConstraint>()?;
+    m.add_class::<aided::PyOdometerSpeeds>()?;
+    m.add_class::<aided::PyInnovationLog>()?;
+    m.add_class::<aided::PyAidedResult>()?;
+    m.add_class::<aided::PyAidedNavigator>()?;
+    m.add_class::<aided::PyAlignment>()?;
+    m.add_function(wrap_pyfunction!(aided::_measurement_set_from_parts, m)?)?;
+    m.add_function(wrap_pyfunction!(aided::_aided_navigator_from_parts, m)?)?;
+    m.add_function(wrap_pyfunction!(aided::align_stationary, m)?)?;
+    m.add_function(wrap_pyfunction!(aided::heading_from_course, m)?)?;
     m.add_class::<propagate::PyPropagation>()?;
     m.add_class::<propagate::PyDeflectionBudget>()?;
     m.add_class::<propagate::PyDrag>()?;

@@ -27,6 +27,21 @@ that apply to you and licensed engineering practice.
 """
 
 from ._native import (
+    AidedNavigator,
+    AidedResult,
+    Alignment,
+    HeadingFixes,
+    HeightFixes,
+    InnovationLog,
+    MeasurementSet,
+    OdometerSpeeds,
+    PositionFixes,
+    VehicleConstraint,
+    VelocityFixes,
+    ZeroAngularRate,
+    ZeroVelocity,
+    align_stationary,
+    heading_from_course,
     GRS80,
     WGS84,
     ApparentAcceleration,
@@ -105,6 +120,21 @@ from ._native import (
 __version__ = "0.1.0"
 
 __all__ = [
+    "AidedNavigator",
+    "AidedResult",
+    "Alignment",
+    "HeadingFixes",
+    "HeightFixes",
+    "InnovationLog",
+    "MeasurementSet",
+    "OdometerSpeeds",
+    "PositionFixes",
+    "VehicleConstraint",
+    "VelocityFixes",
+    "ZeroAngularRate",
+    "ZeroVelocity",
+    "align_stationary",
+    "heading_from_course",
     "GRS80",
     "WGS84",
     "ApparentAcceleration",

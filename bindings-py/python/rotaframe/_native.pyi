@@ -4,11 +4,29 @@ from typing import Any, Callable, Literal, Optional, Sequence, Union, final, ove
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
+from typing_extensions import disjoint_base
 
 _Array = NDArray[np.float64]
 _FloatOrArray = Union[float, _Array]
 
 __all__ = [
+    "AidedNavigator",
+    "AidedResult",
+    "Alignment",
+    "HeadingFixes",
+    "HeightFixes",
+    "InnovationLog",
+    "MeasurementSet",
+    "OdometerSpeeds",
+    "PositionFixes",
+    "VehicleConstraint",
+    "VelocityFixes",
+    "ZeroAngularRate",
+    "ZeroVelocity",
+    "_aided_navigator_from_parts",
+    "_measurement_set_from_parts",
+    "align_stationary",
+    "heading_from_course",
     "ApparentAcceleration",
     "Calibration",
     "NoiseTerms",
@@ -544,6 +562,7 @@ class Strapdown:
         vertical: Literal["free", "hold", "aided"] = "free",
         height_time_constant: Optional[float] = None,
     ) -> Strapdown: ...
+    def set_state(self, lat: float, lon: float, h: float, v_ned: ArrayLike, attitude: ArrayLike) -> None: ...
     def step(self, dtheta: ArrayLike, dv: ArrayLike, dt: ArrayLike, *, height_reference: Optional[float] = None) -> None: ...
     def run(
         self,
@@ -893,3 +912,228 @@ class NoiseTerms:
     def deviation(self, tau: ArrayLike) -> _FloatOrArray: ...
 
 def fit_noise_terms(taus: ArrayLike, adev: ArrayLike, *, dof: Optional[ArrayLike] = None) -> NoiseTerms: ...
+
+
+# Aided navigation
+
+@disjoint_base
+class MeasurementSet:
+    """Measurements of one kind at strictly increasing times (the base of the sets below)."""
+
+    @property
+    def t(self) -> _Array: ...
+    @property
+    def kind(self) -> str: ...
+    @property
+    def rows(self) -> int: ...
+    def __len__(self) -> int: ...
+    def __reduce__(self) -> tuple[Any, ...]: ...
+
+@final
+class PositionFixes(MeasurementSet):
+    """GNSS position fixes (geodetic) with 1σ north, east, down (m) at an antenna lever arm."""
+
+    def __new__(
+        cls,
+        t: ArrayLike,
+        lat: ArrayLike,
+        lon: ArrayLike,
+        h: ArrayLike,
+        sigma: ArrayLike,
+        *,
+        lever_arm: Optional[ArrayLike] = None,
+        degrees: bool = False,
+    ) -> PositionFixes: ...
+
+@final
+class VelocityFixes(MeasurementSet):
+    """GNSS velocity fixes (NED, m/s) at an antenna lever arm."""
+
+    def __new__(cls, t: ArrayLike, v_ned: ArrayLike, sigma: ArrayLike, *, lever_arm: Optional[ArrayLike] = None) -> VelocityFixes: ...
+
+@final
+class ZeroVelocity(MeasurementSet):
+    """Zero-velocity updates (m/s per NED axis)."""
+
+    def __new__(cls, t: ArrayLike, sigma: ArrayLike) -> ZeroVelocity: ...
+
+@final
+class ZeroAngularRate(MeasurementSet):
+    """Zero-angular-rate updates (rad/s per body axis)."""
+
+    def __new__(cls, t: ArrayLike, sigma: ArrayLike) -> ZeroAngularRate: ...
+
+@final
+class HeightFixes(MeasurementSet):
+    """Ellipsoidal heights (m)."""
+
+    def __new__(cls, t: ArrayLike, h: ArrayLike, sigma: ArrayLike) -> HeightFixes: ...
+
+@final
+class HeadingFixes(MeasurementSet):
+    """True headings, or magnetic headings plus ``declination``."""
+
+    def __new__(
+        cls, t: ArrayLike, heading: ArrayLike, sigma: ArrayLike, *, degrees: bool = False, declination: Optional[ArrayLike] = None
+    ) -> HeadingFixes: ...
+
+@final
+class VehicleConstraint(MeasurementSet):
+    """The land-vehicle constraint: no lateral or vertical velocity in vehicle axes."""
+
+    def __new__(
+        cls, t: ArrayLike, sigma: ArrayLike, *, mounting: Optional[ArrayLike] = None, lever_arm: Optional[ArrayLike] = None
+    ) -> VehicleConstraint: ...
+
+@final
+class OdometerSpeeds(MeasurementSet):
+    """Odometer forward speeds (m/s) in vehicle axes at a lever arm."""
+
+    def __new__(
+        cls,
+        t: ArrayLike,
+        speed: ArrayLike,
+        sigma: ArrayLike,
+        *,
+        mounting: Optional[ArrayLike] = None,
+        lever_arm: Optional[ArrayLike] = None,
+    ) -> OdometerSpeeds: ...
+
+@final
+class InnovationLog:
+    """One measurement set's innovations over a run."""
+
+    def __new__(cls, kind: str, t: Any, innovation: Any, std: Any, nis: Any, accepted: Any) -> InnovationLog: ...
+    @property
+    def kind(self) -> str: ...
+    @property
+    def t(self) -> _Array: ...
+    @property
+    def innovation(self) -> _Array: ...
+    @property
+    def std(self) -> _Array: ...
+    @property
+    def nis(self) -> _Array: ...
+    @property
+    def accepted(self) -> NDArray[np.bool_]: ...
+    def __reduce__(self) -> tuple[Any, ...]: ...
+
+@final
+class AidedResult:
+    """The filtered trajectory, its 1σ, sensor errors, epoch covariances and innovations."""
+
+    def __new__(
+        cls,
+        t: Any,
+        lat: Any,
+        lon: Any,
+        h: Any,
+        v_ned: Any,
+        attitude: Any,
+        sigma: Any,
+        imu_errors: Any,
+        epochs: Any,
+        covariance: Any,
+        innovations: Any,
+    ) -> AidedResult: ...
+    @property
+    def t(self) -> _Array: ...
+    @property
+    def lat(self) -> _Array: ...
+    @property
+    def lon(self) -> _Array: ...
+    @property
+    def h(self) -> _Array: ...
+    @property
+    def v_ned(self) -> _Array: ...
+    @property
+    def attitude(self) -> _Array: ...
+    @property
+    def sigma(self) -> _Array: ...
+    @property
+    def imu_errors(self) -> _Array: ...
+    @property
+    def epochs(self) -> _Array: ...
+    @property
+    def covariance(self) -> _Array: ...
+    @property
+    def innovations(self) -> list[InnovationLog]: ...
+    @property
+    def smoothed(self) -> None: ...
+    def __reduce__(self) -> tuple[Any, ...]: ...
+
+@final
+class AidedNavigator:
+    """A closed-loop error-state Kalman filter around a strapdown stepper.
+
+    Not certified for safety-of-life navigation; validate against your own requirements.
+    """
+
+    def __new__(
+        cls,
+        strapdown: Strapdown,
+        imu: ImuErrors,
+        p0: ArrayLike,
+        *,
+        states: int = 15,
+        gate: Optional[float] = ...,
+        propagate_every: int = 1,
+    ) -> AidedNavigator: ...
+    def run(
+        self,
+        t: ArrayLike,
+        dtheta: ArrayLike,
+        dv: ArrayLike,
+        measurements: Sequence[MeasurementSet],
+        *,
+        progress: Optional[Callable[[int, int], object]] = None,
+    ) -> AidedResult: ...
+    @property
+    def state(self) -> tuple[float, float, float, _Array, _Array]: ...
+    @property
+    def strapdown(self) -> Strapdown: ...
+    @property
+    def covariance(self) -> _Array: ...
+    @property
+    def imu_errors(self) -> _Array: ...
+    @property
+    def time(self) -> Optional[float]: ...
+    @property
+    def states(self) -> int: ...
+    def __reduce__(self) -> tuple[Any, ...]: ...
+
+@final
+class Alignment:
+    """A stationary alignment: attitude (w, x, y, z, body to NED) and roll, pitch, heading 1σ (rad)."""
+
+    def __new__(cls, attitude: Any, sigma: Any) -> Alignment: ...
+    @property
+    def attitude(self) -> _Array: ...
+    @property
+    def sigma(self) -> _Array: ...
+    def __reduce__(self) -> tuple[Any, ...]: ...
+
+def align_stationary(
+    dtheta: ArrayLike,
+    dv: ArrayLike,
+    dt: ArrayLike,
+    lat: float,
+    h: float,
+    *,
+    degrees: bool = False,
+    imu: Optional[ImuErrors] = None,
+    heading: Optional[Union[float, tuple[float, float]]] = None,
+    model: Optional[EarthModel] = None,
+) -> Alignment: ...
+def heading_from_course(v_ned: ArrayLike, sigma: float, *, min_speed: float = 2.0, degrees: bool = False) -> tuple[float, float]: ...
+def _measurement_set_from_parts(kind: str, times: Sequence[float], records: Sequence[float]) -> MeasurementSet: ...
+def _aided_navigator_from_parts(
+    strapdown: Strapdown,
+    imu: ImuErrors,
+    covariance: Sequence[float],
+    states: int,
+    gate: Optional[float],
+    propagate_every: int,
+    memory: Sequence[float],
+    time: Optional[float],
+) -> AidedNavigator: ...

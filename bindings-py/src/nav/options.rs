@@ -9,7 +9,7 @@ use crate::plumbing::errors::python_error;
 use crate::plumbing::errors::{FrameMismatchError, RotaframeError, to_py};
 
 /// The core's quantity names spelled as this module's Python arguments.
-pub(super) fn nav_name(error: rotaframe::Error) -> rotaframe::Error {
+pub(crate) fn nav_name(error: rotaframe::Error) -> rotaframe::Error {
     let to = match error.quantity() {
         "delta_angle" => "dtheta",
         "delta_velocity" => "dv",
@@ -29,7 +29,7 @@ pub(super) fn nav_name(error: rotaframe::Error) -> rotaframe::Error {
 
 /// A Python exception for a core error from this module, with argument names, the latitude in
 /// degrees where the call used degrees, and `context` appended.
-pub(super) fn nav_error(error: rotaframe::Error, degrees: bool, lat: f64, context: &str) -> PyErr {
+pub(crate) fn nav_error(error: rotaframe::Error, degrees: bool, lat: f64, context: &str) -> PyErr {
     to_py(&python_error(nav_name(error), degrees, lat), context)
 }
 

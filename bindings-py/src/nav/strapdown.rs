@@ -81,8 +81,14 @@ pub struct PyStrapdown {
 const STEP_ARGUMENTS: [&str; 4] = ["dtheta", "dv", "dt", "height_reference"];
 
 impl PyStrapdown {
-    fn new_object(inner: Strapdown, degrees: bool, model: Py<PyEarthModel>) -> Self {
+    pub(crate) fn new_object(inner: Strapdown, degrees: bool, model: Py<PyEarthModel>) -> Self {
         Self { inner: std::sync::Mutex::new(inner), degrees, model }
+    }
+
+    /// Whether angles are in degrees, and the Earth model object (for objects built around a
+    /// copy of this stepper).
+    pub(crate) fn settings(&self, py: Python<'_>) -> (bool, Py<PyEarthModel>) {
+        (self.degrees, self.model.clone_ref(py))
     }
 
     /// The stepper, or `ConcurrentUseError` if another thread is using it.
@@ -98,7 +104,7 @@ impl PyStrapdown {
     }
 
     /// A copy of the stepper's current value.
-    fn current(&self) -> PyResult<Strapdown> {
+    pub(crate) fn current(&self) -> PyResult<Strapdown> {
         Ok(*self.lock()?)
     }
 
@@ -189,6 +195,30 @@ impl PyStrapdown {
             let (error, context) = self.step_error(e, None, lat);
             to_py(&error, context.as_deref().unwrap_or(""))
         })?;
+        *stepper = trial;
+        Ok(())
+    }
+
+    /// Replaces the position, velocity and attitude (an external fix, a filter's correction)
+    /// keeping the step memory (the previous increment for coning and sculling, the height
+    /// reference, the elapsed time). `lat`, `lon` as the stepper's `degrees`; `v_ned` (3,) m/s;
+    /// `attitude` (w, x, y, z) body to NED. On error the stepper is unchanged.
+    #[pyo3(signature = (lat, lon, h, v_ned, attitude))]
+    fn set_state(
+        &self,
+        #[pyo3(from_py_with = crate::plumbing::args::lat)] lat: f64,
+        #[pyo3(from_py_with = crate::plumbing::args::lon)] lon: f64,
+        #[pyo3(from_py_with = crate::plumbing::args::h)] h: f64,
+        v_ned: &Bound<'_, PyAny>,
+        attitude: &Bound<'_, PyAny>,
+    ) -> PyResult<()> {
+        let v = single(v_ned, "v_ned", &[3])?;
+        let q = quaternion(&single(attitude, "attitude", &[4])?, "attitude").map_err(|e| nav_error(e, self.degrees, lat, ""))?;
+        let s = angle_scale(self.degrees);
+        let state = NavState::new(Geodetic::new(lat * s, lon * s, h), Vector3::from_column_slice(&v), q);
+        let mut stepper = self.lock()?;
+        let mut trial = *stepper;
+        trial.set_state(&state).map_err(|e| nav_error(e, self.degrees, lat, ""))?;
         *stepper = trial;
         Ok(())
     }

@@ -142,7 +142,7 @@ fn record_sigma(sensor: &SensorErrorModel, duration: f64) -> Vector3<f64> {
 ///
 /// # Errors
 /// [`Error::NonFinite`] or [`Error::OutOfRange`] naming `lat`, `h` or `heading`;
-/// [`Error::NotPositive`] naming `heading` for a σ that is not positive; [`Error::Invalid`]
+/// [`Error::OutOfRange`] naming `heading` for a negative σ (zero: a heading taken as exact); [`Error::Invalid`]
 /// naming `dv` when the mean specific force is not about `g` (within 10 %: not at rest, or not
 /// m/s); [`Error::Undetermined`] naming `dtheta` when the gyros cannot see the Earth rate and
 /// no heading is given.
@@ -195,8 +195,8 @@ pub fn align_stationary(
         Some((value, sigma)) => {
             ensure_finite1(value, "heading")?;
             ensure_finite1(sigma, "heading")?;
-            if sigma <= 0.0 {
-                return Err(Error::NotPositive { quantity: "heading", value: sigma });
+            if sigma < 0.0 {
+                return Err(Error::OutOfRange { quantity: "heading", value: sigma, min: 0.0, max: f64::INFINITY });
             }
             (value, sigma)
         }

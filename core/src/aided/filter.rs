@@ -63,6 +63,23 @@ pub struct UpdateReport {
     pub accepted: bool,
 }
 
+/// What a filter carries besides its stepper, covariance, model and settings: the sensor-error
+/// estimate in its parts and the compensated rates of the last increment (for saving a filter:
+/// a pickle, a C struct).
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct FilterMemory {
+    /// Fixed parts of the bias estimates, accelerometer then gyro.
+    pub fixed_bias: [Vector3<f64>; 2],
+    /// Gauss–Markov parts of the bias estimates, accelerometer then gyro.
+    pub markov_bias: [Vector3<f64>; 2],
+    /// Scale-factor estimates, accelerometer then gyro.
+    pub scale_factor: [Vector3<f64>; 2],
+    /// Compensated angular rate of the last increment (rad/s).
+    pub rate: Vector3<f64>,
+    /// Compensated specific force of the last increment (m/s²).
+    pub force: Vector3<f64>,
+}
+
 /// Increments summed since the last covariance propagation.
 #[derive(Debug, Clone, Copy, PartialEq)]
 struct Pending {
@@ -170,6 +187,43 @@ impl<const N: usize> AidedFilter<N> {
         };
         filter.update_gains()?;
         Ok(filter)
+    }
+
+    /// A filter resumed from saved parts ([`memory`](Self::memory), [`covariance`](Self::covariance)).
+    ///
+    /// # Errors
+    /// As [`new`](Self::new) (the covariance named `p0`); [`Error::NonFinite`] naming `memory`.
+    pub fn from_parts(
+        strapdown: Strapdown,
+        imu: &ImuErrorModel,
+        covariance: &SMatrix<f64, N, N>,
+        settings: FilterSettings,
+        memory: &FilterMemory,
+    ) -> Result<Self> {
+        let mut filter = Self::new(strapdown, imu, covariance, settings)?;
+        let parts = [memory.fixed_bias, memory.markov_bias, memory.scale_factor];
+        for v in parts.iter().flatten().chain([&memory.rate, &memory.force]) {
+            crate::error::ensure_finite(v.as_slice(), "memory")?;
+        }
+        filter.fixed_bias = memory.fixed_bias;
+        filter.markov_bias = memory.markov_bias;
+        filter.scale_factor = memory.scale_factor;
+        filter.rate = memory.rate;
+        filter.force = memory.force;
+        filter.update_gains()?;
+        Ok(filter)
+    }
+
+    /// The filter's memory (see [`FilterMemory`]).
+    #[must_use]
+    pub fn memory(&self) -> FilterMemory {
+        FilterMemory {
+            fixed_bias: self.fixed_bias,
+            markov_bias: self.markov_bias,
+            scale_factor: self.scale_factor,
+            rate: self.rate,
+            force: self.force,
+        }
     }
 
     /// Recomputes `(I + diag(s) + M)⁻¹` of both triads.

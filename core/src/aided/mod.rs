@@ -64,7 +64,9 @@ pub mod measurement;
 pub mod navigator;
 
 pub use align::{Alignment, StationaryRecord, align_stationary, heading_from_course};
-pub use filter::{AidedFilter, FilterSettings, SensorEstimate, UpdateReport};
+pub use filter::{AidedFilter, FilterMemory, FilterSettings, SensorEstimate, UpdateReport};
 pub use gate::{MAX_ROWS, chi_square_quantile};
 pub use measurement::{MAX_LEVER_ARM, Measurement};
-pub use navigator::{AidedNavigator, MAX_MEASUREMENT_SETS, MeasurementSet, MeasurementSlices, RunSink, TIME_SNAP};
+pub use navigator::{
+    AidedNavigator, MAX_MEASUREMENT_SETS, MeasurementSet, MeasurementSlices, RunSink, TIME_SNAP, check_measurement_times,
+};

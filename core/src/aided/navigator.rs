@@ -4,7 +4,7 @@
 
 use nalgebra::{SMatrix, Vector3};
 
-use super::filter::{AidedFilter, FilterSettings, UpdateReport};
+use super::filter::{AidedFilter, FilterMemory, FilterSettings, UpdateReport};
 use super::measurement::Measurement;
 use crate::error::{BatchError, Error, Result, ensure_finite};
 use crate::nav::{ImuErrorModel, ImuIncrement, NavState, Strapdown};
@@ -85,6 +85,11 @@ pub trait RunSink {
     fn epoch(&mut self, time: f64, navigator: &AidedNavigator, accepted: bool) {
         let _ = (time, navigator, accepted);
     }
+    /// Asked after every IMU time: `true` stops the run, which then fails with
+    /// [`Error::Invalid`] naming `progress` and leaves the navigator unchanged.
+    fn stop(&mut self) -> bool {
+        false
+    }
 }
 
 /// A sink that keeps nothing.
@@ -140,6 +145,58 @@ impl AidedNavigator {
             Sized::TwentyOne(AidedFilter::new(strapdown, imu, &SMatrix::from_column_slice(p0), settings)?)
         };
         Ok(Self { filter, time: None })
+    }
+
+    /// A navigator resumed from saved parts: see [`parts`](Self::parts).
+    ///
+    /// # Errors
+    /// As [`new`](Self::new) and [`AidedFilter::from_parts`]; [`Error::NonFinite`] naming
+    /// `time`.
+    pub fn from_parts(
+        strapdown: Strapdown,
+        imu: &ImuErrorModel,
+        covariance: &[f64],
+        states: usize,
+        settings: FilterSettings,
+        memory: &FilterMemory,
+        time: Option<f64>,
+    ) -> Result<Self> {
+        let mut nav = Self::new(strapdown, imu, covariance, states, settings)?;
+        nav.filter = match nav.filter {
+            Sized::Fifteen(_) => Sized::Fifteen(AidedFilter::from_parts(
+                strapdown,
+                imu,
+                &SMatrix::from_column_slice(covariance),
+                settings,
+                memory,
+            )?),
+            Sized::TwentyOne(_) => Sized::TwentyOne(AidedFilter::from_parts(
+                strapdown,
+                imu,
+                &SMatrix::from_column_slice(covariance),
+                settings,
+                memory,
+            )?),
+        };
+        if let Some(t) = time {
+            nav.set_time(t)?;
+        }
+        Ok(nav)
+    }
+
+    /// The parts that [`from_parts`](Self::from_parts) takes back: the stepper, the memory and
+    /// the clock, with the covariance written to `covariance` (`states²` values). Increments
+    /// summed for a later propagation ([`FilterSettings::propagate_every`] above 1) are
+    /// propagated first, in the parts only.
+    ///
+    /// # Errors
+    /// [`Error::LengthMismatch`] naming `out`; as [`flush`](Self::flush).
+    pub fn parts(&self, covariance: &mut [f64]) -> Result<(Strapdown, FilterMemory, Option<f64>)> {
+        let mut settled = *self;
+        settled.flush()?;
+        settled.write_covariance(covariance)?;
+        let memory = each!(&settled.filter, f => f.memory());
+        Ok((*settled.strapdown(), memory, settled.time))
     }
 
     /// The number of states.
@@ -336,6 +393,9 @@ impl AidedNavigator {
             nav.time = Some(end);
             nav.apply_due(end, sets, &mut cursors, sink).map_err(at(k))?;
             sink.step(k + 1, &nav);
+            if sink.stop() {
+                return Err(at(k)(Error::Invalid { quantity: "progress", reason: "the run was stopped by the caller" }));
+            }
         }
         *self = nav;
         Ok(())
@@ -397,24 +457,36 @@ impl AidedNavigator {
         }
         let (first, last) = (times[0], times[n]);
         for set in sets {
-            let mut previous = f64::NEG_INFINITY;
-            for i in 0..set.len() {
-                let t = set.time(i);
-                crate::error::ensure_finite1(t, "measurements")?;
-                if t <= previous {
-                    return Err(Error::Invalid {
-                        quantity: "measurements",
-                        reason: "a set's times must be strictly increasing (no duplicates)",
-                    });
-                }
-                if t < first - TIME_SNAP || t > last + TIME_SNAP {
-                    return Err(Error::OutOfRange { quantity: "measurements", value: t, min: first, max: last });
-                }
-                previous = t;
+            check_measurement_times((0..set.len()).map(|i| set.time(i)), "measurements")?;
+            let outside = (0..set.len()).map(|i| set.time(i)).find(|&t| t < first - TIME_SNAP || t > last + TIME_SNAP);
+            if let Some(t) = outside {
+                return Err(Error::OutOfRange { quantity: "measurements", value: t, min: first, max: last });
             }
         }
         Ok(())
     }
+}
+
+/// Checks a measurement set's times: finite and strictly increasing (no duplicates).
+///
+/// # Errors
+/// [`Error::NonFinite`] or [`Error::Invalid`] naming `quantity`.
+///
+/// ```
+/// use rotaframe::aided::check_measurement_times;
+/// assert!(check_measurement_times([0.0, 1.0, 2.0].into_iter(), "t").is_ok());
+/// assert!(check_measurement_times([0.0, 1.0, 1.0].into_iter(), "t").is_err());
+/// ```
+pub fn check_measurement_times(times: impl Iterator<Item = f64>, quantity: &'static str) -> Result<()> {
+    let mut previous = f64::NEG_INFINITY;
+    for t in times {
+        crate::error::ensure_finite1(t, quantity)?;
+        if t <= previous {
+            return Err(Error::Invalid { quantity, reason: "a set's times must be strictly increasing (no duplicates)" });
+        }
+        previous = t;
+    }
+    Ok(())
 }
 
 /// The earliest time not yet applied across the sets.
