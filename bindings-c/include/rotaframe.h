@@ -1281,8 +1281,10 @@ extern "C" {
  * between 0 and 1); `propagate_every` the increments per covariance propagation (1: every
  * increment, second-order form).
  *
- * Size and stack: `rf_aided_nav` is 5,704 bytes; every call of this module copies it once
- * and uses about 40 KB of stack at most (the 21-state covariance step).
+ * Size and stack: `rf_aided_nav` is 5,704 bytes. A call copies the navigator once or twice;
+ * its working arrays are at most eight 21 × 24 matrices (32 KiB, the 21-state covariance
+ * step): budget 64 KiB of stack per call (15 states: about half). Estimated from the arrays,
+ * not measured on a target: check with your toolchain's stack analysis.
  */
 rf_status rf_aided_init(const struct rf_strapdown *strapdown, const struct rf_imu_error_model *errors, const double *p0, size_t states, double gate, size_t propagate_every, struct rf_aided_nav *out_nav);
 

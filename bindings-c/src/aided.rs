@@ -87,8 +87,10 @@ fn save(storage: &mut rf_aided_nav, navigator: AidedNavigator) {
 /// between 0 and 1); `propagate_every` the increments per covariance propagation (1: every
 /// increment, second-order form).
 ///
-/// Size and stack: `rf_aided_nav` is 5,704 bytes; every call of this module copies it once
-/// and uses about 40 KB of stack at most (the 21-state covariance step).
+/// Size and stack: `rf_aided_nav` is 5,704 bytes. A call copies the navigator once or twice;
+/// its working arrays are at most eight 21 × 24 matrices (32 KiB, the 21-state covariance
+/// step): budget 64 KiB of stack per call (15 states: about half). Estimated from the arrays,
+/// not measured on a target: check with your toolchain's stack analysis.
 #[unsafe(no_mangle)]
 pub unsafe extern "C" fn rf_aided_init(
     strapdown: *const rf_strapdown,
