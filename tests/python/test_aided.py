@@ -228,3 +228,23 @@ def test_strapdown_set_state_keeps_time_and_memory():
     with pytest.raises(rf.NotUnitQuaternionError):
         s.set_state(LAT0, LON0, H0, [0, 0, 0], [2, 0, 0, 0])
     assert s.h == H0 + 1.0
+
+
+def test_aided_plot_draws_error_sigma_and_shaded_outages():
+    pytest.importorskip("matplotlib")
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import rotaframe.plot as plot
+
+    nav, ts, dtheta, dv, sets, truth = van_run(seconds=30, outage=(10.0, 20.0))
+    result = nav.run(ts, dtheta, dv, sets)
+    t, lat, lon, h, _ = truth
+    fig = plot.aided_plot(result, truth=(lat, lon, h), outages=[(10.0, 20.0)])
+    top, bottom = fig.axes
+    assert len(top.lines) == 2 and len(top.patches) == 1
+    m, _ = rf.radii_of_curvature(LAT0)
+    sigma_line = top.lines[0].get_ydata()
+    assert sigma_line[0] == pytest.approx(math.hypot(result.sigma[0, 0] * (m + H0), result.sigma[0, 1] * (rf.radii_of_curvature(LAT0)[1] + H0) * math.cos(LAT0)), rel=1e-6)
+    with pytest.raises(rf.ShapeError, match="truth"):
+        plot.aided_plot(result, truth=(lat[:-1], lon, h))

@@ -12,6 +12,8 @@ returns the ``matplotlib.figure.Figure``; nothing is shown or saved unless you d
   (m/s) against time, optionally with 1σ bands from ``predict_covariance``, and the Schuler
   period ``2π √(R / g)`` marked (R the Gaussian mean radius of curvature and g normal
   gravity at the latitude given; 84.5 min at 45°, Titterton and Weston ch. 12).
+* :func:`aided_plot`: an aided run's horizontal and vertical position 1σ (m) against time,
+  with the error against a reference trajectory when one is given and GNSS outages shaded.
 """
 
 from __future__ import annotations
@@ -22,7 +24,7 @@ import numpy as np
 
 from . import _native
 
-__all__ = ["TERM_NAMES", "budget_plot", "drift_plot", "schuler_period"]
+__all__ = ["TERM_NAMES", "aided_plot", "budget_plot", "drift_plot", "schuler_period"]
 
 #: The terms of :class:`rotaframe.ApparentAcceleration`, in the order they are stacked.
 TERM_NAMES = ("translational", "coriolis", "centrifugal", "euler")
@@ -154,4 +156,55 @@ def drift_plot(
     bottom.set_xlabel("time (min)")
     bottom.set_xlim(minutes[0], minutes[-1])
     top.set_title(title or "INS drift")
+    return fig
+
+
+def aided_plot(
+    result: Any,
+    *,
+    truth: Any = None,
+    outages: Sequence[tuple[float, float]] = (),
+    degrees: bool = False,
+    model: Optional[Any] = None,
+    ax: Any = None,
+    title: Optional[str] = None,
+) -> Any:
+    """An ``AidedNavigator.run`` result against time: the top axes show the horizontal
+    position 1σ ``√(σ_N² + σ_E²)`` (m, from the latitude and longitude σ scaled by the radii
+    of curvature) and, with ``truth = (lat, lon, h)`` (arrays at the result's times, angles as
+    ``degrees``), the horizontal error; the bottom axes the same for height. ``outages`` are
+    ``(start, end)`` times (s) shaded grey (the GNSS gaps of the run). ``degrees`` says whether
+    ``result.lat`` is in degrees (a strapdown made with ``degrees=True``). Time in seconds."""
+    t = _times(result.t)
+    scale = np.pi / 180.0 if degrees else 1.0
+    lat = np.asarray(result.lat, dtype=float) * scale
+    meridian, prime = _native.radii_of_curvature(lat, model=model)
+    h = np.asarray(result.h, dtype=float)
+    sigma = np.asarray(result.sigma, dtype=float)
+    north_sigma = sigma[:, 0] * (meridian + h)
+    east_sigma = sigma[:, 1] * (prime + h) * np.cos(lat)
+    fig, (top, bottom) = _axes(ax, rows=2)
+    top.plot(t, np.hypot(north_sigma, east_sigma), linestyle="--", color="grey", label="horizontal 1σ (filter)")
+    bottom.plot(t, sigma[:, 2], linestyle="--", color="grey", label="height 1σ (filter)")
+    if truth is not None:
+        if len(truth) != 3:
+            raise _native.ShapeError("`truth` must be (lat, lon, h)")
+        true_lat, true_lon, true_h = (np.asarray(x, dtype=float) for x in truth)
+        if true_lat.shape != t.shape or true_lon.shape != t.shape or true_h.shape != t.shape:
+            raise _native.ShapeError(f"`truth` arrays must have shape {t.shape} (one value per time of the result)")
+        north = (lat - true_lat * scale) * (meridian + h)
+        east = (np.asarray(result.lon, dtype=float) - true_lon) * scale * (prime + h) * np.cos(lat)
+        top.plot(t, np.hypot(north, east), label="horizontal error")
+        bottom.plot(t, np.abs(h - true_h), label="height error")
+    for start, end in outages:
+        for axis in (top, bottom):
+            axis.axvspan(start, end, color="grey", alpha=0.2, linewidth=0)
+    top.set_ylabel("position (m)")
+    bottom.set_ylabel("height (m)")
+    for axis in (top, bottom):
+        axis.set_ylim(bottom=0.0)
+        axis.legend(loc="upper left", fontsize="small")
+    bottom.set_xlabel("time (s)")
+    bottom.set_xlim(t[0], t[-1])
+    top.set_title(title or "Aided navigation: error and 1σ" + (" (GNSS outages shaded)" if outages else ""))
     return fig
