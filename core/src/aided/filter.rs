@@ -8,7 +8,8 @@ use super::measurement::Measurement;
 use crate::error::{Error, Result};
 use crate::linearise::aiding::NavPoint;
 use crate::linearise::inertial::{
-    NOISE_INPUTS, check_initial_covariance, discretise, error_model, noise_psd, propagate_covariance_second_order, symmetrise,
+    NOISE_INPUTS, check_initial_covariance, discretise, error_model, noise_psd, propagate_covariance_second_order_in_place,
+    symmetrise,
 };
 use crate::nav::{ImuErrorModel, ImuIncrement, NavState, Strapdown};
 
@@ -228,14 +229,7 @@ impl<const N: usize> AidedFilter<N> {
 
     /// Recomputes `(I + diag(s) + M)⁻¹` of both triads.
     fn update_gains(&mut self) -> Result<()> {
-        let misalignment = [self.model.accelerometer.misalignment, self.model.gyro.misalignment];
-        for ((inverse, scale), m) in self.inverse_gain.iter_mut().zip(&self.scale_factor).zip(&misalignment) {
-            let gain = Matrix3::identity() + Matrix3::from_diagonal(scale) + m;
-            *inverse = gain
-                .try_inverse()
-                .filter(|m| m.iter().all(|x| x.is_finite()))
-                .ok_or(Error::Invalid { quantity: "imu", reason: "a triad's gain I + diag(s) + M is singular" })?;
-        }
+        self.inverse_gain = gains(&self.scale_factor, &self.model)?;
         Ok(())
     }
 
@@ -272,7 +266,8 @@ impl<const N: usize> AidedFilter<N> {
             let (config, state, _) = self.strapdown.parts();
             let times = (&self.model.accelerometer.markov_time, &self.model.gyro.markov_time);
             let (f, g) = error_model::<N>(&config, &state, &force, &rate, times)?;
-            self.covariance = propagate_covariance_second_order(&f, &g, &self.psd, &self.covariance, t)?;
+            // F and G come from checked inputs (the increment, the stepper, the model).
+            propagate_covariance_second_order_in_place(&f, &g, &self.psd, &mut self.covariance, t)?;
         } else {
             let mut next = *self;
             let pending = &mut next.pending;
@@ -353,14 +348,26 @@ impl<const N: usize> AidedFilter<N> {
     pub fn update(&mut self, measurement: &Measurement) -> Result<UpdateReport> {
         let earth = self.strapdown.config().earth;
         measurement.validate(&earth)?;
-        let mut next = *self;
-        next.flush()?;
-        let point = NavPoint::of(&next.strapdown, &next.rate);
-        let linear = measurement.linearise::<N>(&point, &earth)?;
+        if self.pending.count > 0 {
+            let mut next = *self;
+            next.flush()?;
+            let report = next.update_propagated(measurement, &earth)?;
+            *self = next;
+            return Ok(report);
+        }
+        self.update_propagated(measurement, &earth)
+    }
+
+    /// [`update`](Self::update) with nothing pending; changes the filter only at the end, so
+    /// that on error it is unchanged.
+    #[inline]
+    fn update_propagated(&mut self, measurement: &Measurement, earth: &crate::earth::EarthModel) -> Result<UpdateReport> {
+        let point = NavPoint::of(&self.strapdown, &self.rate);
+        let linear = measurement.linearise::<N>(&point, earth)?;
         let rows = linear.rows;
         let sigma = measurement.sigma();
         let h = linear.jacobian;
-        let u = h * next.covariance;
+        let u = h * self.covariance;
         let mut s = u * h.transpose();
         for i in 0..MAX_ROWS {
             s[(i, i)] += if i < rows { sigma[i] * sigma[i] } else { 1.0 };
@@ -380,36 +387,51 @@ impl<const N: usize> AidedFilter<N> {
         if accepted {
             let k = u.transpose() * s_inverse;
             let estimate: SVector<f64, N> = -(k * y);
-            joseph_update(&mut next.covariance, &k, &u, &s);
-            crate::error::ensure_finite(next.covariance.as_slice(), "p")?;
-            next.feed_back(&estimate)?;
+            let mut covariance = self.covariance;
+            joseph_update(&mut covariance, &k, &u, &s);
+            crate::error::ensure_finite(covariance.as_slice(), "p")?;
+            let corrected = self.fed_back(&estimate)?;
+            self.covariance = covariance;
+            self.strapdown = corrected.strapdown;
+            self.fixed_bias = corrected.fixed_bias;
+            self.markov_bias = corrected.markov_bias;
+            self.scale_factor = corrected.scale_factor;
+            self.inverse_gain = corrected.inverse_gain;
         }
-        *self = next;
         Ok(report)
     }
 
-    /// Feeds an error-state estimate back: the navigation errors removed from the stepper,
-    /// the residual sensor errors added to the compensation.
-    fn feed_back(&mut self, estimate: &SVector<f64, N>) -> Result<()> {
+    /// The stepper and sensor-error estimate with an error-state estimate fed back: the
+    /// navigation errors removed from the stepper, the residual sensor errors added to the
+    /// compensation.
+    fn fed_back(&self, estimate: &SVector<f64, N>) -> Result<Corrected> {
         let v = |i: usize| Vector3::new(estimate[i], estimate[i + 1], estimate[i + 2]);
-        self.strapdown.remove_error(&v(0), &v(3), &v(6))?;
+        let mut strapdown = self.strapdown;
+        strapdown.remove_error(&v(0), &v(3), &v(6))?;
+        let (mut fixed_bias, mut markov_bias, mut scale_factor) = (self.fixed_bias, self.markov_bias, self.scale_factor);
         let times = [self.model.accelerometer.markov_time, self.model.gyro.markov_time];
         for (triad, time) in times.iter().enumerate() {
             let delta = v(9 + 3 * triad);
             for axis in 0..3 {
                 if time[axis].is_finite() {
-                    self.markov_bias[triad][axis] += delta[axis];
+                    markov_bias[triad][axis] += delta[axis];
                 } else {
-                    self.fixed_bias[triad][axis] += delta[axis];
+                    fixed_bias[triad][axis] += delta[axis];
                 }
             }
             if N == 21 {
-                self.scale_factor[triad] += v(15 + 3 * triad);
+                scale_factor[triad] += v(15 + 3 * triad);
             }
         }
-        crate::limits::check_vector(&self.sensor_estimate().accelerometer_bias, crate::nav::MAX_SENSOR_ERROR, "m/s²", "p")?;
-        crate::limits::check_vector(&self.sensor_estimate().gyro_bias, crate::nav::MAX_SENSOR_ERROR, "rad/s", "p")?;
-        self.update_gains()
+        let limit = crate::nav::MAX_SENSOR_ERROR;
+        crate::limits::check_vector(&(fixed_bias[0] + markov_bias[0]), limit, "m/s²", "p")?;
+        crate::limits::check_vector(&(fixed_bias[1] + markov_bias[1]), limit, "rad/s", "p")?;
+        let mut corrected = Corrected { strapdown, fixed_bias, markov_bias, scale_factor, inverse_gain: self.inverse_gain };
+        // Only the 21-state model estimates scale factors, which change the gains.
+        if N == 21 {
+            corrected.inverse_gain = gains(&scale_factor, &self.model)?;
+        }
+        Ok(corrected)
     }
 
     /// The navigation state.
@@ -474,6 +496,29 @@ impl<const N: usize> AidedFilter<N> {
     }
 }
 
+/// A stepper and sensor-error estimate after a feedback, before they are committed.
+struct Corrected {
+    strapdown: Strapdown,
+    fixed_bias: [Vector3<f64>; 2],
+    markov_bias: [Vector3<f64>; 2],
+    scale_factor: [Vector3<f64>; 2],
+    inverse_gain: [Matrix3<f64>; 2],
+}
+
+/// `(I + diag(s) + M)⁻¹` of both triads (accelerometer, gyro) for the scale factors `scale`.
+fn gains(scale: &[Vector3<f64>; 2], model: &ImuErrorModel) -> Result<[Matrix3<f64>; 2]> {
+    let misalignment = [model.accelerometer.misalignment, model.gyro.misalignment];
+    let mut out = [Matrix3::identity(); 2];
+    for ((inverse, s), m) in out.iter_mut().zip(scale).zip(&misalignment) {
+        let gain = Matrix3::identity() + Matrix3::from_diagonal(s) + m;
+        *inverse = gain
+            .try_inverse()
+            .filter(|m| m.iter().all(|x| x.is_finite()))
+            .ok_or(Error::Invalid { quantity: "imu", reason: "a triad's gain I + diag(s) + M is singular" })?;
+    }
+    Ok(out)
+}
+
 /// `P ← P − K U − Uᵀ Kᵀ + K S Kᵀ` with `U = H P`: the Joseph form
 /// `(I − K H) P (I − K H)ᵀ + K R Kᵀ` multiplied out (`S = H P Hᵀ + R`; the same for any gain),
 /// formed by rank-3 terms in `O(N²)` and made exactly symmetric.
@@ -483,15 +528,20 @@ fn joseph_update<const N: usize>(
     u: &SMatrix<f64, MAX_ROWS, N>,
     s: &Matrix3<f64>,
 ) {
-    let ks = k * s;
+    // P + K W − Uᵀ Kᵀ with W = S Kᵀ − U: column j gains Σ_a (K[:, a] W[a, j] − U[a, :]ᵀ K[j, a]).
+    let w = s * k.transpose() - u;
+    let kt = k.transpose();
     for j in 0..N {
-        for i in j..N {
-            let mut value = p[(i, j)];
-            for a in 0..MAX_ROWS {
-                value += -k[(i, a)] * u[(a, j)] - u[(a, i)] * k[(j, a)] + ks[(i, a)] * k[(j, a)];
+        let mut column = [0.0f64; N];
+        column.copy_from_slice(p.column(j).as_slice());
+        for a in 0..MAX_ROWS {
+            let (w_aj, k_ja) = (w[(a, j)], kt[(a, j)]);
+            let (k_col, u_row) = (k.column(a), u.row(a));
+            for (i, c) in column.iter_mut().enumerate() {
+                *c += k_col[i] * w_aj - u_row[i] * k_ja;
             }
-            p[(i, j)] = value;
-            p[(j, i)] = value;
         }
+        p.column_mut(j).copy_from_slice(&column);
     }
+    symmetrise(p);
 }

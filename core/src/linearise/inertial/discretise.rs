@@ -148,11 +148,19 @@ fn second_order_body<const N: usize, const W: usize>(
     q.write_symmetric(q_out);
 }
 
-/// `P ← Φ P Φᵀ + Q_d` with the second-order `Φ` and `Q_d` of [`discretise_second_order`] over
-/// `interval`, from a symmetric `P`, in one pass on the stack: `F` and `Φ = I + F T + F² T²/2`
-/// are sparse (about 53 and 110 non-zero entries of 225 for the 15-state model), so `F²`,
-/// `Φ P`, `Φ (Φ P)ᵀ = Φ P Φᵀ` and `F Q_c` are each one vectorised row update per non-zero
-/// entry, instead of dense products. The result is made exactly symmetric.
+/// The covariance propagated over `interval` by the second-order discrete form: the Taylor
+/// series of the covariance equation `Ṗ = F P + P Fᵀ + Q_c` to `T²`,
+///
+/// ```text
+/// M = F P + P Fᵀ + Q_c,   P(T) = P + M T + (F M + M Fᵀ) T²/2
+/// ```
+///
+/// These are the terms of `Φ P Φᵀ + Q_d` with the second-order `Φ` and `Q_d` of
+/// [`discretise_second_order`] up to `T²` (Groves 2013, §14.2.4; from memory), without their
+/// products of third and fourth order in `T` (below `(‖F T‖∞)³` of `P`'s entries: a few parts
+/// in 10⁶ at 100 Hz). `F` is sparse (about 53 non-zero entries of 225 for the 15-state model),
+/// so the two products `F P` and `F M` are one vectorised row update per non-zero entry, on the
+/// stack; the result is made exactly symmetric.
 ///
 /// # Errors
 /// As [`discretise`]; [`Error::Invalid`] naming `p` if the result overflows.
@@ -164,10 +172,15 @@ fn second_order_body<const N: usize, const W: usize>(
 /// let g = SMatrix::<f64, 2, 1>::new(0.0, 1.0);
 /// let psd = SVector::<f64, 1>::new(0.2);
 /// let p = SMatrix::<f64, 2, 2>::new(1.0, 0.1, 0.1, 2.0);
-/// let (phi, qd) = discretise_second_order(&f, &g, &psd, 0.01).unwrap();
-/// let dense = phi * p * phi.transpose() + qd;
-/// let sparse = propagate_covariance_second_order(&f, &g, &psd, &p, 0.01).unwrap();
-/// assert!((sparse - dense).amax() < 1e-15);
+/// let t = 0.01;
+/// let qc = g * psd[0] * g.transpose();
+/// let m = f * p + p * f.transpose() + qc;
+/// let taylor = p + m * t + (f * m + m * f.transpose()) * (t * t / 2.0);
+/// let step = propagate_covariance_second_order(&f, &g, &psd, &p, t).unwrap();
+/// assert!((step - taylor).amax() < 1e-15);
+/// // Φ P Φᵀ + Q_d of the second-order Φ and Q_d differs only in third order.
+/// let (phi, qd) = discretise_second_order(&f, &g, &psd, t).unwrap();
+/// assert!((step - (phi * p * phi.transpose() + qd)).amax() < 1e-6);
 /// ```
 #[inline]
 pub fn propagate_covariance_second_order<const N: usize, const M: usize>(
@@ -186,8 +199,37 @@ pub fn propagate_covariance_second_order<const N: usize, const M: usize>(
         (f.as_slice(), g.as_slice(), psd.as_slice(), interval, p.as_slice(), out.as_mut_slice())
     );
     crate::error::ensure_finite(out.as_slice(), "p")
-        .map_err(|_| Error::Invalid { quantity: "p", reason: "Φ P Φᵀ + Q_d overflows f64" })?;
+        .map_err(|_| Error::Invalid { quantity: "p", reason: "the propagated covariance overflows f64" })?;
     Ok(out)
+}
+
+/// [`propagate_covariance_second_order`] in place, without the input checks: for callers whose
+/// `F` and `G` come from [`error_model`](super::error_model) on checked inputs, with densities of
+/// a checked model and a checked interval (the aided filter's predict, at the IMU rate). On
+/// overflow `p` is left as it was.
+///
+/// # Errors
+/// [`Error::Invalid`] naming `p` if the result overflows.
+#[inline]
+pub(crate) fn propagate_covariance_second_order_in_place<const N: usize, const M: usize>(
+    f: &SMatrix<f64, N, N>,
+    g: &SMatrix<f64, N, M>,
+    psd: &SVector<f64, M>,
+    p: &mut SMatrix<f64, N, N>,
+    interval: f64,
+) -> Result<()> {
+    let before = *p;
+    padded_call!(
+        covariance_step_15_fast,
+        covariance_step_21_fast,
+        covariance_step_body,
+        (f.as_slice(), g.as_slice(), psd.as_slice(), interval, before.as_slice(), p.as_mut_slice())
+    );
+    if crate::error::ensure_finite(p.as_slice(), "p").is_err() {
+        *p = before;
+        return Err(Error::Invalid { quantity: "p", reason: "the propagated covariance overflows f64" });
+    }
+    Ok(())
 }
 
 crate::fast_twin!(fn covariance_step_15_fast(f: &[f64], g: &[f64], psd: &[f64], t: f64, p: &[f64], out: &mut [f64]) -> () = covariance_step_body::<15, 16>);
@@ -214,8 +256,8 @@ fn sparse_product<const N: usize, const W: usize>(a: &PaddedRows<N, W>, x: &Padd
     }
 }
 
-/// The fused second-order covariance step (see [`propagate_covariance_second_order`]); all
-/// matrices column-major, `P` symmetric (its columns are its rows).
+/// The second-order covariance step (see [`propagate_covariance_second_order`]); all matrices
+/// column-major, `P` symmetric (its columns are its rows).
 #[inline(always)]
 fn covariance_step_body<const N: usize, const W: usize>(f: &[f64], g: &[f64], psd: &[f64], t: f64, p: &[f64], out: &mut [f64]) {
     let mut f_rows: PaddedRows<N, W> = [[0.0; W]; N];
@@ -224,50 +266,26 @@ fn covariance_step_body<const N: usize, const W: usize>(f: &[f64], g: &[f64], ps
             f_rows[i][j] = x;
         }
     }
-    // Φ = I + F T + F² T²/2, by rows.
-    let mut phi: PaddedRows<N, W> = [[0.0; W]; N];
-    sparse_product(&f_rows, &f_rows, &mut phi);
-    let half_t2 = 0.5 * t * t;
-    for (i, (row, f_row)) in phi.iter_mut().zip(&f_rows).enumerate() {
-        for (r, &x) in row.iter_mut().zip(f_row) {
-            *r = *r * half_t2 + x * t;
-        }
-        row[i] += 1.0;
-    }
     let mut p_rows: PaddedRows<N, W> = [[0.0; W]; N];
     for (row, column) in p_rows.iter_mut().zip(p.chunks_exact(N)) {
         row[..N].copy_from_slice(column);
     }
-    // Φ P, its transpose P Φᵀ, and Φ P Φᵀ.
-    let mut left: PaddedRows<N, W> = [[0.0; W]; N];
-    sparse_product(&phi, &p_rows, &mut left);
+    // M = F P + (F P)ᵀ + Q_c.
+    let mut product: PaddedRows<N, W> = [[0.0; W]; N];
+    sparse_product(&f_rows, &p_rows, &mut product);
+    let mut m: PaddedRows<N, W> = [[0.0; W]; N];
+    noise_entries::<N>(g, psd, |i, j, v| m[i][j] += v);
     for i in 0..N {
         for j in 0..N {
-            p_rows[j][i] = left[i][j];
+            m[i][j] += product[i][j] + product[j][i];
         }
     }
-    // Φ (P Φᵀ): only the lower triangle is kept (row i up to column i, in whole lanes of
-    // four), then mirrored, so the result is exactly symmetric.
-    for (i, (row_out, phi_row)) in left.iter_mut().zip(&phi).enumerate() {
-        let mut row = [0.0f64; W];
-        let used = ((i / 4 + 1) * 4).min(W);
-        for (&value, x_row) in phi_row[..N].iter().zip(&p_rows) {
-            if value != 0.0 {
-                for (r, v) in row[..used].iter_mut().zip(x_row) {
-                    *r += value * v;
-                }
-            }
-        }
-        *row_out = row;
-    }
-    // Q_d = Q_c T + (F Q_c + Q_c Fᵀ) T²/2.
-    let mut qc: PaddedRows<N, W> = [[0.0; W]; N];
-    noise_entries::<N>(g, psd, |i, j, v| qc[i][j] += v);
-    let mut fq: PaddedRows<N, W> = [[0.0; W]; N];
-    sparse_product(&f_rows, &qc, &mut fq);
+    // F M, and P + M T + (F M + M Fᵀ) T²/2 on the lower triangle, mirrored.
+    sparse_product(&f_rows, &m, &mut product);
+    let half_t2 = 0.5 * t * t;
     for j in 0..N {
         for i in j..N {
-            let value = left[i][j] + qc[i][j] * t + (fq[i][j] + fq[j][i]) * half_t2;
+            let value = p_rows[i][j] + m[i][j] * t + (product[i][j] + product[j][i]) * half_t2;
             out[j * N + i] = value;
             out[i * N + j] = value;
         }

@@ -84,6 +84,6 @@ pub use covariance::{
     P0_DEFINITENESS_TOLERANCE, P0_SYMMETRY_TOLERANCE, check_initial_covariance, kept_count, predict_covariance,
     predict_covariance_kept, propagate_covariance,
 };
-pub(crate) use discretise::symmetrise;
 pub use discretise::{discretise, discretise_covariance, discretise_second_order, propagate_covariance_second_order};
+pub(crate) use discretise::{propagate_covariance_second_order_in_place, symmetrise};
 pub use model::{NOISE_INPUTS, NoiseInput, bias_covariance, error_model, noise_psd};

@@ -1,0 +1,138 @@
+#!/usr/bin/env python3
+"""The aided navigator's cost from Python: one hour of 100 Hz IMU increments with 1 Hz GNSS
+position and velocity fixes, filtered by ``AidedNavigator.run`` (goal: at most 1.5 s), against
+the same closed-loop algorithm written per step with numpy on rotaframe's primitives (the
+stepper's ``step``, ``set_state`` and ``error_model``; numpy for the second-order ``Φ``, ``Q_d``,
+``P ← Φ P Φᵀ + Q_d``, the gate, the Joseph update and the feedback), the covariance propagated
+every increment. The numpy loop runs over the first ``--reference-minutes`` (it takes tens of
+microseconds a step); the ratio compares both on that same span, in the same process. The
+run's peak memory (tracemalloc, numpy's allocations included) is compared with the bytes of the
+arrays it returns (goal: at most 1.5×).
+
+Usage: python benches/python/bench_aided.py [--reference-minutes 5] [--repeat 3]
+"""
+
+import argparse
+import math
+import time
+import tracemalloc
+
+import numpy as np
+import rotaframe as rf
+from benchutil import best
+
+LAT, LON, H = math.radians(48.14), math.radians(11.58), 520.0
+RATE = 100.0
+
+
+def scenario(seconds, seed=5):
+    """A level vehicle at rest with small random rates and forces (invented), its increments,
+    and 1 Hz fixes at the start point."""
+    rng = np.random.default_rng(seed)
+    n = int(seconds * RATE)
+    t = np.arange(n + 1) / RATE
+    w = np.asarray(rf.earth_rate_ned(LAT))
+    g = np.asarray(rf.gravity_ned(LAT, H))
+    dtheta = w / RATE + rng.normal(0.0, 1e-6, (n, 3))
+    dv = -g / RATE + rng.normal(0.0, 1e-4, (n, 3))
+    ft = t[int(RATE) :: int(RATE)]
+    fixes = [
+        rf.PositionFixes(ft, np.full(ft.size, LAT), np.full(ft.size, LON), np.full(ft.size, H), [1.5, 1.5, 3.0]),
+        rf.VelocityFixes(ft, np.zeros((ft.size, 3)), [0.05, 0.05, 0.05]),
+    ]
+    return t, dtheta, dv, fixes
+
+
+def imu():
+    return rf.ImuErrors(gyro_arw_deg_per_sqrt_h=0.1, gyro_markov_sigma=np.radians(1.0) / 3600,
+                        accel_vrw_mps_per_sqrt_h=0.05, accel_markov_sigma=5e-3, accel_markov_time=600.0)
+
+
+def p0():
+    sigma = [3 / 6.4e6, 3 / 4.3e6, 3, 0.1, 0.1, 0.1, 1e-3, 1e-3, 5e-3] + [5e-3] * 3 + [np.radians(1.0) / 3600] * 3
+    return np.diag(np.square(sigma))
+
+
+def rotaframe_run(t, dtheta, dv, fixes):
+    nav = rf.AidedNavigator(rf.Strapdown(LAT, LON, H, [0, 0, 0], [1, 0, 0, 0]), imu(), p0())
+    return nav.run(t, dtheta, dv, fixes)
+
+
+def numpy_run(t, dtheta, dv, fixes):
+    """The filter per step in numpy on rotaframe's stepper and error model (position and
+    velocity fixes without lever arm, the 0.999 gate for three rows)."""
+    sd = rf.Strapdown(LAT, LON, H, [0, 0, 0], [1, 0, 0, 0])
+    vrw, arw = 0.05 / 60, math.radians(0.1) / 60
+    psd = np.array([vrw**2] * 3 + [arw**2] * 3 + [2 * 5e-3**2 / 600.0] * 3 + [0.0] * 3)
+    tau_a = 600.0
+    p = p0()
+    bias_a, bias_g = np.zeros(3), np.zeros(3)
+    gate = 16.266  # chi-square, 3 degrees of freedom, 0.999 (scipy.stats.chi2.ppf)
+    fix_index = {round(x * RATE): i for i, x in enumerate(fixes[0].t)}
+    position_sigma, velocity_sigma = np.array([1.5, 1.5, 3.0]), np.full(3, 0.05)
+    eye = np.eye(15)
+    for k in range(dtheta.shape[0]):
+        dt = t[k + 1] - t[k]
+        da, dw = dv[k] - bias_a * dt, dtheta[k] - bias_g * dt
+        f_matrix, g_matrix = sd.error_model(da / dt, dw / dt, imu_errors=None)
+        f_matrix[9:12, 9:12] -= np.eye(3) / tau_a
+        sd.step(dw, da, dt)
+        phi = eye + f_matrix * dt + f_matrix @ f_matrix * (dt * dt / 2)
+        qc = (g_matrix * psd) @ g_matrix.T
+        qd = qc * dt + (f_matrix @ qc + qc @ f_matrix.T) * (dt * dt / 2)
+        p = phi @ p @ phi.T + qd
+        bias_a *= math.exp(-dt / tau_a)
+        i = fix_index.get(k + 1)
+        if i is None:
+            continue
+        m, n = rf.radii_of_curvature(sd.lat)
+        for rows, sigma in ((0, position_sigma), (3, velocity_sigma)):
+            h_matrix = np.zeros((3, 15))
+            if rows == 0:
+                h_matrix[:, 0:3] = np.diag([m + sd.h, (n + sd.h) * math.cos(sd.lat), -1.0])
+                y = np.array([(LAT - sd.lat) * (m + sd.h), (LON - sd.lon) * (n + sd.h) * math.cos(sd.lat), -(H - sd.h)])
+            else:
+                h_matrix[:, 3:6] = np.eye(3)
+                y = -np.asarray(sd.v_ned)
+            s = h_matrix @ p @ h_matrix.T + np.diag(sigma**2)
+            s_inv = np.linalg.inv(s)
+            if y @ s_inv @ y > gate:
+                continue
+            k_gain = p @ h_matrix.T @ s_inv
+            x = -k_gain @ y
+            a = eye - k_gain @ h_matrix
+            p = a @ p @ a.T + k_gain @ np.diag(sigma**2) @ k_gain.T
+            q = np.asarray(sd.attitude)
+            undo = rf.quat_from_rotvec(-x[6:9])
+            sd.set_state(sd.lat - x[0], sd.lon - x[1], sd.h - x[2], np.asarray(sd.v_ned) - x[3:6], rf.quat_multiply(undo, q))
+            bias_a += x[9:12]
+            bias_g += x[12:15]
+    return sd
+
+
+def main():
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--reference-minutes", type=float, default=5.0)
+    parser.add_argument("--repeat", type=int, default=3)
+    args = parser.parse_args()
+    t, dtheta, dv, fixes = scenario(3600.0)
+    hour = best(lambda: rotaframe_run(t, dtheta, dv, fixes), args.repeat)
+    print(f"rotaframe, one hour at 100 Hz with 1 Hz position and velocity fixes: {hour:.3f} s ({hour / dtheta.shape[0] * 1e6:.2f} µs per step)")
+    span = int(args.reference_minutes * 60 * RATE)
+    ts, dths, dvs, fx = scenario(args.reference_minutes * 60)
+    ours = best(lambda: rotaframe_run(ts, dths, dvs, fx), args.repeat)
+    start = time.perf_counter()
+    numpy_run(ts, dths, dvs, fx)
+    theirs = time.perf_counter() - start
+    print(f"same {args.reference_minutes:g} minutes: rotaframe {ours:.3f} s, numpy per step {theirs:.2f} s: {theirs / ours:.0f}x")
+    tracemalloc.start()
+    result = rotaframe_run(t, dtheta, dv, fixes)
+    _, peak = tracemalloc.get_traced_memory()
+    tracemalloc.stop()
+    returned = sum(getattr(result, f).nbytes for f in ("t", "lat", "lon", "h", "v_ned", "attitude", "sigma", "imu_errors", "epochs", "covariance"))
+    returned += sum(x.innovation.nbytes + x.std.nbytes + x.nis.nbytes + x.accepted.nbytes + x.t.nbytes for x in result.innovations)
+    print(f"peak memory of the run {peak / 1e6:.1f} MB, arrays returned {returned / 1e6:.1f} MB: {peak / returned:.2f}x (span {span} steps)")
+
+
+if __name__ == "__main__":
+    main()
