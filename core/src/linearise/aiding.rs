@@ -38,7 +38,7 @@
 //! terms left out are second order in the errors or of order `Ω |l|` against the noise: the
 //! rotation of the NED axes with a position error in the ECEF velocity models, the latitude
 //! dependence of the Earth rate in the lever-arm terms (below 1e-10 m/s per metre of error). The heading row is the first row of
-//! [`euler_from_quaternion_jacobian`](super::euler_from_quaternion_jacobian). (Forms from
+//! [`euler_from_quaternion_jacobian`]. (Forms from
 //! P. D. Groves, *Principles of GNSS, Inertial, and Multisensor Integrated Navigation
 //! Systems*, 2nd ed. (2013), §14.3 and §16.3, rewritten for this crate's error conventions;
 //! section numbers from memory.)
@@ -390,7 +390,7 @@ pub fn height_fix<const N: usize>(point: &NavPoint, height: f64) -> LinearMeasur
 ///
 /// # Errors
 /// [`Error::Invalid`](crate::Error::Invalid) at ±90° pitch, where heading is undefined (as
-/// [`euler_from_quaternion_jacobian`](super::euler_from_quaternion_jacobian)).
+/// [`euler_from_quaternion_jacobian`]).
 ///
 /// ```
 /// use nalgebra::{UnitQuaternion, Vector3};
