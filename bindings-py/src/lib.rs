@@ -58,6 +58,7 @@ fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(nav::imu::ideal_imu, m)?)?;
     m.add_function(wrap_pyfunction!(nav::imu::imu_increments, m)?)?;
     m.add_function(wrap_pyfunction!(nav::imu::imu_increments_from_samples, m)?)?;
+    m.add_function(wrap_pyfunction!(nav::imu::increments_from_rates, m)?)?;
     m.add_function(wrap_pyfunction!(nav::imu::motion_from_samples, m)?)?;
     m.add_function(wrap_pyfunction!(nav::lever::lever_arm_state, m)?)?;
     m.add_function(wrap_pyfunction!(nav::strapdown::run_strapdowns, m)?)?;

@@ -87,6 +87,7 @@ __all__ = [
     "ideal_imu",
     "imu_increments",
     "imu_increments_from_samples",
+    "increments_from_rates",
     "lever_arm_state",
     "run_strapdowns",
     "schuler_period",
@@ -485,6 +486,9 @@ def imu_increments_from_samples(
     model: Optional[EarthModel] = None,
     gravity: _Gravity = "normal",
     degrees: bool = False,
+) -> tuple[_Array, _Array, _Array]: ...
+def increments_from_rates(
+    t: ArrayLike, omega: ArrayLike, f: ArrayLike, *, max_gap: Optional[float] = None
 ) -> tuple[_Array, _Array, _Array]: ...
 def motion_from_samples(
     t: ArrayLike,

@@ -253,6 +253,49 @@ pub fn imu_increments_from_samples<'py>(
     increments_tuple(py, &increments)
 }
 
+/// Angle and velocity increments `(dtheta, dv, dt)` from an IMU rate log: time tags `t` (N,)
+/// s, angular rate `omega` (N, 3) rad/s and specific force `f` (N, 3) m/s², body axes, each
+/// sample at its own tag. Each of the N − 1 intervals is integrated by two-point Gauss–Legendre
+/// quadrature of the cubic through the four nearest samples (see the core's `nav::rates`;
+/// fourth order, jitter handled through the tags). Tags must be strictly increasing; with
+/// `max_gap` (s) a longer gap raises `RotaframeError` giving its start and end times.
+#[pyfunction]
+#[pyo3(signature = (t, omega, f, *, max_gap=None))]
+pub fn increments_from_rates<'py>(
+    py: Python<'py>,
+    t: &Bound<'py, PyAny>,
+    omega: &Bound<'py, PyAny>,
+    f: &Bound<'py, PyAny>,
+    max_gap: Option<f64>,
+) -> PyResult<Bound<'py, PyTuple>> {
+    let tags = sample_times(t, "t", 2)?;
+    let n = tags.len();
+    let rows = |obj: &Bound<'py, PyAny>, name: &'static str| -> PyResult<Vec<rotaframe::nalgebra::Vector3<f64>>> {
+        let array = crate::plumbing::broadcast::real_array(obj, name)?;
+        let shape = numpy::PyUntypedArrayMethods::shape(&array).to_vec();
+        if shape != [n, 3] {
+            return Err(ShapeError::new_err(format!("`{name}` must have shape ({n}, 3), one row per tag in `t`, got {shape:?}")));
+        }
+        let values: Vec<f64> = numpy::PyArrayMethods::readonly(&array).as_array().iter().copied().collect();
+        Ok(values.chunks_exact(3).map(rotaframe::nalgebra::Vector3::from_column_slice).collect())
+    };
+    let (w, a) = (rows(omega, "omega")?, rows(f, "f")?);
+    let mut out = vec![ImuIncrement::default(); n - 1];
+    py.detach(|| nav::increments_from_rates(&tags, &w, &a, max_gap, &mut out)).map_err(|e| match e {
+        nav::RateLogError::Input { index, error } => {
+            let named = match error.quantity() {
+                "angular_rate" => error.with_quantity("omega"),
+                "specific_force" => error.with_quantity("f"),
+                "interval" => error.with_quantity("t"),
+                _ => error,
+            };
+            to_py(&named, &format!("(sample {index})"))
+        }
+        gap @ nav::RateLogError::Gap(_) => crate::plumbing::errors::RotaframeError::new_err(gap.to_string()),
+    })?;
+    increments_tuple(py, &out)
+}
+
 /// The body's motion relative to ECEF (labels "ecef" → "body") interpolated from a recorded
 /// log at `times` (1-D, within the log): position, velocity, acceleration, attitude, angular
 /// velocity and angular acceleration, as `imu_increments_from_samples` uses them.

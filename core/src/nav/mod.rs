@@ -10,7 +10,9 @@
 //!   form, a heap-free stepper ([`Strapdown`]) and a batch runner;
 //! * [`sensor`]: a seeded sensor error model (bias, scale factor, misalignment, white noise,
 //!   first-order Gauss–Markov bias) to corrupt ideal increments for simulation;
-//! * [`lever`]: the position, velocity and acceleration of a point at a body-fixed lever arm.
+//! * [`lever`]: the position, velocity and acceleration of a point at a body-fixed lever arm;
+//! * [`rates`]: IMU rate logs (angular rate and specific force at their own time tags) to the
+//!   increments the stepper takes.
 //!
 //! # Words
 //!
@@ -31,6 +33,7 @@
 
 pub mod imu;
 pub mod lever;
+pub mod rates;
 pub mod recorded;
 pub mod sensor;
 pub mod strapdown;
@@ -39,6 +42,7 @@ pub use imu::{
     ImuIncrement, ImuSample, QUADRATURE_NODES, check_interval, ideal_imu, imu_increment, imu_increments,
     increment_from_node_samples, quadrature_times,
 };
+pub use rates::{DataGap, RateLogError, increments_from_rates};
 pub use lever::{lever_arm_kinematics, lever_arm_state, sensor_mount};
 pub use recorded::{
     CartesianSamples, GeodeticPoses, PoseSource, RecordedSample, RecordedSlices, RecordedTrajectory, SampleSource, SampledMotion,
