@@ -42,8 +42,8 @@ pub use imu::{
     ImuIncrement, ImuSample, QUADRATURE_NODES, check_interval, ideal_imu, imu_increment, imu_increments,
     increment_from_node_samples, quadrature_times,
 };
-pub use rates::{DataGap, RateLogError, increments_from_rates};
 pub use lever::{lever_arm_kinematics, lever_arm_state, sensor_mount};
+pub use rates::{DataGap, RateLogError, increments_from_rates};
 pub use recorded::{
     CartesianSamples, GeodeticPoses, PoseSource, RecordedSample, RecordedSlices, RecordedTrajectory, SampleSource, SampledMotion,
     SegmentCache,

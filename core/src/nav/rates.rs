@@ -135,7 +135,7 @@ pub fn increments_from_rates(
         }
     }
     if let Some(gap) = max_gap
-        && !(gap > 0.0)
+        && (gap.is_nan() || gap <= 0.0)
     {
         return Err(at(0)(Error::NotPositive { quantity: "max_gap", value: gap }));
     }
