@@ -27,6 +27,28 @@ pub const POSITION_SIGMA: [f64; 3] = [1.0, 1.0, 2.0];
 /// GNSS velocity 1σ per axis (m/s).
 pub const VELOCITY_SIGMA: f64 = 0.05;
 
+/// An invented industrial MEMS IMU whose biases wander (Gauss–Markov, 5 minutes): 0.3
+/// deg/√h angle random walk, a 10 deg/h gyro bias instability, 0.1 m/s/√h velocity random
+/// walk, a 2 mg accelerometer bias instability. Through a GNSS outage its drift is mostly
+/// bias that the fixes after the outage reveal.
+#[must_use]
+pub fn mems_imu() -> ImuErrorModel {
+    ImuErrorModel {
+        gyro: SensorErrorModel {
+            noise_density: Vector3::repeat(0.3_f64.to_radians() / 60.0),
+            markov_sigma: Vector3::repeat(10.0_f64.to_radians() / 3600.0),
+            markov_time: Vector3::repeat(300.0),
+            ..SensorErrorModel::default()
+        },
+        accelerometer: SensorErrorModel {
+            noise_density: Vector3::repeat(0.1 / 60.0),
+            markov_sigma: Vector3::repeat(2e-2),
+            markov_time: Vector3::repeat(300.0),
+            ..SensorErrorModel::default()
+        },
+    }
+}
+
 /// An invented tactical-grade IMU: 0.1 deg/√h angle random walk, a 1 deg/h random-constant
 /// gyro bias, 0.05 m/s/√h velocity random walk, a 0.5 mg Gauss–Markov accelerometer bias of
 /// 10 minutes.
@@ -282,4 +304,153 @@ pub fn truncated_chi_square_moments(k: f64, gate: f64) -> (f64, f64) {
     }
     let mean = m1 / m0;
     (mean, m2 / m0 - mean * mean)
+}
+
+/// One run of the navigator over the flight, filtered and smoothed, with GNSS missing over
+/// `outage` (start, end in s).
+#[derive(Debug, Clone)]
+pub struct SmoothedRun {
+    /// Filtered navigation error (nine states) at every IMU time.
+    pub filtered_error: Vec<SVector<f64, 9>>,
+    /// Filtered 1σ of all 15 states at every IMU time.
+    pub filtered_sigma: Vec<[f64; 15]>,
+    /// Smoothed navigation error at every IMU time.
+    pub smoothed_error: Vec<SVector<f64, 9>>,
+    /// Smoothed 1σ at every IMU time.
+    pub smoothed_sigma: Vec<[f64; 15]>,
+    /// IMU index of every accepted GNSS epoch, with the smoothed covariance of the nine
+    /// navigation states there.
+    pub epochs: Vec<(usize, SMatrix<f64, 9, 9>)>,
+}
+
+/// Records the filtered solution and the smoother's log at once.
+struct Recorder {
+    log: rotaframe::aided::SmootherLog,
+    filtered: Vec<(NavState, [f64; 15])>,
+    epochs: Vec<usize>,
+}
+
+impl rotaframe::aided::RunSink for Recorder {
+    const TRACES: bool = true;
+    fn propagated(
+        &mut self,
+        start: &rotaframe::nav::MechanizationState,
+        interval: f64,
+        navigator: &rotaframe::aided::AidedNavigator,
+    ) {
+        self.log.propagated(start, interval, navigator);
+    }
+    fn updated(&mut self, gain: &rotaframe::aided::GainTrace<'_>, covariance: &[f64]) {
+        self.log.updated(gain, covariance);
+    }
+    fn step(&mut self, index: usize, navigator: &rotaframe::aided::AidedNavigator) {
+        self.log.step(index, navigator);
+        let mut sigma = [0.0; 15];
+        navigator.write_sigma(&mut sigma).unwrap();
+        self.filtered.push((navigator.state(), sigma));
+    }
+    fn epoch(&mut self, time: f64, navigator: &rotaframe::aided::AidedNavigator, accepted: bool) {
+        self.log.epoch(time, navigator, accepted);
+        if accepted {
+            self.epochs.push(self.filtered.len());
+        }
+    }
+}
+
+/// The smoothed points and epoch covariances, by index.
+struct Smoothed {
+    points: Vec<(NavState, [f64; 15])>,
+    epochs: Vec<SMatrix<f64, 9, 9>>,
+}
+
+impl rotaframe::aided::SmoothedSink for Smoothed {
+    fn point(&mut self, index: usize, point: &rotaframe::aided::SmoothedPoint<'_>) {
+        let mut sigma = [0.0; 15];
+        sigma.copy_from_slice(point.sigma);
+        self.points[index] = (point.state, sigma);
+    }
+    fn epoch(&mut self, index: usize, covariance: &[f64]) {
+        self.epochs[index] = SMatrix::<f64, 15, 15>::from_column_slice(covariance).fixed_view::<9, 9>(0, 0).into_owned();
+    }
+}
+
+/// One seeded run of [`run_once`]'s fixes, sensors corrupted by `imu` (also the filter's
+/// model), through [`rotaframe::aided::AidedNavigator::run`]
+/// with the smoother's log, GNSS absent over `outage`.
+#[must_use]
+pub fn smoothed_run(flight: &Flight, imu: &ImuErrorModel, seed: u64, outage: Option<(f64, f64)>) -> SmoothedRun {
+    use rotaframe::aided::{AidedNavigator, MeasurementSet, MeasurementSlices};
+    let imu = *imu;
+    let mut sensors = ImuErrorGenerator::new(imu, 0xa1d_0000 + seed).unwrap();
+    let mut rng = Seeded(0x9a55_0000 + seed);
+    let start = flight.truth[0];
+    let sigma = initial_sigma(&start.position);
+    let d: Vec<f64> = sigma.iter().map(|s| s * normal(&mut rng)).collect();
+    let initial = NavState::new(
+        Geodetic {
+            latitude: start.position.latitude + d[0],
+            longitude: start.position.longitude + d[1],
+            height: start.position.height + d[2],
+        },
+        start.velocity_ned + Vector3::new(d[3], d[4], d[5]),
+        UnitQuaternion::from_scaled_axis(Vector3::new(d[6], d[7], d[8])) * start.attitude,
+    );
+    let ins = Strapdown::new(StrapdownConfig::default(), &initial).unwrap();
+    let p0 = initial_covariance(&start.position, &imu);
+    let mut nav = AidedNavigator::new(ins, &imu, p0.as_slice(), 15, FilterSettings::default()).unwrap();
+    let times: Vec<f64> = (0..=flight.increments.len()).map(|k| k as f64 / RATE).collect();
+    let (mut dtheta, mut dv) = (Vec::new(), Vec::new());
+    for increment in &flight.increments {
+        let m = sensors.corrupt(increment).unwrap();
+        dtheta.push([m.delta_angle.x, m.delta_angle.y, m.delta_angle.z]);
+        dv.push([m.delta_velocity.x, m.delta_velocity.y, m.delta_velocity.z]);
+    }
+    let (mut fix_times, mut positions, mut velocities) = (Vec::new(), Vec::new(), Vec::new());
+    for second in 1..=(DURATION as usize) {
+        let t = second as f64;
+        let (antenna, velocity) = flight.antenna(t);
+        let radii = rotaframe::earth::radii_of_curvature(&WGS84, antenna.latitude).unwrap();
+        let noise = Vector3::from_fn(|i, _| POSITION_SIGMA[i] * normal(&mut rng));
+        let v_noise = Vector3::from_fn(|_, _| VELOCITY_SIGMA * normal(&mut rng));
+        if outage.is_some_and(|(a, b)| t > a && t < b) {
+            continue;
+        }
+        fix_times.push(t);
+        positions.push(Measurement::Position {
+            position: Geodetic {
+                latitude: antenna.latitude + noise.x / (radii.meridian + antenna.height),
+                longitude: antenna.longitude + noise.y / ((radii.prime_vertical + antenna.height) * antenna.latitude.cos()),
+                height: antenna.height - noise.z,
+            },
+            sigma_ned: Vector3::from(POSITION_SIGMA),
+            lever_arm: Vector3::from(LEVER_ARM),
+        });
+        velocities.push(Measurement::Velocity {
+            velocity_ned: velocity + v_noise,
+            sigma_ned: Vector3::repeat(VELOCITY_SIGMA),
+            lever_arm: Vector3::from(LEVER_ARM),
+        });
+    }
+    let position_set = MeasurementSlices { times: &fix_times, measurements: &positions };
+    let velocity_set = MeasurementSlices { times: &fix_times, measurements: &velocities };
+    let sets: [&dyn MeasurementSet; 2] = [&position_set, &velocity_set];
+    let mut recorder = Recorder {
+        log: rotaframe::aided::SmootherLog::new(&nav).unwrap(),
+        filtered: Vec::with_capacity(times.len()),
+        epochs: Vec::new(),
+    };
+    nav.run(&times, &dtheta, &dv, &sets, &mut recorder).unwrap();
+    let mut smoothed =
+        Smoothed { points: vec![(initial, [0.0; 15]); times.len()], epochs: vec![SMatrix::zeros(); recorder.epochs.len()] };
+    recorder.log.smooth(&mut smoothed).unwrap();
+    let errors = |states: &[(NavState, [f64; 15])]| -> Vec<SVector<f64, 9>> {
+        states.iter().zip(&flight.truth).map(|((s, _), truth)| nav_error(s, truth)).collect()
+    };
+    SmoothedRun {
+        filtered_error: errors(&recorder.filtered),
+        filtered_sigma: recorder.filtered.iter().map(|(_, s)| *s).collect(),
+        smoothed_error: errors(&smoothed.points),
+        smoothed_sigma: smoothed.points.iter().map(|(_, s)| *s).collect(),
+        epochs: recorder.epochs.iter().copied().zip(smoothed.epochs).collect(),
+    }
 }

@@ -183,22 +183,7 @@ fn stationary_alignment_errors_follow_bias_over_g_and_east_gyro_bias_over_horizo
     }
 }
 
-fn mems_imu() -> ImuErrorModel {
-    ImuErrorModel {
-        gyro: SensorErrorModel {
-            noise_density: Vector3::repeat(0.3_f64.to_radians() / 60.0),
-            markov_sigma: Vector3::repeat(10.0_f64.to_radians() / 3600.0),
-            markov_time: Vector3::repeat(300.0),
-            ..SensorErrorModel::default()
-        },
-        accelerometer: SensorErrorModel {
-            noise_density: Vector3::repeat(0.1 / 60.0),
-            markov_sigma: Vector3::repeat(2e-2),
-            markov_time: Vector3::repeat(300.0),
-            ..SensorErrorModel::default()
-        },
-    }
-}
+use rotaframe_tests::aided::mems_imu;
 
 #[test]
 fn gyrocompassing_is_refused_for_gyros_that_cannot_see_the_earth_rate_and_a_given_heading_is_used() {

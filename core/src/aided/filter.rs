@@ -64,6 +64,25 @@ pub struct UpdateReport {
     pub accepted: bool,
 }
 
+/// The linear algebra of one accepted update, for a smoother's backward pass: the
+/// measurement Jacobian, the inverse innovation covariance, the innovation of the measurement
+/// on the error state and the gain. Rows beyond the measurement's are zero (and `S⁻¹` there is
+/// the identity block of the padding).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Gain<const N: usize> {
+    /// Rows used (1 to 3).
+    pub rows: usize,
+    /// `H = ∂ẑ/∂δx`.
+    pub jacobian: SMatrix<f64, MAX_ROWS, N>,
+    /// `S⁻¹ = (H P Hᵀ + R)⁻¹`.
+    pub s_inverse: Matrix3<f64>,
+    /// `ν = ẑ − z = −y`: the innovation of the error-state measurement `ν ≈ H δx + v`, whose
+    /// update is `δx̂ = K ν`.
+    pub innovation: Vector3<f64>,
+    /// `K = P Hᵀ S⁻¹`.
+    pub gain: SMatrix<f64, N, MAX_ROWS>,
+}
+
 /// What a filter carries besides its stepper, covariance, model and settings: the sensor-error
 /// estimate in its parts and the compensated rates of the last increment (for saving a filter:
 /// a pickle, a C struct).
@@ -346,6 +365,16 @@ impl<const N: usize> AidedFilter<N> {
     /// innovation covariance is not positive definite.
     #[inline]
     pub fn update(&mut self, measurement: &Measurement) -> Result<UpdateReport> {
+        self.update_with_gain(measurement).map(|(report, _)| report)
+    }
+
+    /// [`update`](Self::update), also returning the [`Gain`] of an accepted update (for a
+    /// smoother).
+    ///
+    /// # Errors
+    /// As [`update`](Self::update).
+    #[inline]
+    pub fn update_with_gain(&mut self, measurement: &Measurement) -> Result<(UpdateReport, Option<Gain<N>>)> {
         let earth = self.strapdown.config().earth;
         measurement.validate(&earth)?;
         if self.pending.count > 0 {
@@ -361,7 +390,11 @@ impl<const N: usize> AidedFilter<N> {
     /// [`update`](Self::update) with nothing pending; changes the filter only at the end, so
     /// that on error it is unchanged.
     #[inline]
-    fn update_propagated(&mut self, measurement: &Measurement, earth: &crate::earth::EarthModel) -> Result<UpdateReport> {
+    fn update_propagated(
+        &mut self,
+        measurement: &Measurement,
+        earth: &crate::earth::EarthModel,
+    ) -> Result<(UpdateReport, Option<Gain<N>>)> {
         let point = NavPoint::of(&self.strapdown, &self.rate);
         let linear = measurement.linearise::<N>(&point, earth)?;
         let rows = linear.rows;
@@ -384,6 +417,7 @@ impl<const N: usize> AidedFilter<N> {
         }
         let accepted = nis <= self.thresholds[rows - 1];
         let report = UpdateReport { rows, innovation: y, std, nis, accepted };
+        let mut applied = None;
         if accepted {
             let k = u.transpose() * s_inverse;
             let estimate: SVector<f64, N> = -(k * y);
@@ -397,8 +431,9 @@ impl<const N: usize> AidedFilter<N> {
             self.markov_bias = corrected.markov_bias;
             self.scale_factor = corrected.scale_factor;
             self.inverse_gain = corrected.inverse_gain;
+            applied = Some(Gain { rows, jacobian: h, s_inverse, innovation: -y, gain: k });
         }
-        Ok(report)
+        Ok((report, applied))
     }
 
     /// The stepper and sensor-error estimate with an error-state estimate fed back: the

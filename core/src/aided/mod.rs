@@ -8,7 +8,9 @@
 //! * [`measurement`]: the measurements ([`Measurement`]), whose models are those of
 //!   [`linearise::aiding`](crate::linearise::aiding);
 //! * [`gate`]: the chi-square quantile of the innovation gate;
-//! * [`align`]: stationary coarse alignment and heading from the course over ground.
+//! * [`align`]: stationary coarse alignment and heading from the course over ground;
+//! * [`smoother`] (with `alloc`): the fixed-interval (Rauch–Tung–Striebel) smoother of a
+//!   recorded run, in the modified Bryson–Frazier form.
 //!
 //! # The filter
 //!
@@ -62,11 +64,16 @@ pub mod filter;
 pub mod gate;
 pub mod measurement;
 pub mod navigator;
+#[cfg(feature = "alloc")]
+pub mod smoother;
 
 pub use align::{Alignment, StationaryRecord, align_stationary, heading_from_course};
-pub use filter::{AidedFilter, FilterMemory, FilterSettings, SensorEstimate, UpdateReport};
+pub use filter::{AidedFilter, FilterMemory, FilterSettings, Gain, SensorEstimate, UpdateReport};
 pub use gate::{MAX_ROWS, chi_square_quantile};
 pub use measurement::{MAX_LEVER_ARM, Measurement};
 pub use navigator::{
-    AidedNavigator, MAX_MEASUREMENT_SETS, MeasurementSet, MeasurementSlices, RunSink, TIME_SNAP, check_measurement_times,
+    AidedNavigator, GainTrace, MAX_MEASUREMENT_SETS, MeasurementSet, MeasurementSlices, RunSink, TIME_SNAP,
+    check_measurement_times,
 };
+#[cfg(feature = "alloc")]
+pub use smoother::{Adjoint, CHECKPOINT_EVERY, SmoothedPoint, SmoothedSink, SmootherLog};

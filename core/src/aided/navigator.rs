@@ -4,10 +4,10 @@
 
 use nalgebra::{SMatrix, Vector3};
 
-use super::filter::{AidedFilter, FilterMemory, FilterSettings, UpdateReport};
+use super::filter::{AidedFilter, FilterMemory, FilterSettings, Gain, UpdateReport};
 use super::measurement::Measurement;
 use crate::error::{BatchError, Error, Result, ensure_finite};
-use crate::nav::{ImuErrorModel, ImuIncrement, NavState, Strapdown};
+use crate::nav::{ImuErrorModel, ImuIncrement, MechanizationState, NavState, Strapdown};
 
 /// A measurement within this time (s) of an IMU time is applied at that IMU time; one further
 /// from both ends of an increment splits it (see [`AidedNavigator::run`]).
@@ -70,8 +70,51 @@ impl MeasurementSet for MeasurementSlices<'_> {
     }
 }
 
+/// An accepted update's [`Gain`], of either size: `H` (`3 × states`) and `K` (`states × 3`)
+/// column-major, the other parts as in [`Gain`].
+#[derive(Debug, Clone, Copy)]
+pub struct GainTrace<'a> {
+    /// Rows used (1 to 3).
+    pub rows: usize,
+    /// `H`, column-major `3 × states`.
+    pub jacobian: &'a [f64],
+    /// `S⁻¹`.
+    pub s_inverse: &'a nalgebra::Matrix3<f64>,
+    /// `ν = ẑ − z`.
+    pub innovation: &'a Vector3<f64>,
+    /// `K`, column-major `states × 3`.
+    pub gain: &'a [f64],
+}
+
+impl<'a, const N: usize> From<&'a Gain<N>> for GainTrace<'a> {
+    fn from(g: &'a Gain<N>) -> Self {
+        Self {
+            rows: g.rows,
+            jacobian: g.jacobian.as_slice(),
+            s_inverse: &g.s_inverse,
+            innovation: &g.innovation,
+            gain: g.gain.as_slice(),
+        }
+    }
+}
+
 /// What a run hands out as it goes. Every method has an empty default.
 pub trait RunSink {
+    /// Whether the run calls [`propagated`](Self::propagated) and [`updated`](Self::updated)
+    /// (what a smoother records; off by default, and then free).
+    const TRACES: bool = false;
+    /// After each covariance propagation (every increment, or part of one split at a
+    /// measurement): the mechanization state it started from, and the navigator after it
+    /// (its [`last_rates`](AidedNavigator::last_rates) are the compensated rates it used).
+    /// Called only when [`TRACES`](Self::TRACES).
+    fn propagated(&mut self, start: &MechanizationState, interval: f64, navigator: &AidedNavigator) {
+        let _ = (start, interval, navigator);
+    }
+    /// After each accepted update, with its gain and the covariance after it (`states²`
+    /// values). Called only when [`TRACES`](Self::TRACES).
+    fn updated(&mut self, gain: &GainTrace<'_>, covariance: &[f64]) {
+        let _ = (gain, covariance);
+    }
     /// After IMU time `index` (0 for the start, `k + 1` after increment `k`) and every
     /// measurement at that time.
     fn step(&mut self, index: usize, navigator: &AidedNavigator) {
@@ -234,6 +277,19 @@ impl AidedNavigator {
         each!(&mut self.filter, f => f.predict(increment))
     }
 
+    /// [`predict`](Self::predict), telling a tracing sink the piece (see [`RunSink::TRACES`]).
+    #[inline]
+    fn predict_traced<S: RunSink>(&mut self, increment: &ImuIncrement, sink: &mut S) -> Result<()> {
+        if S::TRACES {
+            let start = self.strapdown().parts().1;
+            self.predict(increment)?;
+            sink.propagated(&start, increment.interval, self);
+            Ok(())
+        } else {
+            self.predict(increment)
+        }
+    }
+
     /// See [`AidedFilter::update`].
     ///
     /// # Errors
@@ -382,14 +438,14 @@ impl AidedNavigator {
             {
                 let share = (next - cursor) / (end - cursor);
                 let piece = ImuIncrement::new(angle * share, velocity * share, next - cursor);
-                nav.predict(&piece).map_err(at(k))?;
+                nav.predict_traced(&piece, sink).map_err(at(k))?;
                 angle -= piece.delta_angle;
                 velocity -= piece.delta_velocity;
                 cursor = next;
                 nav.time = Some(next);
                 nav.apply_due(next, sets, &mut cursors, sink).map_err(at(k))?;
             }
-            nav.predict(&ImuIncrement::new(angle, velocity, end - cursor)).map_err(at(k))?;
+            nav.predict_traced(&ImuIncrement::new(angle, velocity, end - cursor), sink).map_err(at(k))?;
             nav.time = Some(end);
             nav.apply_due(end, sets, &mut cursors, sink).map_err(at(k))?;
             sink.step(k + 1, &nav);
@@ -403,17 +459,28 @@ impl AidedNavigator {
 
     /// Applies every measurement due by `now` (within [`TIME_SNAP`]), set by set, and tells
     /// the sink.
-    fn apply_due(
+    fn apply_due<S: RunSink>(
         &mut self,
         now: f64,
         sets: &[&dyn MeasurementSet],
         cursors: &mut [usize; MAX_MEASUREMENT_SETS],
-        sink: &mut impl RunSink,
+        sink: &mut S,
     ) -> Result<()> {
         let (mut any, mut accepted) = (false, false);
         for (s, set) in sets.iter().enumerate() {
             while cursors[s] < set.len() && set.time(cursors[s]) <= now + TIME_SNAP {
-                let report = self.update(&set.measurement(cursors[s]))?;
+                let measurement = set.measurement(cursors[s]);
+                let report = if S::TRACES {
+                    each!(&mut self.filter, f => {
+                        let (report, gain) = f.update_with_gain(&measurement)?;
+                        if let Some(g) = &gain {
+                            sink.updated(&GainTrace::from(g), f.covariance().as_slice());
+                        }
+                        report
+                    })
+                } else {
+                    self.update(&measurement)?
+                };
                 sink.measurement(s, cursors[s], &report);
                 accepted |= report.accepted;
                 any = true;

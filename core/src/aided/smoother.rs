@@ -1,0 +1,455 @@
+//! Fixed-interval smoothing of the closed-loop error-state filter: the best estimate at every
+//! IMU time given all the measurements of a run, before and after, with its covariance.
+//!
+//! # The formulation
+//!
+//! The Rauch–Tung–Striebel smoother, computed in the **modified Bryson–Frazier** (adjoint)
+//! form, which needs no inverse of a predicted covariance and suits the closed loop: the
+//! filter feeds every correction back into its nominal trajectory and resets its error state,
+//! so the filtered error relative to the nominal is zero at every time and the smoothed error
+//! relative to it is
+//!
+//! ```text
+//! δx̂ˢ_k = −P_k λ_k,        Pˢ_k = P_k − P_k Λ_k P_k
+//! ```
+//!
+//! with the adjoint `λ` (an `N`-vector) and its information `Λ` (`N × N`) run backwards from
+//! `λ = 0`, `Λ = 0` after the last time:
+//!
+//! ```text
+//! through an update (ν = ẑ − z, S⁻¹, K, H of the real run, in reverse order at one time):
+//!     λ ← −Hᵀ S⁻¹ ν + (I − K H)ᵀ λ,      Λ ← Hᵀ S⁻¹ H + (I − K H)ᵀ Λ (I − K H)
+//! back through a propagation P ← Φ P Φᵀ + Q_d:
+//!     λ ← Φᵀ λ,                          Λ ← Φᵀ Λ Φ
+//! ```
+//!
+//! `Φ = I + F T + F² T²/2` being the filter's own second-order transition, rebuilt from the
+//! stored nominal state and compensated rates (the same inputs, so the same `F` to the bit).
+//! `P_k` is the filter's covariance after the updates at `k`. The smoothed state is the
+//! filter's nominal state with `δx̂ˢ` removed (as a feedback removes an estimate) and the
+//! smoothed sensor errors are the filtered ones plus `δx̂ˢ`'s sensor part. (H. E. Rauch, F. Tung
+//! and C. T. Striebel, "Maximum likelihood estimates of linear dynamic systems", AIAA J. 3
+//! (1965); the adjoint form: G. J. Bierman, *Factorization Methods for Discrete Sequential
+//! Estimation* (1977), ch. X, "modified Bryson–Frazier"; its use with a closed-loop error-state
+//! filter, whose resets relabel the error state without changing its covariance to first
+//! order: Groves (2013), §14.3.4; chapter and section numbers from memory.)
+//!
+//! # Storage
+//!
+//! [`SmootherLog`] records a run as it goes (it is a [`RunSink`]): per propagation the nominal
+//! state, compensated rates and interval (about 150 bytes); per accepted update its `H`, `S⁻¹`,
+//! `ν` and `K`; the covariance after each accepted update and every
+//! [`CHECKPOINT_EVERY`] propagations. The backward pass rebuilds the covariances between two
+//! checkpoints by propagating forward again, one segment at a time, so it never holds a
+//! covariance per IMU step. A run with [`FilterSettings::propagate_every`] above 1 is refused
+//! (its covariance is not stepped per increment).
+//!
+//! [`FilterSettings::propagate_every`]: super::FilterSettings::propagate_every
+
+use alloc::vec::Vec;
+
+use nalgebra::{SMatrix, SVector, Vector3};
+
+use super::filter::Gain;
+use super::gate::MAX_ROWS;
+use super::navigator::{AidedNavigator, GainTrace, RunSink};
+use crate::error::{Error, Result};
+use crate::linearise::inertial::{NOISE_INPUTS, error_model, noise_psd, propagate_covariance_second_order_in_place};
+use crate::nav::{ImuErrorModel, MechanizationState, NavState, StepMemory, Strapdown, StrapdownConfig};
+
+/// Propagations between two stored covariances (besides those after every accepted update):
+/// the longest segment the backward pass rebuilds.
+pub const CHECKPOINT_EVERY: usize = 256;
+
+/// The adjoint of the modified Bryson–Frazier smoother (see the [module documentation](self)):
+/// `λ` and its information `Λ`, run backwards from zero.
+///
+/// ```
+/// use nalgebra::{SMatrix, SVector};
+/// use rotaframe::aided::smoother::Adjoint;
+/// // A scalar random walk seen once: after the update the smoothed estimate moves toward it.
+/// let mut adjoint = Adjoint::<1>::zero();
+/// let p = SMatrix::<f64, 1, 1>::new(2.0);
+/// adjoint.through_transition(&SMatrix::<f64, 1, 1>::identity());
+/// let (estimate, covariance) = adjoint.smoothed(&p);
+/// assert_eq!((estimate[0], covariance[(0, 0)]), (0.0, 2.0)); // nothing later: the filter's
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Adjoint<const N: usize> {
+    /// `λ`.
+    pub lambda: SVector<f64, N>,
+    /// `Λ`, symmetric.
+    pub information: SMatrix<f64, N, N>,
+}
+
+impl<const N: usize> Adjoint<N> {
+    /// `λ = 0`, `Λ = 0`: after the last measurement.
+    #[must_use]
+    pub fn zero() -> Self {
+        Self { lambda: SVector::zeros(), information: SMatrix::zeros() }
+    }
+
+    /// Back through one accepted update (rows beyond `gain.rows` zero in `H` and `K`):
+    /// `λ ← −Hᵀ S⁻¹ ν + (I − K H)ᵀ λ`, `Λ ← Hᵀ S⁻¹ H + (I − K H)ᵀ Λ (I − K H)`.
+    pub fn through_update(&mut self, gain: &Gain<N>) {
+        let h = &gain.jacobian;
+        let a = SMatrix::<f64, N, N>::identity() - gain.gain * h;
+        let hs = h.transpose() * gain.s_inverse;
+        self.lambda = a.transpose() * self.lambda - hs * gain.innovation;
+        let mut information = a.transpose() * self.information * a + hs * h;
+        crate::linearise::inertial::symmetrise(&mut information);
+        self.information = information;
+    }
+
+    /// Back through a transition `x ← Φ x + w`: `λ ← Φᵀ λ`, `Λ ← Φᵀ Λ Φ`.
+    pub fn through_transition(&mut self, phi: &SMatrix<f64, N, N>) {
+        self.lambda = phi.transpose() * self.lambda;
+        let mut information = phi.transpose() * self.information * phi;
+        crate::linearise::inertial::symmetrise(&mut information);
+        self.information = information;
+    }
+
+    /// Back through the filter's second-order step `Φ = I + F T + F² T²/2` (the exact adjoint
+    /// of [`propagate_covariance_second_order`](crate::linearise::inertial::propagate_covariance_second_order)).
+    ///
+    /// # Errors
+    /// [`Error::Invalid`] naming `p` if `Λ` overflows.
+    pub fn through_second_order_step(&mut self, f: &SMatrix<f64, N, N>, interval: f64) -> Result<()> {
+        let ft = f.transpose();
+        let first = ft * self.lambda;
+        self.lambda += (first + ft * first * (interval / 2.0)) * interval;
+        let (g, psd) = (SMatrix::<f64, N, NOISE_INPUTS>::zeros(), SVector::<f64, NOISE_INPUTS>::zeros());
+        propagate_covariance_second_order_in_place(&ft, &g, &psd, &mut self.information, interval)
+    }
+
+    /// The smoothed error estimate relative to the filter's and its covariance, given the
+    /// filter's covariance `p` at the same point: `(−P λ, P − P Λ P)`.
+    #[must_use]
+    pub fn smoothed(&self, p: &SMatrix<f64, N, N>) -> (SVector<f64, N>, SMatrix<f64, N, N>) {
+        let mut covariance = p - p * self.information * p;
+        crate::linearise::inertial::symmetrise(&mut covariance);
+        (-(p * self.lambda), covariance)
+    }
+
+    /// [`smoothed`](Self::smoothed) with the diagonal of the covariance only (`O(N³)` once,
+    /// not twice).
+    #[must_use]
+    pub fn smoothed_variances(&self, p: &SMatrix<f64, N, N>) -> (SVector<f64, N>, SVector<f64, N>) {
+        let lp = self.information * p;
+        let variances = SVector::<f64, N>::from_fn(|i, _| p[(i, i)] - p.row(i).dot(&lp.column(i).transpose()));
+        (-(p * self.lambda), variances)
+    }
+}
+
+/// One smoothed IMU time, as [`SmootherLog::smooth`] hands it out.
+#[derive(Debug, Clone, Copy)]
+pub struct SmoothedPoint<'a> {
+    /// The smoothed navigation state.
+    pub state: NavState,
+    /// The smoothed stepper state (for stepping on from it: interpolation).
+    pub mechanization: MechanizationState,
+    /// The smoothed sensor errors in state order (`states − 9` values), as
+    /// [`AidedNavigator::write_sensor_errors`].
+    pub sensor_errors: &'a [f64],
+    /// 1σ of every error state (`states` values).
+    pub sigma: &'a [f64],
+    /// The smoothed error estimate of the filtered solution (filtered minus smoothed, in the
+    /// error-state order and units; `states` values).
+    pub correction: &'a [f64],
+}
+
+/// Where [`SmootherLog::smooth`] writes, in backward order.
+pub trait SmoothedSink {
+    /// The smoothed solution at IMU time `index` (as [`RunSink::step`] numbered it).
+    fn point(&mut self, index: usize, point: &SmoothedPoint<'_>);
+    /// The smoothed covariance (`states²` values) at accepted-measurement epoch `index`
+    /// (numbered from 0 in the order of the run).
+    fn epoch(&mut self, index: usize, covariance: &[f64]) {
+        let _ = (index, covariance);
+    }
+}
+
+/// One propagation of the run: where it started and what drove it.
+#[derive(Debug, Clone, Copy)]
+struct Piece {
+    state: MechanizationState,
+    rate: Vector3<f64>,
+    force: Vector3<f64>,
+    interval: f64,
+}
+
+/// One accepted update: its place (the number of propagations before it) and its algebra.
+#[derive(Debug, Clone, Copy)]
+struct UpdateRecord {
+    piece: usize,
+    rows: usize,
+    jacobian: [f64; MAX_ROWS * 21],
+    s_inverse: nalgebra::Matrix3<f64>,
+    innovation: Vector3<f64>,
+    gain: [f64; MAX_ROWS * 21],
+}
+
+/// A run recorded for the backward pass; see the [module documentation](self).
+///
+/// ```
+/// use nalgebra::Vector3;
+/// use rotaframe::aided::{AidedNavigator, FilterSettings, Measurement, MeasurementSlices};
+/// use rotaframe::aided::smoother::{SmoothedPoint, SmoothedSink, SmootherLog};
+/// use rotaframe::earth::{earth_rate_ned, gravity_ned, Geodetic, WGS84};
+/// use rotaframe::nav::{ImuErrorModel, NavState, Strapdown, StrapdownConfig};
+/// let here = Geodetic::from_degrees(45.0, 7.0, 200.0);
+/// let ins = Strapdown::new(StrapdownConfig::default(), &NavState::new(here, Vector3::zeros(), Default::default())).unwrap();
+/// let mut p0 = [0.0; 225];
+/// for i in 0..15 { p0[i * 16] = if i < 2 { 1e-12 } else { 1e-4 }; }
+/// let mut nav = AidedNavigator::new(ins, &ImuErrorModel::default(), &p0, 15, FilterSettings::default()).unwrap();
+/// let times: Vec<f64> = (0..=200).map(|k| k as f64 * 0.01).collect();
+/// let w = earth_rate_ned(&WGS84, here.latitude).unwrap() * 0.01;
+/// let f = -gravity_ned(&WGS84, here.latitude, here.height).unwrap() * 0.01;
+/// let (dtheta, dv) = (vec![[w.x, w.y, w.z]; 200], vec![[f.x, f.y, f.z]; 200]);
+/// let still = [Measurement::ZeroVelocity { sigma_ned: Vector3::repeat(0.01) }; 2];
+/// let zupts = MeasurementSlices { times: &[1.0, 2.0], measurements: &still };
+/// let mut log = SmootherLog::new(&nav).unwrap();
+/// nav.run(&times, &dtheta, &dv, &[&zupts], &mut log).unwrap();
+/// // The velocity σ half-way between the start and the first update, smoothed.
+/// struct Sigma(Vec<f64>);
+/// impl SmoothedSink for Sigma {
+///     fn point(&mut self, index: usize, point: &SmoothedPoint<'_>) { self.0[index] = point.sigma[3]; }
+/// }
+/// let mut sigma = Sigma(vec![0.0; 201]);
+/// log.smooth(&mut sigma).unwrap();
+/// assert!(sigma.0[50] < 1e-2); // the filter's is still about 1e-2 there
+/// ```
+#[derive(Debug, Clone)]
+pub struct SmootherLog {
+    states: usize,
+    config: StrapdownConfig,
+    model: ImuErrorModel,
+    pieces: Vec<Piece>,
+    updates: Vec<UpdateRecord>,
+    checkpoint_pieces: Vec<usize>,
+    checkpoint_values: Vec<f64>,
+    /// Per output (IMU time): the number of propagations before it.
+    outputs: Vec<usize>,
+    /// Per output: the filtered sensor errors in state order.
+    sensor_errors: Vec<f64>,
+    /// Per accepted epoch: the number of propagations before it.
+    epochs: Vec<usize>,
+    /// The nominal state at the last output.
+    last_state: MechanizationState,
+}
+
+impl SmootherLog {
+    /// An empty log for a run of `navigator` from its present state.
+    ///
+    /// # Errors
+    /// [`Error::Invalid`] naming `smooth` if the navigator propagates its covariance less often
+    /// than every increment.
+    pub fn new(navigator: &AidedNavigator) -> Result<Self> {
+        if navigator.settings().propagate_every != 1 {
+            return Err(Error::Invalid {
+                quantity: "smooth",
+                reason: "smoothing needs the covariance propagated at every increment (propagate_every = 1)",
+            });
+        }
+        let states = navigator.states();
+        let mut covariance = alloc::vec![0.0; states * states];
+        navigator.write_covariance(&mut covariance)?;
+        let (config, state, _) = navigator.strapdown().parts();
+        Ok(Self {
+            states,
+            config,
+            model: *navigator.imu(),
+            pieces: Vec::new(),
+            updates: Vec::new(),
+            checkpoint_pieces: alloc::vec![0],
+            checkpoint_values: covariance,
+            outputs: Vec::new(),
+            sensor_errors: Vec::new(),
+            epochs: Vec::new(),
+            last_state: state,
+        })
+    }
+
+    /// The number of states.
+    #[must_use]
+    pub fn states(&self) -> usize {
+        self.states
+    }
+
+    /// The number of IMU times recorded.
+    #[must_use]
+    pub fn len(&self) -> usize {
+        self.outputs.len()
+    }
+
+    /// Whether no IMU time was recorded.
+    #[must_use]
+    pub fn is_empty(&self) -> bool {
+        self.outputs.is_empty()
+    }
+
+    /// The bytes the log holds (for memory budgets).
+    #[must_use]
+    pub fn bytes(&self) -> usize {
+        use core::mem::size_of;
+        self.pieces.capacity() * size_of::<Piece>()
+            + self.updates.capacity() * size_of::<UpdateRecord>()
+            + (self.checkpoint_pieces.capacity() + self.outputs.capacity() + self.epochs.capacity()) * size_of::<usize>()
+            + (self.checkpoint_values.capacity() + self.sensor_errors.capacity()) * size_of::<f64>()
+    }
+
+    /// Stores the covariance as a checkpoint at the present propagation count (replacing one
+    /// already there).
+    fn checkpoint(&mut self, covariance: &[f64]) {
+        let here = self.pieces.len();
+        let size = self.states * self.states;
+        if self.checkpoint_pieces.last() == Some(&here) {
+            let start = self.checkpoint_values.len() - size;
+            self.checkpoint_values[start..].copy_from_slice(covariance);
+        } else {
+            self.checkpoint_pieces.push(here);
+            self.checkpoint_values.extend_from_slice(covariance);
+        }
+    }
+
+    /// Runs the backward pass, handing out the smoothed solution at every IMU time and the
+    /// smoothed covariance at every accepted epoch (both in backward order).
+    ///
+    /// # Errors
+    /// As [`error_model`] and [`Strapdown::remove_error`] (a smoothed correction that is not
+    /// finite); [`Error::Invalid`] naming `p` if a rebuilt covariance overflows.
+    pub fn smooth(&self, sink: &mut impl SmoothedSink) -> Result<()> {
+        if self.states == 15 { self.backward::<15>(sink) } else { self.backward::<21>(sink) }
+    }
+
+    /// The filter's `F` and `G` of propagation `index`.
+    fn model_of<const N: usize>(&self, index: usize) -> Result<(SMatrix<f64, N, N>, crate::linearise::inertial::NoiseInput<N>)> {
+        let piece = &self.pieces[index];
+        let times = (&self.model.accelerometer.markov_time, &self.model.gyro.markov_time);
+        error_model::<N>(&self.config, &piece.state, &piece.force, &piece.rate, times)
+    }
+
+    /// The backward pass for `N` states.
+    fn backward<const N: usize>(&self, sink: &mut impl SmoothedSink) -> Result<()> {
+        let psd = noise_psd(&self.model);
+        let mut adjoint = Adjoint::<N>::zero();
+        // Covariances of propagations `segment_start ..= segment_start + segment.len() − 1`.
+        let mut segment: Vec<SMatrix<f64, N, N>> = Vec::with_capacity(CHECKPOINT_EVERY + 1);
+        let mut segment_start = usize::MAX;
+        let (mut output, mut epoch, mut update) = (self.outputs.len(), self.epochs.len(), self.updates.len());
+        let (mut sigma, mut sensor) = ([0.0; 21], [0.0; 12]);
+        let mut here = self.pieces.len();
+        loop {
+            if here < segment_start || here >= segment_start + segment.len() {
+                // The last checkpoint at or before `here`, propagated forward to `here`.
+                let c = self.checkpoint_pieces.partition_point(|&p| p <= here) - 1;
+                segment_start = self.checkpoint_pieces[c];
+                segment.clear();
+                let size = N * N;
+                segment.push(SMatrix::from_column_slice(&self.checkpoint_values[c * size..(c + 1) * size]));
+                for index in segment_start..here {
+                    let (f, g) = self.model_of::<N>(index)?;
+                    let mut p = segment[segment.len() - 1];
+                    propagate_covariance_second_order_in_place(&f, &g, &psd, &mut p, self.pieces[index].interval)?;
+                    segment.push(p);
+                }
+            }
+            let p = &segment[here - segment_start];
+            while output > 0 && self.outputs[output - 1] == here {
+                output -= 1;
+                let (correction, variances) = adjoint.smoothed_variances(p);
+                for (s, v) in sigma.iter_mut().zip(variances.iter()) {
+                    *s = crate::math::sqrt(v.max(0.0));
+                }
+                let filtered = &self.sensor_errors[(N - 9) * output..(N - 9) * (output + 1)];
+                for ((s, f), c) in sensor.iter_mut().zip(filtered).zip(correction.iter().skip(9)) {
+                    *s = f + c;
+                }
+                let base = self.pieces.get(here).map_or(self.last_state, |piece| piece.state);
+                let mut stepper = Strapdown::from_parts(self.config, base, StepMemory::default())?;
+                let v = |i: usize| Vector3::new(correction[i], correction[i + 1], correction[i + 2]);
+                stepper.remove_error(&v(0), &v(3), &v(6))?;
+                let point = SmoothedPoint {
+                    state: stepper.state(),
+                    mechanization: stepper.parts().1,
+                    sensor_errors: &sensor[..N - 9],
+                    sigma: &sigma[..N],
+                    correction: correction.as_slice(),
+                };
+                sink.point(output, &point);
+            }
+            while epoch > 0 && self.epochs[epoch - 1] == here {
+                epoch -= 1;
+                let (_, covariance) = adjoint.smoothed(p);
+                sink.epoch(epoch, covariance.as_slice());
+            }
+            while update > 0 && self.updates[update - 1].piece == here {
+                update -= 1;
+                let record = &self.updates[update];
+                let gain = Gain::<N> {
+                    rows: record.rows,
+                    jacobian: SMatrix::from_column_slice(&record.jacobian[..MAX_ROWS * N]),
+                    s_inverse: record.s_inverse,
+                    innovation: record.innovation,
+                    gain: SMatrix::from_column_slice(&record.gain[..MAX_ROWS * N]),
+                };
+                adjoint.through_update(&gain);
+            }
+            if here == 0 {
+                return Ok(());
+            }
+            here -= 1;
+            let (f, _) = self.model_of::<N>(here)?;
+            adjoint.through_second_order_step(&f, self.pieces[here].interval)?;
+        }
+    }
+}
+
+impl RunSink for SmootherLog {
+    const TRACES: bool = true;
+
+    fn propagated(&mut self, start: &MechanizationState, interval: f64, navigator: &AidedNavigator) {
+        let (rate, force) = navigator.last_rates();
+        self.pieces.push(Piece { state: *start, rate, force, interval });
+        let last = self.checkpoint_pieces.last().copied().unwrap_or(0);
+        if self.pieces.len() - last >= CHECKPOINT_EVERY {
+            let size = self.states * self.states;
+            let start = self.checkpoint_values.len();
+            self.checkpoint_values.resize(start + size, 0.0);
+            // The navigator's own size: cannot fail.
+            let _ = navigator.write_covariance(&mut self.checkpoint_values[start..]);
+            self.checkpoint_pieces.push(self.pieces.len());
+        }
+    }
+
+    fn updated(&mut self, gain: &GainTrace<'_>, covariance: &[f64]) {
+        let mut record = UpdateRecord {
+            piece: self.pieces.len(),
+            rows: gain.rows,
+            jacobian: [0.0; MAX_ROWS * 21],
+            s_inverse: *gain.s_inverse,
+            innovation: *gain.innovation,
+            gain: [0.0; MAX_ROWS * 21],
+        };
+        record.jacobian[..gain.jacobian.len()].copy_from_slice(gain.jacobian);
+        record.gain[..gain.gain.len()].copy_from_slice(gain.gain);
+        self.updates.push(record);
+        self.checkpoint(covariance);
+    }
+
+    fn step(&mut self, index: usize, navigator: &AidedNavigator) {
+        debug_assert_eq!(index, self.outputs.len());
+        self.outputs.push(self.pieces.len());
+        let start = self.sensor_errors.len();
+        self.sensor_errors.resize(start + self.states - 9, 0.0);
+        // The navigator's own size: cannot fail.
+        let _ = navigator.write_sensor_errors(&mut self.sensor_errors[start..]);
+        self.last_state = navigator.strapdown().parts().1;
+    }
+
+    fn epoch(&mut self, _time: f64, _navigator: &AidedNavigator, accepted: bool) {
+        if accepted {
+            self.epochs.push(self.pieces.len());
+        }
+    }
+}
