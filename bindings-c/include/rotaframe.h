@@ -132,6 +132,11 @@ enum rf_status
    * leave some unobservable).
    */
   RF_STATUS_UNOBSERVABLE = 13,
+  /**
+   * A log has a gap between two time tags longer than the allowed one (the call's gap
+   * output, when given, names it).
+   */
+  RF_STATUS_DATA_GAP = 14,
 };
 #ifndef __cplusplus
 #if __STDC_VERSION__ >= 202311L
@@ -1079,6 +1084,24 @@ typedef struct rf_imu_sample {
 typedef rf_status (*rf_trajectory_fn)(void *context, double time, struct rf_frame_motion *out_motion);
 
 /**
+ * A gap in a log, as `rf_increments_from_rates` reports it.
+ */
+typedef struct rf_data_gap {
+  /**
+   * Index of the tag before the gap.
+   */
+  size_t index;
+  /**
+   * The tag before the gap (s).
+   */
+  double start;
+  /**
+   * The tag after the gap (s).
+   */
+  double end;
+} rf_data_gap;
+
+/**
  * A seeded IMU error generator's state, as plain data: the model, the Gauss–Markov states
  * and the random stream (`stream`, opaque: do not modify). Create with `rf_imu_errors_init`.
  */
@@ -1866,6 +1889,19 @@ rf_status rf_imu_increment_of_trajectory(const struct rf_earth_model *model, uin
  * call costs twice the work (about 10 µs per interval).
  */
 rf_status rf_imu_increments_from_record(const struct rf_earth_model *model, uint32_t gravity, const struct rf_recorded_sample *samples, size_t sample_count, const double *times, size_t time_count, struct rf_imu_increment *out_increments);
+
+/**
+ * Increments from an IMU rate log: `count` (≥ 2) time tags `times` (s, strictly increasing),
+ * angular rates `angular_rates` (rad/s) and specific forces `specific_forces` (m/s²), body
+ * axes, each sample at its own tag; the `count − 1` increments over the intervals between the
+ * tags are written to `out_increments`. Each interval is integrated by two-point
+ * Gauss–Legendre quadrature of the cubic through the four nearest samples (a fourth-order
+ * rule; the core's `nav::rates`). `max_gap` (s) is the longest interval allowed (`INFINITY`
+ * for any): a longer one returns `RF_STATUS_DATA_GAP` and, when `out_gap` is not NULL, writes
+ * where it is. Duplicated or backward tags return `RF_STATUS_INVALID_ARGUMENT` (or
+ * `RF_STATUS_NOT_POSITIVE` for a zero interval). On error nothing else is written.
+ */
+rf_status rf_increments_from_rates(const double *times, const struct rf_vec3 *angular_rates, const struct rf_vec3 *specific_forces, size_t count, double max_gap, struct rf_imu_increment *out_increments, struct rf_data_gap *out_gap);
 
 /**
  * A stepper at `initial` with settings `config`, written to `out_strapdown`.

@@ -487,6 +487,74 @@ pub unsafe extern "C" fn rf_imu_increments_from_record(
     })
 }
 
+/// A gap in a log, as `rf_increments_from_rates` reports it.
+#[repr(C)]
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct rf_data_gap {
+    /// Index of the tag before the gap.
+    pub index: usize,
+    /// The tag before the gap (s).
+    pub start: f64,
+    /// The tag after the gap (s).
+    pub end: f64,
+}
+
+/// Increments from an IMU rate log: `count` (≥ 2) time tags `times` (s, strictly increasing),
+/// angular rates `angular_rates` (rad/s) and specific forces `specific_forces` (m/s²), body
+/// axes, each sample at its own tag; the `count − 1` increments over the intervals between the
+/// tags are written to `out_increments`. Each interval is integrated by two-point
+/// Gauss–Legendre quadrature of the cubic through the four nearest samples (a fourth-order
+/// rule; the core's `nav::rates`). `max_gap` (s) is the longest interval allowed (`INFINITY`
+/// for any): a longer one returns `RF_STATUS_DATA_GAP` and, when `out_gap` is not NULL, writes
+/// where it is. Duplicated or backward tags return `RF_STATUS_INVALID_ARGUMENT` (or
+/// `RF_STATUS_NOT_POSITIVE` for a zero interval). On error nothing else is written.
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn rf_increments_from_rates(
+    times: *const f64,
+    angular_rates: *const rf_vec3,
+    specific_forces: *const rf_vec3,
+    count: usize,
+    max_gap: f64,
+    out_increments: *mut rf_imu_increment,
+    out_gap: *mut rf_data_gap,
+) -> rf_status {
+    boundary(|| {
+        let t = unsafe { slice(times, count) }?;
+        let rates = unsafe { slice(angular_rates, count) }?;
+        let forces = unsafe { slice(specific_forces, count) }?;
+        let intervals = count.saturating_sub(1);
+        let inputs = [region(times, count), region(angular_rates, count), region(specific_forces, count)];
+        disjoint(region(out_increments, intervals), &inputs)?;
+        if !out_gap.is_null() {
+            disjoint(region(out_gap, 1), &inputs)?;
+            disjoint(region(out_gap, 1), &[region(out_increments, intervals)])?;
+        }
+        let out = unsafe { slice_mut(out_increments, intervals) }?;
+        let limit = if max_gap == f64::INFINITY { None } else { Some(max_gap) };
+        match nav::check_rate_log(t, rates, forces, limit) {
+            Err(nav::RateLogError::Gap(gap)) => {
+                if !out_gap.is_null() {
+                    // Checked non-null and disjoint from the inputs above.
+                    unsafe { *out_gap = rf_data_gap { index: gap.index, start: gap.start, end: gap.end } };
+                }
+                return Err(crate::status::RF_STATUS_DATA_GAP);
+            }
+            Err(nav::RateLogError::Input { error, .. }) => return Err(error.into()),
+            Ok(()) => {}
+        }
+        // In blocks through a stack buffer: the C library needs no heap.
+        let mut block = [nav::ImuIncrement::default(); 64];
+        for (b, out_block) in out.chunks_mut(block.len()).enumerate() {
+            let part = &mut block[..out_block.len()];
+            nav::write_increments(t, rates, forces, b * 64, part)?;
+            for (o, i) in out_block.iter_mut().zip(part.iter()) {
+                *o = i.into();
+            }
+        }
+        Ok(())
+    })
+}
+
 /// A stepper at `initial` with settings `config`, written to `out_strapdown`.
 #[unsafe(no_mangle)]
 pub unsafe extern "C" fn rf_strapdown_init(

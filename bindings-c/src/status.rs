@@ -36,6 +36,9 @@ pub enum rf_status {
     /// The data cannot determine the parameters asked of them (a calibration's positions
     /// leave some unobservable).
     RF_STATUS_UNOBSERVABLE = 13,
+    /// A log has a gap between two time tags longer than the allowed one (the call's gap
+    /// output, when given, names it).
+    RF_STATUS_DATA_GAP = 14,
 }
 
 pub use rf_status::*;
@@ -92,6 +95,7 @@ pub extern "C" fn rf_status_message(status: u32) -> *const core::ffi::c_char {
         11 => c"internal error caught at the rotaframe boundary",
         12 => c"an output array overlaps an input array of the same call",
         13 => c"the data cannot determine the parameters asked of them (positions leave some unobservable)",
+        14 => c"a log has a gap between two time tags longer than the allowed one",
         _ => c"unknown rotaframe status",
     };
     message.as_ptr()

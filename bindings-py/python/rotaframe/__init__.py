@@ -29,6 +29,7 @@ that apply to you and licensed engineering practice.
 from ._native import (
     AidedNavigator,
     AidedResult,
+    SolutionAt,
     Alignment,
     HeadingFixes,
     HeightFixes,
@@ -123,6 +124,7 @@ __version__ = "0.1.0"
 __all__ = [
     "AidedNavigator",
     "AidedResult",
+    "SolutionAt",
     "Alignment",
     "HeadingFixes",
     "HeightFixes",

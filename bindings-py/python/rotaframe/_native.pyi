@@ -13,6 +13,7 @@ __all__ = [
     "AidedNavigator",
     "AidedResult",
     "Alignment",
+    "SolutionAt",
     "HeadingFixes",
     "HeightFixes",
     "InnovationLog",
@@ -488,8 +489,8 @@ def imu_increments_from_samples(
     degrees: bool = False,
 ) -> tuple[_Array, _Array, _Array]: ...
 def increments_from_rates(
-    t: ArrayLike, omega: ArrayLike, f: ArrayLike, *, max_gap: Optional[float] = None
-) -> tuple[_Array, _Array, _Array]: ...
+    t: ArrayLike, angular_rate: ArrayLike, specific_force: ArrayLike, *, max_gap: Optional[float] = None
+) -> tuple[_Array, _Array]: ...
 def motion_from_samples(
     t: ArrayLike,
     lat: ArrayLike,
@@ -1024,7 +1025,8 @@ class InnovationLog:
 
 @final
 class AidedResult:
-    """The filtered trajectory, its 1σ, sensor errors, epoch covariances and innovations."""
+    """The filtered trajectory, its 1σ, sensor errors, epoch covariances and innovations; with
+    `smooth=True` also the smoothed solution (an `AidedResult`)."""
 
     def __new__(
         cls,
@@ -1039,6 +1041,8 @@ class AidedResult:
         epochs: Any,
         covariance: Any,
         innovations: Any,
+        smoothed: Optional[AidedResult] = None,
+        source: Any = None,
     ) -> AidedResult: ...
     @property
     def t(self) -> _Array: ...
@@ -1063,7 +1067,32 @@ class AidedResult:
     @property
     def innovations(self) -> list[InnovationLog]: ...
     @property
-    def smoothed(self) -> None: ...
+    def smoothed(self) -> Optional[AidedResult]: ...
+    def at(self, times: ArrayLike) -> SolutionAt: ...
+
+@final
+class SolutionAt:
+    """The smoothed, or else the filtered, solution at requested times (`AidedResult.at`)."""
+
+    def __new__(
+        cls, t: Any, lat: Any, lon: Any, h: Any, v_ned: Any, attitude: Any, sigma: Any, imu_errors: Any
+    ) -> SolutionAt: ...
+    @property
+    def t(self) -> _Array: ...
+    @property
+    def lat(self) -> _Array: ...
+    @property
+    def lon(self) -> _Array: ...
+    @property
+    def h(self) -> _Array: ...
+    @property
+    def v_ned(self) -> _Array: ...
+    @property
+    def attitude(self) -> _Array: ...
+    @property
+    def sigma(self) -> _Array: ...
+    @property
+    def imu_errors(self) -> _Array: ...
     def __reduce__(self) -> tuple[Any, ...]: ...
 
 @final
@@ -1090,6 +1119,7 @@ class AidedNavigator:
         dv: ArrayLike,
         measurements: Sequence[MeasurementSet],
         *,
+        smooth: bool = False,
         progress: Optional[Callable[[int, int], object]] = None,
     ) -> AidedResult: ...
     @property

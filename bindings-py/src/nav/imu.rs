@@ -253,19 +253,21 @@ pub fn imu_increments_from_samples<'py>(
     increments_tuple(py, &increments)
 }
 
-/// Angle and velocity increments `(dtheta, dv, dt)` from an IMU rate log: time tags `t` (N,)
-/// s, angular rate `omega` (N, 3) rad/s and specific force `f` (N, 3) m/s², body axes, each
+/// Angle and velocity increments `(dtheta, dv)`, each `(N − 1, 3)`, over the intervals between
+/// the tags (their lengths are `numpy.diff(t)`), from an IMU rate log: time tags `t` (N,) s,
+/// angular rate `angular_rate` (N, 3) rad/s and specific force `specific_force` (N, 3) m/s²,
+/// body axes, each
 /// sample at its own tag. Each of the N − 1 intervals is integrated by two-point Gauss–Legendre
 /// quadrature of the cubic through the four nearest samples (see the core's `nav::rates`;
 /// fourth order, jitter handled through the tags). Tags must be strictly increasing; with
 /// `max_gap` (s) a longer gap raises `RotaframeError` giving its start and end times.
 #[pyfunction]
-#[pyo3(signature = (t, omega, f, *, max_gap=None))]
+#[pyo3(signature = (t, angular_rate, specific_force, *, max_gap=None))]
 pub fn increments_from_rates<'py>(
     py: Python<'py>,
     t: &Bound<'py, PyAny>,
-    omega: &Bound<'py, PyAny>,
-    f: &Bound<'py, PyAny>,
+    angular_rate: &Bound<'py, PyAny>,
+    specific_force: &Bound<'py, PyAny>,
     max_gap: Option<f64>,
 ) -> PyResult<Bound<'py, PyTuple>> {
     let tags = sample_times(t, "t", 2)?;
@@ -279,21 +281,19 @@ pub fn increments_from_rates<'py>(
         let values: Vec<f64> = numpy::PyArrayMethods::readonly(&array).as_array().iter().copied().collect();
         Ok(values.chunks_exact(3).map(rotaframe::nalgebra::Vector3::from_column_slice).collect())
     };
-    let (w, a) = (rows(omega, "omega")?, rows(f, "f")?);
+    let (w, a) = (rows(angular_rate, "angular_rate")?, rows(specific_force, "specific_force")?);
     let mut out = vec![ImuIncrement::default(); n - 1];
     py.detach(|| nav::increments_from_rates(&tags, &w, &a, max_gap, &mut out)).map_err(|e| match e {
         nav::RateLogError::Input { index, error } => {
-            let named = match error.quantity() {
-                "angular_rate" => error.with_quantity("omega"),
-                "specific_force" => error.with_quantity("f"),
-                "interval" => error.with_quantity("t"),
-                _ => error,
-            };
+            let named = if error.quantity() == "interval" { error.with_quantity("t") } else { error };
             to_py(&named, &format!("(sample {index})"))
         }
         gap @ nav::RateLogError::Gap(_) => crate::plumbing::errors::RotaframeError::new_err(gap.to_string()),
     })?;
-    increments_tuple(py, &out)
+    let n = out.len();
+    let dtheta: Vec<f64> = out.iter().flat_map(|i| i.delta_angle.iter().copied().collect::<Vec<_>>()).collect();
+    let dv: Vec<f64> = out.iter().flat_map(|i| i.delta_velocity.iter().copied().collect::<Vec<_>>()).collect();
+    PyTuple::new(py, [array_from(py, vec![n, 3], &dtheta), array_from(py, vec![n, 3], &dv)])
 }
 
 /// The body's motion relative to ECEF (labels "ecef" → "body") interpolated from a recorded

@@ -256,13 +256,7 @@ impl<const N: usize> AidedFilter<N> {
     /// `Δθ_c = (I + diag(s_g) + M_g)⁻¹ (Δθ − b_g T)`, and the same for `Δv`.
     #[must_use]
     pub fn compensate(&self, increment: &ImuIncrement) -> ImuIncrement {
-        let t = increment.interval;
-        let bias = self.sensor_estimate();
-        ImuIncrement {
-            delta_angle: self.inverse_gain[1] * (increment.delta_angle - bias.gyro_bias * t),
-            delta_velocity: self.inverse_gain[0] * (increment.delta_velocity - bias.accelerometer_bias * t),
-            interval: t,
-        }
+        compensate(&self.inverse_gain, &self.sensor_estimate(), increment)
     }
 
     /// Advances the navigation state by one increment (compensated first) and the covariance
@@ -540,8 +534,20 @@ struct Corrected {
     inverse_gain: [Matrix3<f64>; 2],
 }
 
+/// The increment with a sensor-error estimate removed:
+/// `Δθ_c = (I + diag(ŝ_g) + M_g)⁻¹ (Δθ − b̂_g T)`, and the same for `Δv`; `inverse_gain` from
+/// [`gains`], accelerometer then gyro.
+pub(crate) fn compensate(inverse_gain: &[Matrix3<f64>; 2], estimate: &SensorEstimate, increment: &ImuIncrement) -> ImuIncrement {
+    let t = increment.interval;
+    ImuIncrement {
+        delta_angle: inverse_gain[1] * (increment.delta_angle - estimate.gyro_bias * t),
+        delta_velocity: inverse_gain[0] * (increment.delta_velocity - estimate.accelerometer_bias * t),
+        interval: t,
+    }
+}
+
 /// `(I + diag(s) + M)⁻¹` of both triads (accelerometer, gyro) for the scale factors `scale`.
-fn gains(scale: &[Vector3<f64>; 2], model: &ImuErrorModel) -> Result<[Matrix3<f64>; 2]> {
+pub(crate) fn gains(scale: &[Vector3<f64>; 2], model: &ImuErrorModel) -> Result<[Matrix3<f64>; 2]> {
     let misalignment = [model.accelerometer.misalignment, model.gyro.misalignment];
     let mut out = [Matrix3::identity(); 2];
     for ((inverse, s), m) in out.iter_mut().zip(scale).zip(&misalignment) {

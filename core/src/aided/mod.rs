@@ -8,6 +8,8 @@
 //! * [`measurement`]: the measurements ([`Measurement`]), whose models are those of
 //!   [`linearise::aiding`](crate::linearise::aiding);
 //! * [`gate`]: the chi-square quantile of the innovation gate;
+//! * [`interpolate`]: a solution between two IMU times, stepped consistently with the
+//!   mechanization;
 //! * [`align`]: stationary coarse alignment and heading from the course over ground;
 //! * [`smoother`] (with `alloc`): the fixed-interval (Rauch–Tung–Striebel) smoother of a
 //!   recorded run, in the modified Bryson–Frazier form.
@@ -62,6 +64,7 @@
 pub mod align;
 pub mod filter;
 pub mod gate;
+pub mod interpolate;
 pub mod measurement;
 pub mod navigator;
 #[cfg(feature = "alloc")]
@@ -70,6 +73,7 @@ pub mod smoother;
 pub use align::{Alignment, StationaryRecord, align_stationary, heading_from_course};
 pub use filter::{AidedFilter, FilterMemory, FilterSettings, Gain, SensorEstimate, UpdateReport};
 pub use gate::{MAX_ROWS, chi_square_quantile};
+pub use interpolate::state_between;
 pub use measurement::{MAX_LEVER_ARM, Measurement};
 pub use navigator::{
     AidedNavigator, GainTrace, MAX_MEASUREMENT_SETS, MeasurementSet, MeasurementSlices, RunSink, TIME_SNAP,

@@ -43,7 +43,7 @@ pub use imu::{
     increment_from_node_samples, quadrature_times,
 };
 pub use lever::{lever_arm_kinematics, lever_arm_state, sensor_mount};
-pub use rates::{DataGap, RateLogError, increments_from_rates};
+pub use rates::{DataGap, RateLogError, check_rate_log, increments_from_rates, write_increments};
 pub use recorded::{
     CartesianSamples, GeodeticPoses, PoseSource, RecordedSample, RecordedSlices, RecordedTrajectory, SampleSource, SampledMotion,
     SegmentCache,

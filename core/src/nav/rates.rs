@@ -73,7 +73,7 @@ impl core::error::Error for RateLogError {}
 
 /// The integral over `[t[k], t[k + 1]]` of the interpolant through the samples `nodes`
 /// (indices into `t` and `x`).
-fn integral(t: &[f64], x: &[Vector3<f64>], nodes: &[usize], k: usize) -> Vector3<f64> {
+fn integral<V: Copy + Into<Vector3<f64>>>(t: &[f64], x: &[V], nodes: &[usize], k: usize) -> Vector3<f64> {
     let (a, b) = (t[k], t[k + 1]);
     let half = 0.5 * (b - a);
     let offset = half / math::sqrt(3.0);
@@ -86,7 +86,7 @@ fn integral(t: &[f64], x: &[Vector3<f64>], nodes: &[usize], k: usize) -> Vector3
                     weight *= (s - t[m]) / (t[j] - t[m]);
                 }
             }
-            sum += x[j] * weight;
+            sum += x[j].into() * weight;
         }
     }
     sum * half
@@ -94,7 +94,8 @@ fn integral(t: &[f64], x: &[Vector3<f64>], nodes: &[usize], k: usize) -> Vector3
 
 /// Writes the increments over each interval between the time tags `t` (s) of angular-rate
 /// samples `angular_rate` (rad/s) and specific-force samples `specific_force` (m/s², body
-/// axes) into `out` (`t.len() − 1` increments); see the [module documentation](self).
+/// axes; any type that converts to a `Vector3`, such as a C binding's plain struct) into `out`
+/// (`t.len() − 1` increments); see the [module documentation](self).
 ///
 /// # Errors
 /// [`RateLogError::Input`]: [`Error::LengthMismatch`] naming `angular_rate`,
@@ -115,23 +116,43 @@ fn integral(t: &[f64], x: &[Vector3<f64>], nodes: &[usize], k: usize) -> Vector3
 /// increments_from_rates(&t, &w, &f, None, &mut out).unwrap();
 /// assert!((out[1].delta_angle.x - 0.1 * 0.0098).abs() < 1e-15);
 /// ```
-pub fn increments_from_rates(
+pub fn increments_from_rates<V: Copy + Into<Vector3<f64>>>(
     t: &[f64],
-    angular_rate: &[Vector3<f64>],
-    specific_force: &[Vector3<f64>],
+    angular_rate: &[V],
+    specific_force: &[V],
     max_gap: Option<f64>,
     out: &mut [ImuIncrement],
+) -> core::result::Result<(), RateLogError> {
+    if out.len() != t.len().saturating_sub(1) {
+        let expected = t.len().saturating_sub(1);
+        return Err(RateLogError::Input {
+            index: 0,
+            error: Error::LengthMismatch { quantity: "out", found: out.len(), expected },
+        });
+    }
+    check_rate_log(t, angular_rate, specific_force, max_gap)?;
+    write_increments(t, angular_rate, specific_force, 0, out).map_err(|error| RateLogError::Input { index: 0, error })
+}
+
+/// The checks of [`increments_from_rates`] on a rate log, without writing anything (for
+/// callers that write the increments in blocks with [`write_increments`]).
+///
+/// # Errors
+/// As [`increments_from_rates`], but for `out`.
+pub fn check_rate_log<V: Copy + Into<Vector3<f64>>>(
+    t: &[f64],
+    angular_rate: &[V],
+    specific_force: &[V],
+    max_gap: Option<f64>,
 ) -> core::result::Result<(), RateLogError> {
     let at = |index| move |error| RateLogError::Input { index, error };
     let n = t.len();
     if n < 2 {
         return Err(at(0)(Error::Invalid { quantity: "t", reason: "needs at least two time tags" }));
     }
-    for (quantity, found, expected) in
-        [("angular_rate", angular_rate.len(), n), ("specific_force", specific_force.len(), n), ("out", out.len(), n - 1)]
-    {
-        if found != expected {
-            return Err(at(0)(Error::LengthMismatch { quantity, found, expected }));
+    for (quantity, found) in [("angular_rate", angular_rate.len()), ("specific_force", specific_force.len())] {
+        if found != n {
+            return Err(at(0)(Error::LengthMismatch { quantity, found, expected: n }));
         }
     }
     if let Some(gap) = max_gap
@@ -140,8 +161,8 @@ pub fn increments_from_rates(
         return Err(at(0)(Error::NotPositive { quantity: "max_gap", value: gap }));
     }
     for k in 0..n {
-        limits::check_vector(&angular_rate[k], limits::MAX_ANGULAR_VELOCITY, "rad/s", "angular_rate").map_err(at(k))?;
-        limits::check_vector(&specific_force[k], limits::MAX_ACCELERATION, "m/s²", "specific_force").map_err(at(k))?;
+        limits::check_vector(&angular_rate[k].into(), limits::MAX_ANGULAR_VELOCITY, "rad/s", "angular_rate").map_err(at(k))?;
+        limits::check_vector(&specific_force[k].into(), limits::MAX_ACCELERATION, "m/s²", "specific_force").map_err(at(k))?;
         if k + 1 < n {
             check_interval(t[k], t[k + 1]).map_err(at(k))?;
             if let Some(gap) = max_gap
@@ -151,11 +172,34 @@ pub fn increments_from_rates(
             }
         }
     }
-    for (k, o) in out.iter_mut().enumerate() {
-        let first = k.saturating_sub(1);
+    Ok(())
+}
+
+/// Writes the increments over intervals `first .. first + out.len()` of a rate log that
+/// passed [`check_rate_log`] (on one that did not, the values are meaningless but finite
+/// input stays finite).
+///
+/// # Errors
+/// [`Error::LengthMismatch`] naming `out` if the intervals run past the log's end (or the
+/// sample arrays are shorter than `t`).
+pub fn write_increments<V: Copy + Into<Vector3<f64>>>(
+    t: &[f64],
+    angular_rate: &[V],
+    specific_force: &[V],
+    first: usize,
+    out: &mut [ImuIncrement],
+) -> crate::error::Result<()> {
+    let n = t.len().min(angular_rate.len()).min(specific_force.len());
+    let available = n.saturating_sub(1).saturating_sub(first);
+    if n < 2 || out.len() > available {
+        return Err(Error::LengthMismatch { quantity: "out", found: out.len(), expected: available });
+    }
+    for (offset, o) in out.iter_mut().enumerate() {
+        let k = first + offset;
+        let start = k.saturating_sub(1);
         let last = (k + 2).min(n - 1);
-        let nodes: [usize; 4] = [first, first + 1, first + 2, first + 3];
-        let used = &nodes[..=(last - first).min(3)];
+        let nodes: [usize; 4] = [start, start + 1, start + 2, start + 3];
+        let used = &nodes[..=(last - start).min(3)];
         *o = ImuIncrement {
             delta_angle: integral(t, angular_rate, used, k),
             delta_velocity: integral(t, specific_force, used, k),
