@@ -1,16 +1,21 @@
 #!/usr/bin/env python3
 """The aided navigator's cost from Python: one hour of 100 Hz IMU increments with 1 Hz GNSS
-position and velocity fixes, filtered by ``AidedNavigator.run`` (goal: at most 1.5 s), against
+position and velocity fixes, filtered by ``AidedNavigator.run`` (goal: at most 1.5 s) and
+filtered and smoothed by ``run(..., smooth=True)`` (goal: at most 3 s), against
 the same closed-loop algorithm written per step with numpy on rotaframe's primitives (the
 stepper's ``step``, ``set_state`` and ``error_model``; numpy for the second-order ``Φ``, ``Q_d``,
 ``P ← Φ P Φᵀ + Q_d``, the gate, the Joseph update and the feedback), the covariance propagated
-every increment. The numpy loop runs over the first ``--reference-minutes`` (it takes tens of
-microseconds a step); the ratio compares both on that same span, in the same process. The
-run's peak memory (the growth of the peak resident set across the run, in a fresh child
-process, so that Rust's allocations count too) is compared with the bytes of the arrays it
-returns (goal: at most 1.5×).
+every increment, and for the smoothed run a classical Rauch–Tung–Striebel pass in numpy over
+the stored per-step covariances and transitions (the closed-loop form: the filter's error is
+zero, so the smoothed error at step k is ``C_k (e_{k+1} + δx̂_{k+1})`` with the correction
+``δx̂`` fed back at step k + 1, ``C_k = P⁺_k Φ_kᵀ (P⁻_{k+1})⁻¹``). The numpy loops run over
+the first ``--reference-minutes`` (they take tens of microseconds a step); the ratios compare
+both on that same span, in the same process (goal: at least 30× with smoothing). The runs'
+peak memory (the growth of the peak resident set across the run, in a fresh child process, so
+that Rust's allocations count too) is compared with the bytes of the arrays they return
+(goals: at most 1.5× filtered, 2× filtered and smoothed).
 
-Usage: python benches/python/bench_aided.py [--reference-minutes 5] [--repeat 3]
+Usage: python benches/python/bench_aided.py [--reference-minutes 2] [--repeat 3]
 """
 
 import argparse
@@ -56,14 +61,16 @@ def p0():
     return np.diag(np.square(sigma))
 
 
-def rotaframe_run(t, dtheta, dv, fixes):
+def rotaframe_run(t, dtheta, dv, fixes, smooth=False):
     nav = rf.AidedNavigator(rf.Strapdown(LAT, LON, H, [0, 0, 0], [1, 0, 0, 0]), imu(), p0())
-    return nav.run(t, dtheta, dv, fixes)
+    return nav.run(t, dtheta, dv, fixes, smooth=smooth)
 
 
-def numpy_run(t, dtheta, dv, fixes):
+def numpy_run(t, dtheta, dv, fixes, smooth=False):
     """The filter per step in numpy on rotaframe's stepper and error model (position and
-    velocity fixes without lever arm, the 0.999 gate for three rows)."""
+    velocity fixes without lever arm, the 0.999 gate for three rows); with ``smooth`` the
+    per-step ``P⁺``, ``Φ``, ``P⁻`` and corrections are kept and an RTS pass returns the smoothed
+    σ of every step."""
     sd = rf.Strapdown(LAT, LON, H, [0, 0, 0], [1, 0, 0, 0])
     vrw, arw = 0.05 / 60, math.radians(0.1) / 60
     psd = np.array([vrw**2] * 3 + [arw**2] * 3 + [2 * 5e-3**2 / 600.0] * 3 + [0.0] * 3)
@@ -74,7 +81,12 @@ def numpy_run(t, dtheta, dv, fixes):
     fix_index = {round(x * RATE): i for i, x in enumerate(fixes[0].t)}
     position_sigma, velocity_sigma = np.array([1.5, 1.5, 3.0]), np.full(3, 0.05)
     eye = np.eye(15)
-    for k in range(dtheta.shape[0]):
+    steps = dtheta.shape[0]
+    if smooth:
+        posterior, transition, prior = np.empty((steps + 1, 15, 15)), np.empty((steps, 15, 15)), np.empty((steps, 15, 15))
+        correction = np.zeros((steps + 1, 15))
+        posterior[0] = p
+    for k in range(steps):
         dt = t[k + 1] - t[k]
         da, dw = dv[k] - bias_a * dt, dtheta[k] - bias_g * dt
         f_matrix, g_matrix = sd.error_model(da / dt, dw / dt, imu_errors=None)
@@ -85,6 +97,9 @@ def numpy_run(t, dtheta, dv, fixes):
         qd = qc * dt + (f_matrix @ qc + qc @ f_matrix.T) * (dt * dt / 2)
         p = phi @ p @ phi.T + qd
         bias_a *= math.exp(-dt / tau_a)
+        if smooth:
+            transition[k], prior[k] = phi, p
+            posterior[k + 1] = p
         i = fix_index.get(k + 1)
         if i is None:
             continue
@@ -110,12 +125,25 @@ def numpy_run(t, dtheta, dv, fixes):
             sd.set_state(sd.lat - x[0], sd.lon - x[1], sd.h - x[2], np.asarray(sd.v_ned) - x[3:6], rf.quat_multiply(undo, q))
             bias_a += x[9:12]
             bias_g += x[12:15]
-    return sd
+            if smooth:
+                posterior[k + 1] = p
+                correction[k + 1] += x
+    if not smooth:
+        return sd
+    sigma = np.empty((steps + 1, 15))
+    error, p_smooth = np.zeros(15), posterior[steps]
+    sigma[steps] = np.sqrt(np.diag(p_smooth))
+    for k in range(steps - 1, -1, -1):
+        gain = posterior[k] @ transition[k].T @ np.linalg.inv(prior[k])
+        error = gain @ (error + correction[k + 1])
+        p_smooth = posterior[k] + gain @ (p_smooth - prior[k]) @ gain.T
+        sigma[k] = np.sqrt(np.diag(p_smooth))
+    return sd, sigma
 
 
 def main():
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--reference-minutes", type=float, default=5.0)
+    parser.add_argument("--reference-minutes", type=float, default=2.0)
     parser.add_argument("--repeat", type=int, default=3)
     parser.add_argument("--memory-child", action="store_true", help=argparse.SUPPRESS)
     args = parser.parse_args()
@@ -129,8 +157,19 @@ def main():
     numpy_run(ts, dths, dvs, fx)
     theirs = time.perf_counter() - start
     print(f"same {args.reference_minutes:g} minutes: rotaframe {ours:.3f} s, numpy per step {theirs:.2f} s: {theirs / ours:.0f}x")
-    child = subprocess.run([sys.executable, __file__, "--memory-child"], capture_output=True, text=True, check=True)
-    print(child.stdout.strip())
+    both = best(lambda: rotaframe_run(t, dtheta, dv, fixes, smooth=True), args.repeat)
+    print(f"rotaframe, the same hour filtered and smoothed: {both:.3f} s ({both / hour:.2f}x the filter alone)")
+    ours_smoothed = best(lambda: rotaframe_run(ts, dths, dvs, fx, smooth=True), args.repeat)
+    start = time.perf_counter()
+    _, numpy_sigma = numpy_run(ts, dths, dvs, fx, smooth=True)
+    theirs_smoothed = time.perf_counter() - start
+    ours_sigma = rotaframe_run(ts, dths, dvs, fx, smooth=True).smoothed.sigma
+    agreement = np.max(np.abs(numpy_sigma / ours_sigma - 1))
+    print(f"same {args.reference_minutes:g} minutes filtered and smoothed: rotaframe {ours_smoothed:.3f} s, numpy with RTS "
+          f"{theirs_smoothed:.2f} s: {theirs_smoothed / ours_smoothed:.0f}x (smoothed σ agree to {agreement:.1e} relative)")
+    for smooth in ("0", "1"):
+        child = subprocess.run([sys.executable, __file__, "--memory-child", smooth], capture_output=True, text=True, check=True)
+        print(child.stdout.strip())
 
 
 def high_water_mark():
@@ -146,19 +185,21 @@ def high_water_mark():
     return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss * 1024
 
 
-def memory_child():
+def memory_child(smooth):
     t, dtheta, dv, fixes = scenario(3600.0)
     before = high_water_mark()
-    result = rotaframe_run(t, dtheta, dv, fixes)
+    result = rotaframe_run(t, dtheta, dv, fixes, smooth=smooth)
     peak = high_water_mark() - before
-    fields = ("t", "lat", "lon", "h", "v_ned", "attitude", "sigma", "imu_errors", "epochs", "covariance")
-    returned = sum(getattr(result, f).nbytes for f in fields)
+    fields = ("lat", "lon", "h", "v_ned", "attitude", "sigma", "imu_errors", "covariance")
+    solutions = [result] + ([result.smoothed] if smooth else [])
+    returned = result.t.nbytes + result.epochs.nbytes + sum(getattr(r, f).nbytes for r in solutions for f in fields)
     returned += sum(x.innovation.nbytes + x.std.nbytes + x.nis.nbytes + x.accepted.nbytes + x.t.nbytes for x in result.innovations)
-    print(f"peak memory growth of the run {peak / 1e6:.1f} MB, arrays returned {returned / 1e6:.1f} MB: {peak / returned:.2f}x")
+    what = "filtered and smoothed" if smooth else "filtered"
+    print(f"peak memory growth of the run ({what}) {peak / 1e6:.1f} MB, arrays returned {returned / 1e6:.1f} MB: {peak / returned:.2f}x")
 
 
 if __name__ == "__main__":
     if "--memory-child" in sys.argv:
-        memory_child()
+        memory_child(sys.argv[-1] == "1")
     else:
         main()

@@ -71,25 +71,37 @@ impl core::fmt::Display for RateLogError {
 
 impl core::error::Error for RateLogError {}
 
-/// The integral over `[t[k], t[k + 1]]` of the interpolant through the samples `nodes`
-/// (indices into `t` and `x`).
-fn integral<V: Copy + Into<Vector3<f64>>>(t: &[f64], x: &[V], nodes: &[usize], k: usize) -> Vector3<f64> {
+/// The weights `w_j` of the samples `nodes` (indices into `t`) in the integral over
+/// `[t[k], t[k + 1]]` of their Lagrange interpolant, `∫ p dt = Σ_j w_j x_j`, by two-point
+/// Gauss–Legendre quadrature: `w_j = T/2 Σ_s ℓ_j(s)` over the two points `s`. The denominators
+/// `Π_{m≠j} (t_j − t_m)` are shared by both points and by every component.
+fn quadrature_weights(t: &[f64], nodes: &[usize], k: usize) -> [f64; 4] {
     let (a, b) = (t[k], t[k + 1]);
     let half = 0.5 * (b - a);
     let offset = half / math::sqrt(3.0);
-    let mut sum = Vector3::zeros();
-    for s in [a + half - offset, a + half + offset] {
-        for &j in nodes {
-            let mut weight = 1.0;
-            for &m in nodes {
-                if m != j {
-                    weight *= (s - t[m]) / (t[j] - t[m]);
-                }
+    let points = [a + half - offset, a + half + offset];
+    let mut weights = [0.0; 4];
+    for (w, &j) in weights.iter_mut().zip(nodes) {
+        let (mut numerator, mut denominator) = ([1.0, 1.0], 1.0);
+        for &m in nodes {
+            if m != j {
+                denominator *= t[j] - t[m];
+                numerator[0] *= points[0] - t[m];
+                numerator[1] *= points[1] - t[m];
             }
-            sum += x[j].into() * weight;
         }
+        *w = half * (numerator[0] + numerator[1]) / denominator;
     }
-    sum * half
+    weights
+}
+
+/// `Σ_j w_j x_j` over the nodes.
+fn weighted<V: Copy + Into<Vector3<f64>>>(x: &[V], nodes: &[usize], weights: &[f64; 4]) -> Vector3<f64> {
+    let mut sum = Vector3::zeros();
+    for (&j, w) in nodes.iter().zip(weights) {
+        sum += x[j].into() * *w;
+    }
+    sum
 }
 
 /// Writes the increments over each interval between the time tags `t` (s) of angular-rate
@@ -200,9 +212,10 @@ pub fn write_increments<V: Copy + Into<Vector3<f64>>>(
         let last = (k + 2).min(n - 1);
         let nodes: [usize; 4] = [start, start + 1, start + 2, start + 3];
         let used = &nodes[..=(last - start).min(3)];
+        let weights = quadrature_weights(t, used, k);
         *o = ImuIncrement {
-            delta_angle: integral(t, angular_rate, used, k),
-            delta_velocity: integral(t, specific_force, used, k),
+            delta_angle: weighted(angular_rate, used, &weights),
+            delta_velocity: weighted(specific_force, used, &weights),
             interval: t[k + 1] - t[k],
         };
     }
