@@ -69,8 +69,9 @@ def rotaframe_run(t, dtheta, dv, fixes, smooth=False):
 def numpy_run(t, dtheta, dv, fixes, smooth=False):
     """The filter per step in numpy on rotaframe's stepper and error model (position and
     velocity fixes without lever arm, the 0.999 gate for three rows); with ``smooth`` the
-    per-step ``P⁺``, ``Φ``, ``P⁻`` and corrections are kept and an RTS pass returns the smoothed
-    σ of every step."""
+    per-step ``P⁺``, ``Φ``, ``P⁻``, corrections and states are kept and an RTS pass returns the
+    smoothed σ and the smoothed position and velocity ``(lat, lon, h, vn, ve, vd)`` of every
+    step (tests/python/test_smoothing.py checks them against ``run(smooth=True)``)."""
     sd = rf.Strapdown(LAT, LON, H, [0, 0, 0], [1, 0, 0, 0])
     vrw, arw = 0.05 / 60, math.radians(0.1) / 60
     psd = np.array([vrw**2] * 3 + [arw**2] * 3 + [2 * 5e-3**2 / 600.0] * 3 + [0.0] * 3)
@@ -85,6 +86,8 @@ def numpy_run(t, dtheta, dv, fixes, smooth=False):
     if smooth:
         posterior, transition, prior = np.empty((steps + 1, 15, 15)), np.empty((steps, 15, 15)), np.empty((steps, 15, 15))
         correction = np.zeros((steps + 1, 15))
+        states = np.empty((steps + 1, 6))
+        states[0] = [sd.lat, sd.lon, sd.h, *sd.v_ned]
         posterior[0] = p
     for k in range(steps):
         dt = t[k + 1] - t[k]
@@ -100,6 +103,7 @@ def numpy_run(t, dtheta, dv, fixes, smooth=False):
         if smooth:
             transition[k], prior[k] = phi, p
             posterior[k + 1] = p
+            states[k + 1] = [sd.lat, sd.lon, sd.h, *sd.v_ned]
         i = fix_index.get(k + 1)
         if i is None:
             continue
@@ -128,17 +132,18 @@ def numpy_run(t, dtheta, dv, fixes, smooth=False):
             if smooth:
                 posterior[k + 1] = p
                 correction[k + 1] += x
+                states[k + 1] = [sd.lat, sd.lon, sd.h, *sd.v_ned]
     if not smooth:
         return sd
-    sigma = np.empty((steps + 1, 15))
+    sigma, errors = np.empty((steps + 1, 15)), np.zeros((steps + 1, 15))
     error, p_smooth = np.zeros(15), posterior[steps]
     sigma[steps] = np.sqrt(np.diag(p_smooth))
     for k in range(steps - 1, -1, -1):
         gain = posterior[k] @ transition[k].T @ np.linalg.inv(prior[k])
         error = gain @ (error + correction[k + 1])
         p_smooth = posterior[k] + gain @ (p_smooth - prior[k]) @ gain.T
-        sigma[k] = np.sqrt(np.diag(p_smooth))
-    return sd, sigma
+        sigma[k], errors[k] = np.sqrt(np.diag(p_smooth)), error
+    return sd, sigma, states - errors[:, :6]
 
 
 def main():
@@ -161,7 +166,7 @@ def main():
     print(f"rotaframe, the same hour filtered and smoothed: {both:.3f} s ({both / hour:.2f}x the filter alone)")
     ours_smoothed = best(lambda: rotaframe_run(ts, dths, dvs, fx, smooth=True), args.repeat)
     start = time.perf_counter()
-    _, numpy_sigma = numpy_run(ts, dths, dvs, fx, smooth=True)
+    _, numpy_sigma, _ = numpy_run(ts, dths, dvs, fx, smooth=True)
     theirs_smoothed = time.perf_counter() - start
     ours_sigma = rotaframe_run(ts, dths, dvs, fx, smooth=True).smoothed.sigma
     agreement = np.max(np.abs(numpy_sigma / ours_sigma - 1))

@@ -174,28 +174,36 @@ def aided_plot(
     of curvature) and, with ``truth = (lat, lon, h)`` (arrays at the result's times, angles as
     ``degrees``), the horizontal error; the bottom axes the same for height. ``outages`` are
     ``(start, end)`` times (s) shaded grey (the GNSS gaps of the run). ``degrees`` says whether
-    ``result.lat`` is in degrees (a strapdown made with ``degrees=True``). Time in seconds."""
+    ``result.lat`` is in degrees (a strapdown made with ``degrees=True``). A result of
+    ``run(..., smooth=True)`` draws the smoothed solution's error and 1σ beside the filter's.
+    Time in seconds."""
     t = _times(result.t)
     scale = np.pi / 180.0 if degrees else 1.0
-    lat = np.asarray(result.lat, dtype=float) * scale
-    meridian, prime = _native.radii_of_curvature(lat, model=model)
-    h = np.asarray(result.h, dtype=float)
-    sigma = np.asarray(result.sigma, dtype=float)
-    north_sigma = sigma[:, 0] * (meridian + h)
-    east_sigma = sigma[:, 1] * (prime + h) * np.cos(lat)
-    fig, (top, bottom) = _axes(ax, rows=2)
-    top.plot(t, np.hypot(north_sigma, east_sigma), linestyle="--", color="grey", label="horizontal 1σ (filter)")
-    bottom.plot(t, sigma[:, 2], linestyle="--", color="grey", label="height 1σ (filter)")
     if truth is not None:
         if len(truth) != 3:
             raise _native.ShapeError("`truth` must be (lat, lon, h)")
-        true_lat, true_lon, true_h = (np.asarray(x, dtype=float) for x in truth)
-        if true_lat.shape != t.shape or true_lon.shape != t.shape or true_h.shape != t.shape:
+        truth = tuple(np.asarray(x, dtype=float) for x in truth)
+        if any(x.shape != t.shape for x in truth):
             raise _native.ShapeError(f"`truth` arrays must have shape {t.shape} (one value per time of the result)")
-        north = (lat - true_lat * scale) * (meridian + h)
-        east = (np.asarray(result.lon, dtype=float) - true_lon) * scale * (prime + h) * np.cos(lat)
-        top.plot(t, np.hypot(north, east), label="horizontal error")
-        bottom.plot(t, np.abs(h - true_h), label="height error")
+    fig, (top, bottom) = _axes(ax, rows=2)
+    solutions = [("filter", result, "grey", "C0")]
+    if getattr(result, "smoothed", None) is not None:
+        solutions.append(("smoothed", result.smoothed, "black", "C1"))
+    for name, solution, sigma_colour, error_colour in solutions:
+        lat = np.asarray(solution.lat, dtype=float) * scale
+        meridian, prime = _native.radii_of_curvature(lat, model=model)
+        h = np.asarray(solution.h, dtype=float)
+        sigma = np.asarray(solution.sigma, dtype=float)
+        north_sigma = sigma[:, 0] * (meridian + h)
+        east_sigma = sigma[:, 1] * (prime + h) * np.cos(lat)
+        top.plot(t, np.hypot(north_sigma, east_sigma), linestyle="--", color=sigma_colour, label=f"horizontal 1σ ({name})")
+        bottom.plot(t, sigma[:, 2], linestyle="--", color=sigma_colour, label=f"height 1σ ({name})")
+        if truth is not None:
+            true_lat, true_lon, true_h = truth
+            north = (lat - true_lat * scale) * (meridian + h)
+            east = (np.asarray(solution.lon, dtype=float) - true_lon) * scale * (prime + h) * np.cos(lat)
+            top.plot(t, np.hypot(north, east), color=error_colour, label=f"horizontal error ({name})")
+            bottom.plot(t, np.abs(h - true_h), color=error_colour, label=f"height error ({name})")
     for start, end in outages:
         for axis in (top, bottom):
             axis.axvspan(start, end, color="grey", alpha=0.2, linewidth=0)
