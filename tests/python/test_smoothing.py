@@ -214,3 +214,19 @@ def test_smoother_matches_a_textbook_rts_pass_written_in_numpy():
     assert np.all(np.abs(north) <= 1e-5 * sn) and np.all(np.abs(east) <= 1e-5 * se)
     assert np.all(np.abs(ours.h - states[:, 2]) <= 1e-5 * ours.sigma[:, 2])
     assert np.all(np.abs(ours.v_ned - states[:, 3:6]) <= 1e-5 * ours.sigma[:, 3:6])
+
+
+def test_at_on_a_result_that_does_not_hang_together_raises_a_named_error():
+    nav, ts, dtheta, dv, sets, _ = van_run(seconds=3, outage=(1e9, 1e9))
+    result = nav.run(ts, dtheta, dv, sets)
+    cls, args = result.__reduce__()
+    # A hand-made result (the constructor is public) with a short `lat`: refused by name.
+    broken = cls(*args[:1], args[1][:-1], *args[2:])
+    with pytest.raises(rf.ShapeError, match="`lat`"):
+        broken.at([1.0])
+    short_log = cls(*args[:-1], (args[-1][0], args[-1][1], dtheta[:-1], dv, args[-1][4]))
+    with pytest.raises(rf.ShapeError, match="`dtheta`"):
+        short_log.at([1.0])
+    bare = cls(*args[:11])
+    with pytest.raises(ValueError, match="IMU log"):
+        bare.at([1.0])

@@ -15,7 +15,7 @@ use rotaframe::rotation::quaternion_to_wxyz;
 use super::sets::{self, PyMeasurementSet};
 use crate::nav::sensor::PyImuErrors;
 use crate::nav::strapdown::PyStrapdown;
-use crate::plumbing::errors::to_py;
+use crate::plumbing::errors::{ShapeError, to_py};
 use crate::plumbing::memory::try_vec;
 use crate::plumbing::output::angle_scale;
 use crate::rotation::quaternion;
@@ -290,10 +290,28 @@ impl PyAidedResult {
         let times = values(&self.t, py)?;
         let n = times.len();
         let sigma = values(&self.sigma, py)?;
-        let states = sigma.len() / n.max(1);
+        let states = if n > 0 && sigma.len() == 21 * n { 21 } else { 15 };
         let errors = values(&self.imu_errors, py)?;
         let (lat, lon, h) = (values(&self.lat, py)?, values(&self.lon, py)?, values(&self.h, py)?);
         let (v, q) = (values(&self.v_ned, py)?, values(&self.attitude, py)?);
+        // A result made by hand (the constructor is public, for pickling) may not hang together.
+        let sizes = [
+            ("t", n, n.max(2)),
+            ("lat", lat.len(), n),
+            ("lon", lon.len(), n),
+            ("h", h.len(), n),
+            ("v_ned", v.len(), 3 * n),
+            ("attitude", q.len(), 4 * n),
+            ("sigma", sigma.len(), states * n),
+            ("imu_errors", errors.len(), (states - 9) * n),
+        ];
+        for (name, found, expected) in sizes {
+            if found != expected {
+                return Err(ShapeError::new_err(format!(
+                    "this result's `{name}` holds {found} values where its {n} times need {expected}"
+                )));
+            }
+        }
         let width = ROW_HEAD + 2 * states - 9;
         let mut rows = Vec::with_capacity(n * width);
         for k in 0..n {
@@ -311,6 +329,18 @@ impl PyAidedResult {
         };
         let (_, dtheta) = sets::table(&dtheta, "dtheta", 3)?;
         let (_, dv) = sets::table(&dv, "dv", 3)?;
+        let epoch_count = epochs.len();
+        for (name, found, expected) in [
+            ("dtheta", dtheta.len(), 3 * (n - 1)),
+            ("dv", dv.len(), 3 * (n - 1)),
+            ("epoch rows", epoch_rows.len(), width * epoch_count),
+        ] {
+            if found != expected {
+                return Err(ShapeError::new_err(format!(
+                    "this result's `{name}` holds {found} values where its {n} times need {expected}"
+                )));
+            }
+        }
         let model = *imu.get().lock()?.model();
         Ok(Solution {
             smoothed,
@@ -497,7 +527,16 @@ impl<'a> Collector<'a> {
         smooth: bool,
     ) -> PyResult<Self> {
         let states = nav.states();
-        let log = if smooth { Some(SmootherLog::new(nav).map_err(|e| to_py(&e, ""))?) } else { None };
+        let log = if smooth {
+            let mut log = SmootherLog::new(nav).map_err(|e| to_py(&e, ""))?;
+            let measurements = sets.iter().map(|s| s.get().times.len()).sum();
+            log.try_reserve(rows - 1, measurements).map_err(|_| {
+                pyo3::exceptions::PyMemoryError::new_err("not enough memory to record the run for smoothing")
+            })?;
+            Some(log)
+        } else {
+            None
+        };
         Ok(Self {
             states,
             angle: angle_scale(degrees).recip(),

@@ -305,6 +305,25 @@ impl SmootherLog {
         })
     }
 
+    /// Reserves room for a run of `increments` IMU increments with at most `measurements`
+    /// measurements, so that recording it allocates nothing more (a caller that must not abort
+    /// on a failed allocation, such as a binding, calls this first).
+    ///
+    /// # Errors
+    /// The allocator's, if the room cannot be had; the log is then unchanged in content.
+    pub fn try_reserve(&mut self, increments: usize, measurements: usize) -> core::result::Result<(), alloc::collections::TryReserveError> {
+        let pieces = increments.saturating_add(measurements);
+        let checkpoints = measurements.saturating_add(pieces / CHECKPOINT_EVERY).saturating_add(1);
+        self.pieces.try_reserve(pieces)?;
+        self.updates.try_reserve(measurements)?;
+        self.checkpoint_pieces.try_reserve(checkpoints)?;
+        self.checkpoint_values.try_reserve(checkpoints.saturating_mul(self.states * self.states))?;
+        self.outputs.try_reserve(increments.saturating_add(1))?;
+        self.sensor_errors.try_reserve(increments.saturating_add(1).saturating_mul(self.states - 9))?;
+        self.epochs.try_reserve(measurements)?;
+        Ok(())
+    }
+
     /// The number of states.
     #[must_use]
     pub fn states(&self) -> usize {
