@@ -11,11 +11,18 @@
 //!   feedback into the stepper and the compensation), applied in place; goal: at most 5
 //!   strapdown steps.
 //! * `predict_21`, `position_update_21`: the 21-state model.
+//! * `run_15`, `run_15_recorded`, `smooth_15`: an `AidedNavigator::run` over the increments
+//!   with a position fix each second, without and with the smoother's log, and the backward
+//!   pass alone over that log (per IMU step; the smoother costs about two covariance steps
+//!   per IMU step: the rebuild of the covariance and the adjoint).
 
 use std::hint::black_box;
 
 use criterion::{Criterion, Throughput, criterion_group, criterion_main};
-use rotaframe::aided::{AidedFilter, FilterSettings, Measurement};
+use rotaframe::aided::{
+    AidedFilter, AidedNavigator, FilterSettings, Measurement, MeasurementSet, MeasurementSlices, SmoothedPoint, SmoothedSink,
+    SmootherLog,
+};
 use rotaframe::linearise::inertial::bias_covariance;
 use rotaframe::nalgebra::{SMatrix, Vector3};
 use rotaframe::nav::{ImuErrorModel, SensorErrorModel, Strapdown, StrapdownConfig};
@@ -104,6 +111,47 @@ fn aided(c: &mut Criterion) {
     }
     update!("position_update_15", f15);
     update!("position_update_21", f21);
+    // Runs: the same increments on a time line, a position fix each second.
+    let times: Vec<f64> = (0..=STEPS).map(|k| k as f64 * 0.01).collect();
+    let dtheta: Vec<[f64; 3]> = incs.iter().map(|i| [i.delta_angle.x, i.delta_angle.y, i.delta_angle.z]).collect();
+    let dv: Vec<[f64; 3]> = incs.iter().map(|i| [i.delta_velocity.x, i.delta_velocity.y, i.delta_velocity.z]).collect();
+    let fix_times: Vec<f64> = (1..=STEPS / 100).map(|s| s as f64).collect();
+    let fixes = vec![fix; fix_times.len()];
+    let set = MeasurementSlices { times: &fix_times, measurements: &fixes };
+    let sets: [&dyn MeasurementSet; 1] = [&set];
+    let no_gate = FilterSettings { gate: None, ..settings };
+    let nav = AidedNavigator::new(initial, &model, p0::<15>(&model).as_slice(), 15, no_gate).unwrap();
+    group.bench_function("run_15", |b| {
+        b.iter(|| {
+            let mut n = nav;
+            n.run(black_box(&times), &dtheta, &dv, &sets, &mut ()).unwrap();
+            black_box(n.time())
+        })
+    });
+    group.bench_function("run_15_recorded", |b| {
+        b.iter(|| {
+            let mut n = nav;
+            let mut log = SmootherLog::new(&n).unwrap();
+            n.run(black_box(&times), &dtheta, &dv, &sets, &mut log).unwrap();
+            black_box(log.len())
+        })
+    });
+    let mut log = SmootherLog::new(&nav).unwrap();
+    nav.clone().run(&times, &dtheta, &dv, &sets, &mut log).unwrap();
+    /// Keeps the last σ, so that the pass cannot be optimised away.
+    struct Last(f64);
+    impl SmoothedSink for Last {
+        fn point(&mut self, _index: usize, point: &SmoothedPoint<'_>) {
+            self.0 += point.sigma[0];
+        }
+    }
+    group.bench_function("smooth_15", |b| {
+        b.iter(|| {
+            let mut sink = Last(0.0);
+            black_box(&log).smooth(&mut sink).unwrap();
+            black_box(sink.0)
+        })
+    });
     group.finish();
 }
 

@@ -530,9 +530,8 @@ impl<'a> Collector<'a> {
         let log = if smooth {
             let mut log = SmootherLog::new(nav).map_err(|e| to_py(&e, ""))?;
             let measurements = sets.iter().map(|s| s.get().times.len()).sum();
-            log.try_reserve(rows - 1, measurements).map_err(|_| {
-                pyo3::exceptions::PyMemoryError::new_err("not enough memory to record the run for smoothing")
-            })?;
+            log.try_reserve(rows - 1, measurements)
+                .map_err(|_| pyo3::exceptions::PyMemoryError::new_err("not enough memory to record the run for smoothing"))?;
             Some(log)
         } else {
             None

@@ -311,7 +311,11 @@ impl SmootherLog {
     ///
     /// # Errors
     /// The allocator's, if the room cannot be had; the log is then unchanged in content.
-    pub fn try_reserve(&mut self, increments: usize, measurements: usize) -> core::result::Result<(), alloc::collections::TryReserveError> {
+    pub fn try_reserve(
+        &mut self,
+        increments: usize,
+        measurements: usize,
+    ) -> core::result::Result<(), alloc::collections::TryReserveError> {
         let pieces = increments.saturating_add(measurements);
         let checkpoints = measurements.saturating_add(pieces / CHECKPOINT_EVERY).saturating_add(1);
         self.pieces.try_reserve(pieces)?;
@@ -383,36 +387,74 @@ impl SmootherLog {
         error_model::<N>(&self.config, &piece.state, &piece.force, &piece.rate, times)
     }
 
-    /// The backward pass for `N` states.
+    /// Segment `c` rebuilt: the covariances after propagations `start ..= end` (`start` the
+    /// checkpoint's count, `end` the next checkpoint's less one, or the last for the last
+    /// segment) and the `F` of propagations `start ..` up to the next checkpoint.
+    fn segment<const N: usize>(&self, c: usize, psd: &SVector<f64, NOISE_INPUTS>) -> Result<Segment<N>> {
+        let size = N * N;
+        let start = self.checkpoint_pieces[c];
+        let (last_covariance, models_end) = match self.checkpoint_pieces.get(c + 1) {
+            Some(&next) => (next - 1, next),
+            None => (self.pieces.len(), self.pieces.len()),
+        };
+        let mut covariances = Vec::with_capacity(last_covariance - start + 1);
+        let mut models = Vec::with_capacity(models_end - start);
+        covariances.push(SMatrix::<f64, N, N>::from_column_slice(&self.checkpoint_values[c * size..(c + 1) * size]));
+        for index in start..models_end {
+            let (f, g) = self.model_of::<N>(index)?;
+            if index < last_covariance {
+                let mut p = covariances[covariances.len() - 1];
+                propagate_covariance_second_order_in_place(&f, &g, psd, &mut p, self.pieces[index].interval)?;
+                covariances.push(p);
+            }
+            models.push(f);
+        }
+        Ok(Segment { start, covariances, models })
+    }
+
+    /// The backward pass for `N` states; with `std` and more than one core, the covariances of
+    /// the next segment are rebuilt on a second thread while this one is walked (the same
+    /// arithmetic, so the same bits).
     fn backward<const N: usize>(&self, sink: &mut impl SmoothedSink) -> Result<()> {
         let psd = noise_psd(&self.model);
+        #[cfg(feature = "std")]
+        let count = self.checkpoint_pieces.len();
+        #[cfg(feature = "std")]
+        if count > 2 && std::thread::available_parallelism().is_ok_and(|n| n.get() > 1) {
+            return std::thread::scope(|scope| {
+                // At most one segment waits in the channel: memory stays a few segments.
+                let (sender, receiver) = std::sync::mpsc::sync_channel(1);
+                let psd = &psd;
+                scope.spawn(move || {
+                    for c in (0..count).rev() {
+                        let segment = self.segment::<N>(c, psd);
+                        let failed = segment.is_err();
+                        if sender.send(segment).is_err() || failed {
+                            break;
+                        }
+                    }
+                });
+                let lost = Error::Invalid { quantity: "smooth", reason: "the rebuilding thread stopped" };
+                self.walk(|_| receiver.recv().unwrap_or(Err(lost)), sink)
+            });
+        }
+        self.walk(|c| self.segment::<N>(c, &psd), sink)
+    }
+
+    /// The backward walk over the segments, last first, `next(c)` giving segment `c`.
+    fn walk<const N: usize>(
+        &self,
+        mut next: impl FnMut(usize) -> Result<Segment<N>>,
+        sink: &mut impl SmoothedSink,
+    ) -> Result<()> {
         let mut adjoint = Adjoint::<N>::zero();
-        // Covariances of propagations `segment_start ..= segment_start + segment.len() − 1`,
-        // and the `F` of each propagation from there.
-        let mut segment: Vec<SMatrix<f64, N, N>> = Vec::with_capacity(CHECKPOINT_EVERY + 1);
-        let mut models: Vec<SMatrix<f64, N, N>> = Vec::with_capacity(CHECKPOINT_EVERY);
-        let mut segment_start = usize::MAX;
+        let mut c = self.checkpoint_pieces.len() - 1;
+        let mut current = next(c)?;
         let (mut output, mut epoch, mut update) = (self.outputs.len(), self.epochs.len(), self.updates.len());
         let (mut sigma, mut sensor) = ([0.0; 21], [0.0; 12]);
         let mut here = self.pieces.len();
         loop {
-            if here < segment_start || here >= segment_start + segment.len() {
-                // The last checkpoint at or before `here`, propagated forward to `here`.
-                let c = self.checkpoint_pieces.partition_point(|&p| p <= here) - 1;
-                segment_start = self.checkpoint_pieces[c];
-                segment.clear();
-                models.clear();
-                let size = N * N;
-                segment.push(SMatrix::from_column_slice(&self.checkpoint_values[c * size..(c + 1) * size]));
-                for index in segment_start..here {
-                    let (f, g) = self.model_of::<N>(index)?;
-                    let mut p = segment[segment.len() - 1];
-                    propagate_covariance_second_order_in_place(&f, &g, &psd, &mut p, self.pieces[index].interval)?;
-                    segment.push(p);
-                    models.push(f);
-                }
-            }
-            let p = &segment[here - segment_start];
+            let p = &current.covariances[here - current.start];
             while output > 0 && self.outputs[output - 1] == here {
                 output -= 1;
                 let (correction, variances) = adjoint.smoothed_variances(p);
@@ -456,14 +498,21 @@ impl SmootherLog {
             if here == 0 {
                 return Ok(());
             }
-            here -= 1;
-            let interval = self.pieces[here].interval;
-            match models.get(here.wrapping_sub(segment_start)) {
-                Some(f) if here >= segment_start => adjoint.through_second_order_step(f, interval)?,
-                _ => adjoint.through_second_order_step(&self.model_of::<N>(here)?.0, interval)?,
+            if here == current.start {
+                c -= 1;
+                current = next(c)?;
             }
+            here -= 1;
+            adjoint.through_second_order_step(&current.models[here - current.start], self.pieces[here].interval)?;
         }
     }
+}
+
+/// One rebuilt segment of the backward pass (see [`SmootherLog::segment`]).
+struct Segment<const N: usize> {
+    start: usize,
+    covariances: Vec<SMatrix<f64, N, N>>,
+    models: Vec<SMatrix<f64, N, N>>,
 }
 
 impl RunSink for SmootherLog {
