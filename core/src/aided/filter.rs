@@ -359,7 +359,7 @@ impl<const N: usize> AidedFilter<N> {
     /// innovation covariance is not positive definite.
     #[inline]
     pub fn update(&mut self, measurement: &Measurement) -> Result<UpdateReport> {
-        self.update_with_gain(measurement).map(|(report, _)| report)
+        self.update_checked::<false>(measurement, &mut None)
     }
 
     /// [`update`](Self::update), also returning the [`Gain`] of an accepted update (for a
@@ -369,26 +369,40 @@ impl<const N: usize> AidedFilter<N> {
     /// As [`update`](Self::update).
     #[inline]
     pub fn update_with_gain(&mut self, measurement: &Measurement) -> Result<(UpdateReport, Option<Gain<N>>)> {
+        let mut gain = None;
+        let report = self.update_checked::<true>(measurement, &mut gain)?;
+        Ok((report, gain))
+    }
+
+    /// [`update`](Self::update), writing the [`Gain`] of an accepted update to `gain` only when
+    /// `GAIN` (the filter alone does not pay for it).
+    #[inline(always)]
+    fn update_checked<const GAIN: bool>(
+        &mut self,
+        measurement: &Measurement,
+        gain: &mut Option<Gain<N>>,
+    ) -> Result<UpdateReport> {
         let earth = self.strapdown.config().earth;
         measurement.validate(&earth)?;
         if self.pending.count > 0 {
             let mut next = *self;
             next.flush()?;
-            let report = next.update_propagated(measurement, &earth)?;
+            let report = next.update_propagated::<GAIN>(measurement, &earth, gain)?;
             *self = next;
             return Ok(report);
         }
-        self.update_propagated(measurement, &earth)
+        self.update_propagated::<GAIN>(measurement, &earth, gain)
     }
 
     /// [`update`](Self::update) with nothing pending; changes the filter only at the end, so
     /// that on error it is unchanged.
-    #[inline]
-    fn update_propagated(
+    #[inline(always)]
+    fn update_propagated<const GAIN: bool>(
         &mut self,
         measurement: &Measurement,
         earth: &crate::earth::EarthModel,
-    ) -> Result<(UpdateReport, Option<Gain<N>>)> {
+        gain: &mut Option<Gain<N>>,
+    ) -> Result<UpdateReport> {
         let point = NavPoint::of(&self.strapdown, &self.rate);
         let linear = measurement.linearise::<N>(&point, earth)?;
         let rows = linear.rows;
@@ -411,7 +425,6 @@ impl<const N: usize> AidedFilter<N> {
         }
         let accepted = nis <= self.thresholds[rows - 1];
         let report = UpdateReport { rows, innovation: y, std, nis, accepted };
-        let mut applied = None;
         if accepted {
             let k = u.transpose() * s_inverse;
             let estimate: SVector<f64, N> = -(k * y);
@@ -425,9 +438,11 @@ impl<const N: usize> AidedFilter<N> {
             self.markov_bias = corrected.markov_bias;
             self.scale_factor = corrected.scale_factor;
             self.inverse_gain = corrected.inverse_gain;
-            applied = Some(Gain { rows, jacobian: h, s_inverse, innovation: -y, gain: k });
+            if GAIN {
+                *gain = Some(Gain { rows, jacobian: h, s_inverse, innovation: -y, gain: k });
+            }
         }
-        Ok((report, applied))
+        Ok(report)
     }
 
     /// The stepper and sensor-error estimate with an error-state estimate fed back: the
@@ -537,6 +552,7 @@ struct Corrected {
 /// The increment with a sensor-error estimate removed:
 /// `Δθ_c = (I + diag(ŝ_g) + M_g)⁻¹ (Δθ − b̂_g T)`, and the same for `Δv`; `inverse_gain` from
 /// [`gains`], accelerometer then gyro.
+#[inline]
 pub(crate) fn compensate(inverse_gain: &[Matrix3<f64>; 2], estimate: &SensorEstimate, increment: &ImuIncrement) -> ImuIncrement {
     let t = increment.interval;
     ImuIncrement {
