@@ -230,3 +230,18 @@ def test_at_on_a_result_that_does_not_hang_together_raises_a_named_error():
     bare = cls(*args[:11])
     with pytest.raises(ValueError, match="IMU log"):
         bare.at([1.0])
+
+
+def test_the_21_state_model_smooths_with_its_scale_factors():
+    nav, ts, dtheta, dv, sets, _ = van_run(seconds=60, outage=(20.0, 40.0))
+    nav21 = rf.AidedNavigator(nav.strapdown, tactical(), p0_for(21), states=21)
+    result = nav21.run(ts, dtheta, dv, sets, smooth=True)
+    s = result.smoothed
+    assert s.sigma.shape == (len(ts), 21) and s.imu_errors.shape == (len(ts), 12)
+    # As for 15 states: never above the filter's σ (1e-4 relative, rounding), equal at the end.
+    assert np.all(s.sigma <= result.sigma * (1 + 1e-4))
+    np.testing.assert_allclose(s.sigma[-1], result.sigma[-1], rtol=1e-9)
+    # Mid-outage the smoother knows more than the filter did.
+    k = int(30 * RATE)
+    assert s.sigma[k, 0] < 0.5 * result.sigma[k, 0]
+    assert result.at([10.005, 30.0]).sigma.shape == (2, 21)
