@@ -247,6 +247,18 @@ pub fn monte_carlo(flight: &Flight, runs: u64, filter_imu: &ImuErrorModel) -> Ve
     })
 }
 
+/// The `p` quantile of χ²(k), by bisection on [`chi_square_cdf`] (for the bands of the
+/// tests).
+#[must_use]
+pub fn chi_square_inverse(p: f64, k: f64) -> f64 {
+    let (mut lo, mut hi) = (0.0, 10.0 * k + 100.0);
+    for _ in 0..200 {
+        let mid = 0.5 * (lo + hi);
+        if chi_square_cdf(mid, k) < p { lo = mid } else { hi = mid }
+    }
+    hi
+}
+
 /// The chi-square distribution function with `k` degrees of freedom by the regularised lower
 /// incomplete gamma function (its series; A&S 6.5.29), for the bands of the tests.
 #[must_use]
@@ -321,6 +333,8 @@ pub struct SmoothedRun {
     /// IMU index of every accepted GNSS epoch, with the smoothed covariance of the nine
     /// navigation states there.
     pub epochs: Vec<(usize, SMatrix<f64, 9, 9>)>,
+    /// The run's traces (with [`Switches::trace`]).
+    pub traces: Vec<Trace>,
 }
 
 /// Records the filtered solution and the smoother's log at once.
@@ -328,6 +342,7 @@ struct Recorder {
     log: rotaframe::aided::SmootherLog,
     filtered: Vec<(NavState, [f64; 15])>,
     epochs: Vec<usize>,
+    traces: Option<Vec<Trace>>,
 }
 
 impl rotaframe::aided::RunSink for Recorder {
@@ -339,15 +354,47 @@ impl rotaframe::aided::RunSink for Recorder {
         navigator: &rotaframe::aided::AidedNavigator,
     ) {
         self.log.propagated(start, interval, navigator);
+        if let Some(traces) = &mut self.traces {
+            let (config, _, _) = navigator.strapdown().parts();
+            let (rate, force) = navigator.last_rates();
+            let imu = navigator.imu();
+            let times = (&imu.accelerometer.markov_time, &imu.gyro.markov_time);
+            let (f, g) = rotaframe::linearise::inertial::error_model::<15>(&config, start, &force, &rate, times).unwrap();
+            traces.push(Trace::Step(Box::new((f, g, interval))));
+        }
     }
     fn updated(&mut self, gain: &rotaframe::aided::GainTrace<'_>, covariance: &[f64]) {
         self.log.updated(gain, covariance);
+        if let Some(traces) = &mut self.traces {
+            let g = rotaframe::aided::Gain::<15> {
+                rows: gain.rows,
+                jacobian: SMatrix::from_column_slice(gain.jacobian),
+                s_inverse: *gain.s_inverse,
+                innovation: *gain.innovation,
+                gain: SMatrix::from_column_slice(gain.gain),
+                noise_variance: *gain.noise_variance,
+            };
+            traces.push(Trace::Update(Box::new(g), usize::MAX));
+        }
     }
     fn step(&mut self, index: usize, navigator: &rotaframe::aided::AidedNavigator) {
         self.log.step(index, navigator);
+        if let Some(traces) = &mut self.traces {
+            let mut p = SMatrix::<f64, 15, 15>::zeros();
+            navigator.write_covariance(p.as_mut_slice()).unwrap();
+            traces.push(Trace::Output(Box::new(p)));
+        }
         let mut sigma = [0.0; 15];
         navigator.write_sigma(&mut sigma).unwrap();
         self.filtered.push((navigator.state(), sigma));
+    }
+    fn measurement(&mut self, set: usize, index: usize, report: &rotaframe::aided::UpdateReport) {
+        self.log.measurement(set, index, report);
+        if report.accepted
+            && let Some(Trace::Update(_, s)) = self.traces.as_mut().and_then(|t| t.last_mut())
+        {
+            *s = set;
+        }
     }
     fn epoch(&mut self, time: f64, navigator: &rotaframe::aided::AidedNavigator, accepted: bool) {
         self.log.epoch(time, navigator, accepted);
@@ -379,13 +426,80 @@ impl rotaframe::aided::SmoothedSink for Smoothed {
 /// with the smoother's log, GNSS absent over `outage`.
 #[must_use]
 pub fn smoothed_run(flight: &Flight, imu: &ImuErrorModel, seed: u64, outage: Option<(f64, f64)>) -> SmoothedRun {
+    smoothed_run_with(flight, imu, seed, outage, &Switches::all(imu)).0
+}
+
+/// Which sources of error a [`smoothed_run_with`] draws (the filter's model stays the same):
+/// the sensors' errors, the initial error of each of the nine navigation states, the noise
+/// of the position and of the velocity fixes.
+#[derive(Debug, Clone, Copy)]
+pub struct Switches {
+    /// The error model the sensors are corrupted with.
+    pub sensors: ImuErrorModel,
+    /// Whether each navigation state starts with its error.
+    pub initial: [bool; 9],
+    /// Whether the position fixes are noisy.
+    pub position_noise: bool,
+    /// Whether the velocity fixes are noisy.
+    pub velocity_noise: bool,
+    /// The length of the run (s, at most [`DURATION`]).
+    pub duration: f64,
+    /// Whether the run records its [`Trace`]s.
+    pub trace: bool,
+}
+
+/// What a run did, in order, for tests that redo its linear algebra: each covariance
+/// propagation with the filter's `F`, `G` and interval, each accepted update with its gain
+/// and set, each IMU time with the filter's covariance there.
+#[derive(Debug, Clone)]
+pub enum Trace {
+    /// A propagation.
+    Step(Box<(SMatrix<f64, 15, 15>, rotaframe::linearise::inertial::NoiseInput<15>, f64)>),
+    /// An accepted update of set `.1`.
+    Update(Box<rotaframe::aided::Gain<15>>, usize),
+    /// An IMU time, with the filter's covariance.
+    Output(Box<SMatrix<f64, 15, 15>>),
+}
+
+impl Switches {
+    /// Every source on, the sensors corrupted with `imu`.
+    #[must_use]
+    pub fn all(imu: &ImuErrorModel) -> Self {
+        Self { sensors: *imu, initial: [true; 9], position_noise: true, velocity_noise: true, duration: DURATION, trace: false }
+    }
+
+    /// Every source off (perfect sensors and fixes, exact start).
+    #[must_use]
+    pub fn none() -> Self {
+        Self {
+            sensors: ImuErrorModel::default(),
+            initial: [false; 9],
+            position_noise: false,
+            velocity_noise: false,
+            duration: DURATION,
+            trace: false,
+        }
+    }
+}
+
+/// [`smoothed_run`] with only the sources of `switches` drawn (the same draws, so the same
+/// seed gives the same realisation of each source), also returning the smoother's log.
+#[must_use]
+pub fn smoothed_run_with(
+    flight: &Flight,
+    imu: &ImuErrorModel,
+    seed: u64,
+    outage: Option<(f64, f64)>,
+    switches: &Switches,
+) -> (SmoothedRun, rotaframe::aided::SmootherLog) {
     use rotaframe::aided::{AidedNavigator, MeasurementSet, MeasurementSlices};
     let imu = *imu;
-    let mut sensors = ImuErrorGenerator::new(imu, 0xa1d_0000 + seed).unwrap();
+    let mut sensors = ImuErrorGenerator::new(switches.sensors, 0xa1d_0000 + seed).unwrap();
     let mut rng = Seeded(0x9a55_0000 + seed);
     let start = flight.truth[0];
     let sigma = initial_sigma(&start.position);
-    let d: Vec<f64> = sigma.iter().map(|s| s * normal(&mut rng)).collect();
+    let d: Vec<f64> =
+        sigma.iter().zip(&switches.initial).map(|(s, &on)| s * normal(&mut rng) * f64::from(u8::from(on))).collect();
     let initial = NavState::new(
         Geodetic {
             latitude: start.position.latitude + d[0],
@@ -398,20 +512,22 @@ pub fn smoothed_run(flight: &Flight, imu: &ImuErrorModel, seed: u64, outage: Opt
     let ins = Strapdown::new(StrapdownConfig::default(), &initial).unwrap();
     let p0 = initial_covariance(&start.position, &imu);
     let mut nav = AidedNavigator::new(ins, &imu, p0.as_slice(), 15, FilterSettings::default()).unwrap();
-    let times: Vec<f64> = (0..=flight.increments.len()).map(|k| k as f64 / RATE).collect();
+    let steps = ((switches.duration.min(DURATION) * RATE).round() as usize).min(flight.increments.len());
+    let times: Vec<f64> = (0..=steps).map(|k| k as f64 / RATE).collect();
     let (mut dtheta, mut dv) = (Vec::new(), Vec::new());
-    for increment in &flight.increments {
+    for increment in &flight.increments[..steps] {
         let m = sensors.corrupt(increment).unwrap();
         dtheta.push([m.delta_angle.x, m.delta_angle.y, m.delta_angle.z]);
         dv.push([m.delta_velocity.x, m.delta_velocity.y, m.delta_velocity.z]);
     }
     let (mut fix_times, mut positions, mut velocities) = (Vec::new(), Vec::new(), Vec::new());
-    for second in 1..=(DURATION as usize) {
+    for second in 1..=(steps / RATE as usize) {
         let t = second as f64;
         let (antenna, velocity) = flight.antenna(t);
         let radii = rotaframe::earth::radii_of_curvature(&WGS84, antenna.latitude).unwrap();
-        let noise = Vector3::from_fn(|i, _| POSITION_SIGMA[i] * normal(&mut rng));
-        let v_noise = Vector3::from_fn(|_, _| VELOCITY_SIGMA * normal(&mut rng));
+        let (on_p, on_v) = (f64::from(u8::from(switches.position_noise)), f64::from(u8::from(switches.velocity_noise)));
+        let noise = Vector3::from_fn(|i, _| POSITION_SIGMA[i] * normal(&mut rng) * on_p);
+        let v_noise = Vector3::from_fn(|_, _| VELOCITY_SIGMA * normal(&mut rng) * on_v);
         if outage.is_some_and(|(a, b)| t > a && t < b) {
             continue;
         }
@@ -438,6 +554,7 @@ pub fn smoothed_run(flight: &Flight, imu: &ImuErrorModel, seed: u64, outage: Opt
         log: rotaframe::aided::SmootherLog::new(&nav).unwrap(),
         filtered: Vec::with_capacity(times.len()),
         epochs: Vec::new(),
+        traces: switches.trace.then(Vec::new),
     };
     nav.run(&times, &dtheta, &dv, &sets, &mut recorder).unwrap();
     let mut smoothed =
@@ -446,11 +563,13 @@ pub fn smoothed_run(flight: &Flight, imu: &ImuErrorModel, seed: u64, outage: Opt
     let errors = |states: &[(NavState, [f64; 15])]| -> Vec<SVector<f64, 9>> {
         states.iter().zip(&flight.truth).map(|((s, _), truth)| nav_error(s, truth)).collect()
     };
-    SmoothedRun {
+    let run = SmoothedRun {
         filtered_error: errors(&recorder.filtered),
         filtered_sigma: recorder.filtered.iter().map(|(_, s)| *s).collect(),
         smoothed_error: errors(&smoothed.points),
         smoothed_sigma: smoothed.points.iter().map(|(_, s)| *s).collect(),
         epochs: recorder.epochs.iter().copied().zip(smoothed.epochs).collect(),
-    }
+        traces: recorder.traces.unwrap_or_default(),
+    };
+    (run, recorder.log)
 }

@@ -16,19 +16,11 @@
 //! `aided_consistency_faults.rs` shows that the same checks fail for a wrong sign in a
 //! measurement Jacobian and for process noise 4× too small.
 
-use rotaframe_tests::aided::{Flight, chi_square_cdf, monte_carlo, tactical_imu, truncated_chi_square_moments};
+use rotaframe_tests::aided::{Flight, chi_square_inverse, monte_carlo, tactical_imu, truncated_chi_square_moments};
 
 /// The two-sided 99 % band of `χ²(k)/scale`, by bisection on the distribution function.
 fn band(k: f64, scale: f64) -> (f64, f64) {
-    let quantile = |p: f64| {
-        let (mut lo, mut hi) = (0.0, 10.0 * k + 100.0);
-        for _ in 0..200 {
-            let mid = 0.5 * (lo + hi);
-            if chi_square_cdf(mid, k) < p { lo = mid } else { hi = mid }
-        }
-        hi
-    };
-    (quantile(0.005) / scale, quantile(0.995) / scale)
+    (chi_square_inverse(0.005, k) / scale, chi_square_inverse(0.995, k) / scale)
 }
 
 #[test]

@@ -82,7 +82,14 @@ fn adjoint_pass_after_the_filter_equals_batch_weighted_least_squares() {
         x += k_gain * nu;
         p = (SMatrix::<f64, STATES, STATES>::identity() - k_gain * h) * p;
         posterior.push((x, p));
-        gains.push(Gain::<STATES> { rows, jacobian: h, s_inverse: Matrix3::from(s_inverse), innovation: nu, gain: k_gain });
+        gains.push(Gain::<STATES> {
+            rows,
+            jacobian: h,
+            s_inverse: Matrix3::from(s_inverse),
+            innovation: nu,
+            gain: k_gain,
+            noise_variance: Vector3::zeros(),
+        });
         x = phi * x;
         p = phi * p * phi.transpose() + q;
     }

@@ -81,6 +81,8 @@ pub struct Gain<const N: usize> {
     pub innovation: Vector3<f64>,
     /// `K = P Hᵀ S⁻¹`.
     pub gain: SMatrix<f64, N, MAX_ROWS>,
+    /// The diagonal of the measurement noise covariance `R` (zero beyond `rows`).
+    pub noise_variance: Vector3<f64>,
 }
 
 /// What a filter carries besides its stepper, covariance, model and settings: the sensor-error
@@ -439,7 +441,8 @@ impl<const N: usize> AidedFilter<N> {
             self.scale_factor = corrected.scale_factor;
             self.inverse_gain = corrected.inverse_gain;
             if GAIN {
-                *gain = Some(Gain { rows, jacobian: h, s_inverse, innovation: -y, gain: k });
+                let noise_variance = Vector3::from_fn(|i, _| if i < rows { sigma[i] * sigma[i] } else { 0.0 });
+                *gain = Some(Gain { rows, jacobian: h, s_inverse, innovation: -y, gain: k, noise_variance });
             }
         }
         Ok(report)
@@ -579,7 +582,7 @@ pub(crate) fn gains(scale: &[Vector3<f64>; 2], model: &ImuErrorModel) -> Result<
 /// `P ← P − K U − Uᵀ Kᵀ + K S Kᵀ` with `U = H P`: the Joseph form
 /// `(I − K H) P (I − K H)ᵀ + K R Kᵀ` multiplied out (`S = H P Hᵀ + R`; the same for any gain),
 /// formed by rank-3 terms in `O(N²)` and made exactly symmetric.
-fn joseph_update<const N: usize>(
+pub(crate) fn joseph_update<const N: usize>(
     p: &mut SMatrix<f64, N, N>,
     k: &SMatrix<f64, N, MAX_ROWS>,
     u: &SMatrix<f64, MAX_ROWS, N>,

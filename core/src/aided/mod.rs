@@ -62,6 +62,8 @@
 //! requirements, applicable standards and licensed practice.
 
 pub mod align;
+#[cfg(feature = "alloc")]
+pub mod budget;
 pub mod filter;
 pub mod gate;
 pub mod interpolate;

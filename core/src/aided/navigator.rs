@@ -84,6 +84,8 @@ pub struct GainTrace<'a> {
     pub innovation: &'a Vector3<f64>,
     /// `K`, column-major `states × 3`.
     pub gain: &'a [f64],
+    /// The diagonal of `R`.
+    pub noise_variance: &'a Vector3<f64>,
 }
 
 impl<'a, const N: usize> From<&'a Gain<N>> for GainTrace<'a> {
@@ -94,6 +96,7 @@ impl<'a, const N: usize> From<&'a Gain<N>> for GainTrace<'a> {
             s_inverse: &g.s_inverse,
             innovation: &g.innovation,
             gain: g.gain.as_slice(),
+            noise_variance: &g.noise_variance,
         }
     }
 }

@@ -206,22 +206,40 @@ pub trait SmoothedSink {
 
 /// One propagation of the run: where it started and what drove it.
 #[derive(Debug, Clone, Copy)]
-struct Piece {
-    state: MechanizationState,
-    rate: Vector3<f64>,
-    force: Vector3<f64>,
-    interval: f64,
+pub(super) struct Piece {
+    pub(super) state: MechanizationState,
+    pub(super) rate: Vector3<f64>,
+    pub(super) force: Vector3<f64>,
+    pub(super) interval: f64,
 }
 
 /// One accepted update: its place (the number of propagations before it) and its algebra.
 #[derive(Debug, Clone, Copy)]
-struct UpdateRecord {
-    piece: usize,
-    rows: usize,
-    jacobian: [f64; MAX_ROWS * 21],
-    s_inverse: nalgebra::Matrix3<f64>,
-    innovation: Vector3<f64>,
-    gain: [f64; MAX_ROWS * 21],
+pub(super) struct UpdateRecord {
+    pub(super) piece: usize,
+    /// The measurement set it came from.
+    pub(super) set: usize,
+    pub(super) rows: usize,
+    pub(super) jacobian: [f64; MAX_ROWS * 21],
+    pub(super) s_inverse: nalgebra::Matrix3<f64>,
+    pub(super) innovation: Vector3<f64>,
+    pub(super) gain: [f64; MAX_ROWS * 21],
+    /// The diagonal of `R`.
+    pub(super) noise_variance: Vector3<f64>,
+}
+
+impl UpdateRecord {
+    /// The record as a [`Gain`].
+    pub(super) fn gain<const N: usize>(&self) -> Gain<N> {
+        Gain::<N> {
+            rows: self.rows,
+            jacobian: SMatrix::from_column_slice(&self.jacobian[..MAX_ROWS * N]),
+            s_inverse: self.s_inverse,
+            innovation: self.innovation,
+            gain: SMatrix::from_column_slice(&self.gain[..MAX_ROWS * N]),
+            noise_variance: self.noise_variance,
+        }
+    }
 }
 
 /// A run recorded for the backward pass; see the [module documentation](self).
@@ -256,15 +274,15 @@ struct UpdateRecord {
 /// ```
 #[derive(Debug, Clone)]
 pub struct SmootherLog {
-    states: usize,
-    config: StrapdownConfig,
-    model: ImuErrorModel,
-    pieces: Vec<Piece>,
-    updates: Vec<UpdateRecord>,
-    checkpoint_pieces: Vec<usize>,
-    checkpoint_values: Vec<f64>,
+    pub(super) states: usize,
+    pub(super) config: StrapdownConfig,
+    pub(super) model: ImuErrorModel,
+    pub(super) pieces: Vec<Piece>,
+    pub(super) updates: Vec<UpdateRecord>,
+    pub(super) checkpoint_pieces: Vec<usize>,
+    pub(super) checkpoint_values: Vec<f64>,
     /// Per output (IMU time): the number of propagations before it.
-    outputs: Vec<usize>,
+    pub(super) outputs: Vec<usize>,
     /// Per output: the filtered sensor errors in state order.
     sensor_errors: Vec<f64>,
     /// Per accepted epoch: the number of propagations before it.
@@ -381,7 +399,10 @@ impl SmootherLog {
     }
 
     /// The filter's `F` and `G` of propagation `index`.
-    fn model_of<const N: usize>(&self, index: usize) -> Result<(SMatrix<f64, N, N>, crate::linearise::inertial::NoiseInput<N>)> {
+    pub(super) fn model_of<const N: usize>(
+        &self,
+        index: usize,
+    ) -> Result<(SMatrix<f64, N, N>, crate::linearise::inertial::NoiseInput<N>)> {
         let piece = &self.pieces[index];
         let times = (&self.model.accelerometer.markov_time, &self.model.gyro.markov_time);
         error_model::<N>(&self.config, &piece.state, &piece.force, &piece.rate, times)
@@ -485,15 +506,7 @@ impl SmootherLog {
             }
             while update > 0 && self.updates[update - 1].piece == here {
                 update -= 1;
-                let record = &self.updates[update];
-                let gain = Gain::<N> {
-                    rows: record.rows,
-                    jacobian: SMatrix::from_column_slice(&record.jacobian[..MAX_ROWS * N]),
-                    s_inverse: record.s_inverse,
-                    innovation: record.innovation,
-                    gain: SMatrix::from_column_slice(&record.gain[..MAX_ROWS * N]),
-                };
-                adjoint.through_update(&gain);
+                adjoint.through_update(&self.updates[update].gain::<N>());
             }
             if here == 0 {
                 return Ok(());
@@ -535,11 +548,13 @@ impl RunSink for SmootherLog {
     fn updated(&mut self, gain: &GainTrace<'_>, covariance: &[f64]) {
         let mut record = UpdateRecord {
             piece: self.pieces.len(),
+            set: 0,
             rows: gain.rows,
             jacobian: [0.0; MAX_ROWS * 21],
             s_inverse: *gain.s_inverse,
             innovation: *gain.innovation,
             gain: [0.0; MAX_ROWS * 21],
+            noise_variance: *gain.noise_variance,
         };
         record.jacobian[..gain.jacobian.len()].copy_from_slice(gain.jacobian);
         record.gain[..gain.gain.len()].copy_from_slice(gain.gain);
@@ -555,6 +570,15 @@ impl RunSink for SmootherLog {
         // The navigator's own size: cannot fail.
         let _ = navigator.write_sensor_errors(&mut self.sensor_errors[start..]);
         self.last_state = navigator.strapdown().parts().1;
+    }
+
+    fn measurement(&mut self, set: usize, _index: usize, report: &super::UpdateReport) {
+        // `updated` came just before, for this measurement.
+        if report.accepted
+            && let Some(last) = self.updates.last_mut()
+        {
+            last.set = set;
+        }
     }
 
     fn epoch(&mut self, _time: f64, _navigator: &AidedNavigator, accepted: bool) {
