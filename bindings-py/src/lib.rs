@@ -75,6 +75,7 @@ fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_class::<aided::PyInnovationLog>()?;
     m.add_class::<aided::PyAidedResult>()?;
     m.add_class::<aided::PySolutionAt>()?;
+    m.add_class::<aided::PyErrorBudget>()?;
     m.add_class::<aided::PyAidedNavigator>()?;
     m.add_class::<aided::PyAlignment>()?;
     m.add_function(wrap_pyfunction!(aided::_measurement_set_from_parts, m)?)?;

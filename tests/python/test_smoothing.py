@@ -224,7 +224,8 @@ def test_at_on_a_result_that_does_not_hang_together_raises_a_named_error():
     broken = cls(*args[:1], args[1][:-1], *args[2:])
     with pytest.raises(rf.ShapeError, match="`lat`"):
         broken.at([1.0])
-    short_log = cls(*args[:-1], (args[-1][0], args[-1][1], dtheta[:-1], dv, args[-1][4]))
+    source, run = args[12], args[13]
+    short_log = cls(*args[:12], (source[0], source[1], dtheta[:-1], dv, source[4]), run)
     with pytest.raises(rf.ShapeError, match="`dtheta`"):
         short_log.at([1.0])
     bare = cls(*args[:11])

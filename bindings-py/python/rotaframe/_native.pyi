@@ -13,6 +13,7 @@ __all__ = [
     "AidedNavigator",
     "AidedResult",
     "Alignment",
+    "ErrorBudget",
     "SolutionAt",
     "HeadingFixes",
     "HeightFixes",
@@ -1043,6 +1044,7 @@ class AidedResult:
         innovations: Any,
         smoothed: Optional[AidedResult] = None,
         source: Any = None,
+        run: Any = None,
     ) -> AidedResult: ...
     @property
     def t(self) -> _Array: ...
@@ -1069,6 +1071,39 @@ class AidedResult:
     @property
     def smoothed(self) -> Optional[AidedResult]: ...
     def at(self, times: ArrayLike) -> SolutionAt: ...
+    def budget(self, states: Optional[Sequence[int]] = None) -> ErrorBudget: ...
+
+@final
+class ErrorBudget:
+    """The error budget of an aided run by source (`AidedResult.budget`): each requested state's
+    variance at every IMU time split into the initial uncertainty of each state group, each IMU
+    noise term and each measurement set, with the gains of the run."""
+
+    def __new__(
+        cls,
+        t: Any,
+        states: Any,
+        sources: Any,
+        filtered: Any,
+        filtered_total: Any,
+        smoothed: Any = None,
+        smoothed_total: Any = None,
+    ) -> ErrorBudget: ...
+    @property
+    def t(self) -> _Array: ...
+    @property
+    def states(self) -> tuple[int, ...]: ...
+    @property
+    def sources(self) -> tuple[str, ...]: ...
+    @property
+    def filtered(self) -> _Array: ...
+    @property
+    def filtered_total(self) -> _Array: ...
+    @property
+    def smoothed(self) -> Optional[_Array]: ...
+    @property
+    def smoothed_total(self) -> Optional[_Array]: ...
+    def __reduce__(self) -> tuple[Any, ...]: ...
 
 @final
 class SolutionAt:

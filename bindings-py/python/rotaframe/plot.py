@@ -14,6 +14,8 @@ returns the ``matplotlib.figure.Figure``; nothing is shown or saved unless you d
   gravity at the latitude given; 84.5 min at 45°, Titterton and Weston ch. 12).
 * :func:`aided_plot`: an aided run's horizontal and vertical position 1σ (m) against time,
   with the error against a reference trajectory when one is given and GNSS outages shaded.
+* :func:`error_budget_plot`: an ``AidedResult.budget``: the 1σ each source of error contributes
+  to a group of states against time, and each source's share of the variance, stacked.
 """
 
 from __future__ import annotations
@@ -24,7 +26,7 @@ import numpy as np
 
 from . import _native
 
-__all__ = ["TERM_NAMES", "aided_plot", "budget_plot", "drift_plot", "schuler_period"]
+__all__ = ["TERM_NAMES", "aided_plot", "budget_plot", "drift_plot", "error_budget_plot", "schuler_period"]
 
 #: The terms of :class:`rotaframe.ApparentAcceleration`, in the order they are stacked.
 TERM_NAMES = ("translational", "coriolis", "centrifugal", "euler")
@@ -215,4 +217,69 @@ def aided_plot(
     bottom.set_xlabel("time (s)")
     bottom.set_xlim(t[0], t[-1])
     top.set_title(title or "Aided navigation: error and 1σ" + (" (GNSS outages shaded)" if outages else ""))
+    return fig
+
+
+def error_budget_plot(
+    budget: Any,
+    *,
+    smoothed: Optional[bool] = None,
+    scale: Optional[Sequence[float]] = None,
+    unit: str = "state units",
+    outages: Sequence[tuple[float, float]] = (),
+    top: int = 6,
+    ax: Any = None,
+    title: Optional[str] = None,
+) -> Any:
+    """An error budget (``AidedResult.budget``) against time, for the sum of its states' variances:
+    the top axes show the total 1σ and the 1σ of the ``top`` sources that contribute most; the
+    bottom axes each source's share of the variance (%), stacked, the rest summed as "other".
+
+    ``smoothed`` picks the smoothed budget (default when the budget has one) or the filtered;
+    ``scale`` multiplies each state's σ (one factor per state of the budget, e.g. the meridian
+    and prime-vertical radii of curvature for latitude and longitude, to sum a horizontal
+    position in metres), ``unit`` names the unit of the result. ``outages`` are ``(start, end)``
+    times (s) shaded grey. A negative part (the initial coupling between state groups, when the
+    initial covariance has one) counts as zero in the shares. Time in seconds."""
+    t = _times(budget.t)
+    use_smoothed = budget.smoothed is not None if smoothed is None else smoothed
+    if use_smoothed and budget.smoothed is None:
+        raise _native.RotaframeError("this budget has no smoothed part: the run was not smoothed")
+    parts = np.asarray(budget.smoothed if use_smoothed else budget.filtered, dtype=float)
+    if parts.ndim != 3 or parts.shape[0] != t.size:
+        raise _native.ShapeError(f"the budget's parts must have shape (N, sources, states) with N = {t.size}, got {parts.shape}")
+    factors = np.ones(parts.shape[2]) if scale is None else np.asarray(scale, dtype=float)
+    if factors.shape != (parts.shape[2],):
+        raise _native.ShapeError(f"`scale` must hold one factor per state of the budget ({parts.shape[2]}), got shape {factors.shape}")
+    variances = np.einsum("tsj,j->ts", parts, factors * factors)
+    total = variances.sum(axis=1)
+    positive = np.clip(variances, 0.0, None)
+    share = positive / np.where(total > 0.0, positive.sum(axis=1), 1.0)[:, None]
+    order = np.argsort(-share.max(axis=0))
+    shown = [int(i) for i in order[: max(1, top)]]
+    names = list(budget.sources)
+    fig, (upper, lower) = _axes(ax, rows=2)
+    upper.plot(t, np.sqrt(np.clip(total, 0.0, None)), color="black", linewidth=1.4, label="total 1σ")
+    for i in shown:
+        upper.plot(t, np.sqrt(positive[:, i]), label=names[i])
+    stacked = [100.0 * share[:, i] for i in shown]
+    labels = [names[i] for i in shown]
+    rest = [i for i in range(len(names)) if i not in shown]
+    if rest:
+        stacked.append(100.0 * share[:, rest].sum(axis=1))
+        labels.append("other")
+    lower.stackplot(t, *stacked, labels=labels, alpha=0.85)
+    for start, end in outages:
+        for axis in (upper, lower):
+            axis.axvspan(start, end, color="grey", alpha=0.2, linewidth=0)
+    upper.set_ylabel(f"1σ ({unit})")
+    upper.set_ylim(bottom=0.0)
+    lower.set_ylabel("share of the variance (%)")
+    lower.set_ylim(0.0, 100.0)
+    lower.set_xlabel("time (s)")
+    lower.set_xlim(t[0], t[-1])
+    for axis in (upper, lower):
+        axis.legend(loc="upper left", fontsize="small")
+    kind = "smoothed" if use_smoothed else "filtered"
+    upper.set_title(title or f"Error budget by source ({kind})" + (" (GNSS outages shaded)" if outages else ""))
     return fig

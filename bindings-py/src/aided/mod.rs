@@ -2,6 +2,7 @@
 //! sets ([`sets`]) and the run's result ([`result`]). Conversion, validation, batching and error
 //! mapping only; the filter is the core's `aided`.
 
+pub mod budget;
 pub mod result;
 pub mod sets;
 
@@ -20,6 +21,7 @@ use crate::nav::strapdown::PyStrapdown;
 use crate::plumbing::broadcast::{matrix_arg, real_array, single};
 use crate::plumbing::errors::{ConcurrentUseError, ShapeError, to_py};
 use crate::plumbing::output::angle_scale;
+pub use budget::PyErrorBudget;
 use result::{Collector, Source};
 pub use result::{PyAidedResult, PyInnovationLog, PySolutionAt};
 pub use sets::{
@@ -61,6 +63,75 @@ impl PyAidedNavigator {
 
     fn current(&self) -> PyResult<AidedNavigator> {
         Ok(*self.lock()?)
+    }
+
+    /// A new navigator object holding `nav`, with this one's settings.
+    fn copy_of(&self, py: Python<'_>, nav: AidedNavigator) -> Self {
+        Self {
+            inner: std::sync::Mutex::new(nav),
+            degrees: self.degrees,
+            model: self.model.clone_ref(py),
+            imu: self.imu.clone_ref(py),
+        }
+    }
+}
+
+/// The arrays and measurement sets of a run, checked: `t` `(N + 1,)`, `dtheta` and `dv`
+/// `(N, 3)`, a list of measurement sets.
+pub(super) struct AidedInputs<'py> {
+    pub(super) times: Vec<f64>,
+    angles: Vec<f64>,
+    velocities: Vec<f64>,
+    pub(super) sets: Vec<Bound<'py, PyMeasurementSet>>,
+}
+
+impl<'py> AidedInputs<'py> {
+    /// The inputs of `AidedNavigator.run`, checked (shapes, the sets' type).
+    pub(super) fn parse(
+        t: &Bound<'py, PyAny>,
+        dtheta: &Bound<'py, PyAny>,
+        dv: &Bound<'py, PyAny>,
+        measurements: &Bound<'py, PyAny>,
+    ) -> PyResult<Self> {
+        let (count, times) = table(t, "t", 0)?;
+        let (n_theta, angles) = table(dtheta, "dtheta", 3)?;
+        let (n_v, velocities) = table(dv, "dv", 3)?;
+        for (name, n) in [("dtheta", n_theta), ("dv", n_v)] {
+            if n + 1 != count {
+                return Err(ShapeError::new_err(format!(
+                    "`{name}` has {n} rows; `t` has {count} times, so {} are needed",
+                    count.saturating_sub(1)
+                )));
+            }
+        }
+        let sets = measurements
+            .try_iter()?
+            .map(|item| {
+                item?.cast_into::<PyMeasurementSet>().map_err(|e| {
+                    pyo3::exceptions::PyTypeError::new_err(format!("`measurements` must hold measurement sets: {e}"))
+                })
+            })
+            .collect::<PyResult<_>>()?;
+        Ok(Self { times, angles, velocities, sets })
+    }
+
+    /// Runs `nav` over the inputs into `sink`, without the GIL (the core's
+    /// `AidedNavigator::run`).
+    pub(super) fn run(
+        &self,
+        py: Python<'_>,
+        nav: &mut AidedNavigator,
+        sink: &mut (impl aided::RunSink + Send),
+    ) -> Result<(), rotaframe::BatchError> {
+        let slices: Vec<MeasurementSlices<'_>> = self.sets.iter().map(|s| s.get().slices()).collect();
+        let (angle_rows, rest_a) = self.angles.as_chunks::<3>();
+        let (velocity_rows, rest_v) = self.velocities.as_chunks::<3>();
+        debug_assert!(rest_a.is_empty() && rest_v.is_empty());
+        let times = &self.times;
+        py.detach(|| {
+            let dyn_sets: Vec<&dyn MeasurementSet> = slices.iter().map(|s| s as &dyn MeasurementSet).collect();
+            nav.run(times, angle_rows, velocity_rows, &dyn_sets, sink)
+        })
     }
 }
 
@@ -112,38 +183,14 @@ impl PyAidedNavigator {
         smooth: bool,
         progress: Option<&Bound<'_, PyAny>>,
     ) -> PyResult<PyAidedResult> {
-        let (count, times) = table(t, "t", 0)?;
-        let (n_theta, angles) = table(dtheta, "dtheta", 3)?;
-        let (n_v, velocities) = table(dv, "dv", 3)?;
-        for (name, n) in [("dtheta", n_theta), ("dv", n_v)] {
-            if n + 1 != count {
-                return Err(ShapeError::new_err(format!(
-                    "`{name}` has {n} rows; `t` has {count} times, so {} are needed",
-                    count.saturating_sub(1)
-                )));
-            }
-        }
-        let sets: Vec<Bound<'_, PyMeasurementSet>> = measurements
-            .try_iter()?
-            .map(|item| {
-                item?.cast_into::<PyMeasurementSet>().map_err(|e| {
-                    pyo3::exceptions::PyTypeError::new_err(format!("`measurements` must hold measurement sets: {e}"))
-                })
-            })
-            .collect::<PyResult<_>>()?;
-        let slices: Vec<MeasurementSlices<'_>> = sets.iter().map(|s| s.get().slices()).collect();
+        let inputs = AidedInputs::parse(t, dtheta, dv, measurements)?;
         let mut nav = self.lock()?;
         let progress: Option<Py<PyAny>> = progress.filter(|p| !p.is_none()).map(|p| p.clone().unbind());
-        let mut collector = Collector::new(&nav, self.degrees, count, &sets, progress.as_ref(), smooth)?;
+        let mut collector = Collector::new(&nav, self.degrees, inputs.times.len(), &inputs.sets, progress.as_ref(), smooth)?;
         let start = Bound::new(py, PyStrapdown::new_object(*nav.strapdown(), self.degrees, self.model.clone_ref(py)))?;
-        let (angle_rows, rest_a) = angles.as_chunks::<3>();
-        let (velocity_rows, rest_v) = velocities.as_chunks::<3>();
-        debug_assert!(rest_a.is_empty() && rest_v.is_empty());
+        let snapshot = Py::new(py, self.copy_of(py, *nav))?;
         let mut trial = *nav;
-        let outcome = py.detach(|| {
-            let dyn_sets: Vec<&dyn MeasurementSet> = slices.iter().map(|s| s as &dyn MeasurementSet).collect();
-            trial.run(&times, angle_rows, velocity_rows, &dyn_sets, &mut collector)
-        });
+        let outcome = inputs.run(py, &mut trial, &mut collector);
         if let Some(e) = collector.failure.take() {
             return Err(e);
         }
@@ -158,8 +205,10 @@ impl PyAidedNavigator {
         })?;
         *nav = trial;
         drop(nav);
+        let sets = pyo3::types::PyList::new(py, &inputs.sets)?;
+        let redo = (snapshot, sets, t.clone()).into_pyobject(py)?.into_any().unbind();
         let source = Source { strapdown: start, imu: self.imu.clone_ref(py), dtheta: dtheta.clone(), dv: dv.clone() };
-        collector.into_result(py, times, &sets, source)
+        collector.into_result(py, inputs.times, &inputs.sets, source, redo)
     }
 
     /// The state: `(lat, lon, h, v_ned, attitude)` (angles as the strapdown's `degrees`).

@@ -119,12 +119,15 @@ pub struct PyAidedResult {
     /// What `at` steps with: `(strapdown, imu, dtheta, dv, epoch_rows)`, the last the filtered
     /// solution after the updates at each epoch (None in a smoothed result); or None.
     source: Py<PyAny>,
+    /// What `budget` redoes: `(navigator at the start, measurement sets, t)`; None in a
+    /// smoothed result or one made by hand.
+    run: Py<PyAny>,
 }
 
 #[pymethods]
 impl PyAidedResult {
     #[new]
-    #[pyo3(signature = (t, lat, lon, h, v_ned, attitude, sigma, imu_errors, epochs, covariance, innovations, smoothed=None, source=None))]
+    #[pyo3(signature = (t, lat, lon, h, v_ned, attitude, sigma, imu_errors, epochs, covariance, innovations, smoothed=None, source=None, run=None))]
     fn py_new(
         py: Python<'_>,
         t: Py<PyAny>,
@@ -140,10 +143,24 @@ impl PyAidedResult {
         innovations: Py<PyAny>,
         smoothed: Option<Py<PyAny>>,
         source: Option<Py<PyAny>>,
+        run: Option<Py<PyAny>>,
     ) -> Self {
         let smoothed = smoothed.unwrap_or_else(|| py.None());
         let source = source.unwrap_or_else(|| py.None());
-        Self { t, lat, lon, h, v_ned, attitude, sigma, imu_errors, epochs, covariance, innovations, smoothed, source }
+        let run = run.unwrap_or_else(|| py.None());
+        Self { t, lat, lon, h, v_ned, attitude, sigma, imu_errors, epochs, covariance, innovations, smoothed, source, run }
+    }
+
+    /// The error budget of the run by source (an `ErrorBudget`): the variance of each state in
+    /// `states` (indices in the error-state order; None for all) at every IMU time, filtered
+    /// and, for a smoothed run, smoothed, split into the initial uncertainty of each state
+    /// group, each IMU noise term and each measurement set, with the gains of the run (the
+    /// core's `aided::budget`). The run is redone from its start to record its gains (about
+    /// the time of the run, and memory `(N + 1) × sources × len(states)` numbers twice).
+    #[pyo3(signature = (states=None))]
+    fn budget(&self, py: Python<'_>, states: Option<&Bound<'_, PyAny>>) -> PyResult<super::budget::PyErrorBudget> {
+        let smoothed = !self.smoothed.is_none(py);
+        super::budget::split(py, self.run.bind(py), self.source.bind(py), self.sigma.bind(py), smoothed, states)
     }
 
     /// The smoothed, or else the filtered, solution at `times` (s, on the run's time scale,
@@ -183,6 +200,7 @@ impl PyAidedResult {
             &self.innovations,
             &self.smoothed,
             &self.source,
+            &self.run,
         ];
         Ok((cls, PyTuple::new(py, fields.iter().map(|f| f.clone_ref(py)))?))
     }
@@ -594,6 +612,9 @@ impl RunSink for Collector<'_> {
     }
 
     fn measurement(&mut self, set: usize, index: usize, report: &UpdateReport) {
+        if let Some(log) = &mut self.log {
+            log.measurement(set, index, report);
+        }
         let k = self.rows[set];
         let log = &mut self.logs[set];
         log.0[k * index..k * (index + 1)].copy_from_slice(&report.innovation.as_slice()[..k]);
@@ -653,6 +674,7 @@ impl Collector<'_> {
         times: Vec<f64>,
         sets: &[Bound<'_, PyMeasurementSet>],
         source: Source<'_>,
+        redo: Py<PyAny>,
     ) -> PyResult<PyAidedResult> {
         let n = self.states;
         let k = self.epochs.len();
@@ -692,7 +714,7 @@ impl Collector<'_> {
             let tuple = (strapdown.clone_ref(py), imu.clone_ref(py), dtheta.clone_ref(py), dv.clone_ref(py), epoch_rows);
             Ok(tuple.into_pyobject(py)?.into_any().unbind())
         };
-        let build = |b: Buffers, smoothed: Py<PyAny>, epoch_rows: Py<PyAny>| -> PyResult<PyAidedResult> {
+        let build = |b: Buffers, smoothed: Py<PyAny>, epoch_rows: Py<PyAny>, run: Py<PyAny>| -> PyResult<PyAidedResult> {
             let rows = b.sigma.len() / n;
             let column = |values: &[f64], i: usize| -> Vec<f64> { values.chunks_exact(3).map(|r| r[i]).collect() };
             Ok(PyAidedResult {
@@ -709,12 +731,13 @@ impl Collector<'_> {
                 innovations: innovations.clone_ref(py),
                 smoothed,
                 source: source_of(epoch_rows)?,
+                run,
             })
         };
         let smoothed = match smoothed_buffers {
             None => py.None(),
-            Some(b) => Py::new(py, build(b, py.None(), py.None())?)?.into_any(),
+            Some(b) => Py::new(py, build(b, py.None(), py.None(), py.None())?)?.into_any(),
         };
-        build(self.filtered, smoothed, epoch_rows)
+        build(self.filtered, smoothed, epoch_rows, redo)
     }
 }
