@@ -13,7 +13,8 @@ the first ``--reference-minutes`` (they take tens of microseconds a step); the r
 both on that same span, in the same process (goal: at least 30× with smoothing). The runs'
 peak memory (the growth of the peak resident set across the run, in a fresh child process, so
 that Rust's allocations count too) is compared with the bytes of the arrays they return
-(goals: at most 1.5× filtered, 2× filtered and smoothed).
+(goals: at most 1.5× filtered, 2× filtered and smoothed). The error budget of the smoothed hour
+(`AidedResult.budget`, latitude and longitude) is timed against the smoothed run.
 
 Usage: python benches/python/bench_aided.py [--reference-minutes 2] [--repeat 3]
 """
@@ -164,6 +165,10 @@ def main():
     print(f"same {args.reference_minutes:g} minutes: rotaframe {ours:.3f} s, numpy per step {theirs:.2f} s: {theirs / ours:.0f}x")
     both = best(lambda: rotaframe_run(t, dtheta, dv, fixes, smooth=True), args.repeat)
     print(f"rotaframe, the same hour filtered and smoothed: {both:.3f} s ({both / hour:.2f}x the filter alone)")
+    smoothed_hour = rotaframe_run(t, dtheta, dv, fixes, smooth=True)
+    budget = best(lambda: smoothed_hour.budget(states=[0, 1]), 1)
+    print(f"its error budget by source (latitude and longitude, filtered and smoothed): {budget:.2f} s "
+          f"({budget / both:.1f}x the filtered and smoothed run)")
     ours_smoothed = best(lambda: rotaframe_run(ts, dths, dvs, fx, smooth=True), args.repeat)
     start = time.perf_counter()
     _, numpy_sigma, _ = numpy_run(ts, dths, dvs, fx, smooth=True)

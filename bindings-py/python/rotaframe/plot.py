@@ -278,8 +278,8 @@ def error_budget_plot(
     lower.set_ylim(0.0, 100.0)
     lower.set_xlabel("time (s)")
     lower.set_xlim(t[0], t[-1])
-    for axis in (upper, lower):
-        axis.legend(loc="upper left", fontsize="small")
+    upper.legend(loc="upper left", fontsize="x-small")
+    lower.legend(loc="lower left", fontsize="x-small", framealpha=0.6)
     kind = "smoothed" if use_smoothed else "filtered"
     upper.set_title(title or f"Error budget by source ({kind})" + (" (GNSS outages shaded)" if outages else ""))
     return fig

@@ -10,6 +10,7 @@ use rotaframe::aided::budget::{BudgetSink, BudgetSource};
 use super::AidedInputs;
 use super::PyAidedNavigator;
 use crate::plumbing::errors::{ShapeError, to_py};
+use crate::plumbing::memory::try_vec;
 
 /// The error budget of an aided run by source (`AidedResult.budget`): for each requested
 /// state, its variance at every IMU time split into the contributions of the initial
@@ -102,9 +103,7 @@ impl BudgetSink for Arrays {
 
 /// A zeroed buffer of `len` numbers, or MemoryError.
 fn buffer(len: usize) -> PyResult<Vec<f64>> {
-    let mut v = Vec::new();
-    v.try_reserve_exact(len)
-        .map_err(|_| pyo3::exceptions::PyMemoryError::new_err("not enough memory for the error budget's arrays"))?;
+    let mut v = try_vec(len)?;
     v.resize(len, 0.0);
     Ok(v)
 }
