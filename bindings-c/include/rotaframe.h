@@ -137,6 +137,10 @@ enum rf_status
    * output, when given, names it).
    */
   RF_STATUS_DATA_GAP = 14,
+  /**
+   * Memory could not be had (a smoother's recording could not grow); nothing changed.
+   */
+  RF_STATUS_OUT_OF_MEMORY = 15,
 };
 #ifndef __cplusplus
 #if __STDC_VERSION__ >= 202311L
@@ -390,6 +394,12 @@ typedef enum rf_dominant_noise rf_dominant_noise;
 typedef uint32_t rf_dominant_noise;
 #endif // __STDC_VERSION__ >= 202311L
 #endif // __cplusplus
+
+/**
+ * A smoother (opaque; made by `rf_smoother_new`, released by `rf_smoother_free`): a navigator
+ * that records its calls and the recording.
+ */
+typedef struct rf_smoother rf_smoother;
 
 /**
  * The constants of a reference ellipsoid with its normal gravity field. Obtain one from
@@ -1313,7 +1323,8 @@ rf_status rf_aided_init(const struct rf_strapdown *strapdown, const struct rf_im
 
 /**
  * Advances `nav` by one IMU increment (compensated by the current sensor-error estimate).
- * On error `nav` is unchanged.
+ * On error `nav` is unchanged. A smoother's navigator (`rf_smoother_nav`) records the call;
+ * `RF_STATUS_OUT_OF_MEMORY` if its recording cannot grow.
  */
 rf_status rf_aided_predict(struct rf_aided_nav *nav, const struct rf_imu_increment *increment);
 
@@ -1393,6 +1404,50 @@ rf_status rf_aided_sensor_errors(const struct rf_aided_nav *nav, double *out_err
  * given.
  */
 rf_status rf_align_stationary(const struct rf_imu_increment *increments, size_t count, double latitude, double height, const struct rf_imu_error_model *errors, const double *heading, struct rf_quat *out_attitude, struct rf_vec3 *out_sigma);
+
+/**
+ * Makes a smoother in `*out_smoother` whose navigator (`rf_smoother_nav`) starts as a copy of
+ * `nav` (which is left as it is) and records every `rf_aided_predict` and `rf_aided_update_*`
+ * made on it: the first IMU time is `nav`'s present one, each predict closes a time, and the
+ * updates between two predicts belong to the time before them. Room is reserved for
+ * `increments` predicts and `measurements` updates (more grows the recording; a call that
+ * cannot grow it returns `RF_STATUS_OUT_OF_MEMORY` and changes nothing).
+ *
+ * The navigator must propagate its covariance at every increment (`propagate_every` 1:
+ * else `RF_STATUS_INVALID_ARGUMENT`). Memory: about 150 bytes per increment, the three
+ * matrices of each accepted update and a covariance every 256 increments and after each
+ * accepted update. Available in the build with the standard library (ground tools).
+ */
+rf_status rf_smoother_new(const struct rf_aided_nav *nav, size_t increments, size_t measurements, struct rf_smoother **out_smoother);
+
+/**
+ * Releases a smoother made by `rf_smoother_new` (NULL: nothing). Its navigator goes with it.
+ */
+void rf_smoother_free(struct rf_smoother *smoother);
+
+/**
+ * The smoother's navigator: drive it with `rf_aided_predict` and the `rf_aided_update_*`
+ * functions, and read it with the other `rf_aided_*` functions, as any navigator. Only this
+ * storage records: a copy of it (to another address) is an ordinary navigator, and a
+ * navigator copied over it stops the recording. NULL for a NULL smoother.
+ */
+struct rf_aided_nav *rf_smoother_nav(struct rf_smoother *smoother);
+
+/**
+ * The number of IMU times recorded (the present one included) into `out_count`.
+ */
+rf_status rf_smoother_len(const struct rf_smoother *smoother, size_t *out_count);
+
+/**
+ * The smoothed solution at every IMU time recorded, in order: `out_states` (`count` states),
+ * `out_sigma` (`count × states` 1σ of the error states, row by row) and `out_sensor_errors`
+ * (`count × (states − 9)`: accelerometer bias, gyro bias, and for 21 states the scale
+ * factors, in the `rf_aided_sensor_errors` convention). `count` must be `rf_smoother_len`'s
+ * (`RF_STATUS_INVALID_ARGUMENT` otherwise, as for a navigator changed by a copy written over
+ * it). The present IMU time is closed: a later predict goes on recording, a later update
+ * at this time is refused. On error nothing is written.
+ */
+rf_status rf_smoother_smooth(struct rf_smoother *smoother, size_t count, struct rf_nav_state *out_states, double *out_sigma, double *out_sensor_errors);
 
 /**
  * Calibrates an accelerometer triad from `count` static positions with known attitudes

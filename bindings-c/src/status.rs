@@ -39,6 +39,8 @@ pub enum rf_status {
     /// A log has a gap between two time tags longer than the allowed one (the call's gap
     /// output, when given, names it).
     RF_STATUS_DATA_GAP = 14,
+    /// Memory could not be had (a smoother's recording could not grow); nothing changed.
+    RF_STATUS_OUT_OF_MEMORY = 15,
 }
 
 pub use rf_status::*;
@@ -96,6 +98,7 @@ pub extern "C" fn rf_status_message(status: u32) -> *const core::ffi::c_char {
         12 => c"an output array overlaps an input array of the same call",
         13 => c"the data cannot determine the parameters asked of them (positions leave some unobservable)",
         14 => c"a log has a gap between two time tags longer than the allowed one",
+        15 => c"not enough memory (a recording could not grow)",
         _ => c"unknown rotaframe status",
     };
     message.as_ptr()

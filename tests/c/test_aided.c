@@ -11,37 +11,21 @@ static rf_vec3 v3(double x, double y, double z) {
 }
 
 int main(void) {
-    rf_earth_model wgs;
-    rf_strapdown_config config;
     rf_strapdown start;
     rf_nav_state initial;
     rf_aided_nav nav, before;
     rf_aided_report report;
     rf_imu_increment still;
-    rf_vec3 rate, gravity, sigma;
+    rf_vec3 sigma;
     rf_nav_state state;
     rf_geodetic jump;
     double p0[225], p[225], errors[6];
     int i, k;
     const double lat = 0.91, lon = 0.085, h = 15.0, dt = 0.01;
 
-    OK(rf_earth_model_wgs84(&wgs));
-    memset(&config, 0, sizeof config);
-    config.earth = wgs;
-    memset(&initial, 0, sizeof initial);
-    initial.position.latitude = lat, initial.position.longitude = lon, initial.position.height = h;
-    initial.attitude.w = 1.0;
-    OK(rf_strapdown_init(&config, &initial, &start));
-    memset(p0, 0, sizeof p0);
-    for (i = 0; i < 15; ++i) p0[i * 16] = i < 2 ? 1e-12 : (i < 9 ? 1e-4 : 1e-6);
+    CHECK(check_level_van(lat, lon, h, dt, &start, p0, &still), "the van at rest");
     OK(rf_aided_init(&start, NULL, p0, 15, 0.999, 1, &nav));
-
-    /* Ideal increments of a level body at rest. */
-    OK(rf_earth_rate_ned(&wgs, lat, &rate));
-    OK(rf_gravity_ned(&wgs, lat, h, &gravity));
-    still.delta_angle = v3(rate.x * dt, rate.y * dt, rate.z * dt);
-    still.delta_velocity = v3(-gravity.x * dt, -gravity.y * dt, -gravity.z * dt);
-    still.interval = dt;
+    OK(rf_aided_state(&nav, &initial));
     sigma = v3(0.01, 0.01, 0.01);
     for (k = 0; k < 1000; ++k) {
         OK(rf_aided_predict(&nav, &still));

@@ -282,3 +282,74 @@ fn smoothing_is_refused_when_the_covariance_is_not_propagated_every_increment() 
     let error = SmootherLog::new(&nav).unwrap_err();
     assert_eq!(error.quantity(), "smooth");
 }
+
+/// Smoothed σ of every state at every IMU time.
+struct Sigmas(Vec<Vec<f64>>);
+
+impl rotaframe::aided::SmoothedSink for Sigmas {
+    fn point(&mut self, index: usize, point: &rotaframe::aided::SmoothedPoint<'_>) {
+        let mut row = point.sigma.to_vec();
+        row.extend_from_slice(point.correction);
+        self.0[index] = row;
+    }
+}
+
+#[test]
+fn recording_call_by_call_smooths_exactly_as_the_batch_run() {
+    use rotaframe::aided::{Measurement, MeasurementSet, MeasurementSlices, SmootherRecorder};
+    use rotaframe::earth::{Geodetic, WGS84, earth_rate_ned, gravity_ned};
+    use rotaframe::nav::ImuIncrement;
+    // A stationary IMU with the tactical model's fixed terms, zero-velocity updates every
+    // second and a heading fix at 3 s: the batch run and the call-by-call recorder see the same
+    // calls, so their logs, and the smoothed solutions, are the same to the bit.
+    let here = Geodetic::from_degrees(45.0, 7.0, 200.0);
+    let ins = Strapdown::new(StrapdownConfig::default(), &NavState::new(here, Vector3::zeros(), Default::default())).unwrap();
+    let imu = tactical_imu();
+    let mut p0 = [0.0; 225];
+    for i in 0..15 {
+        p0[i * 16] = if i < 2 { 1e-12 } else { 1e-4 };
+    }
+    let nav = AidedNavigator::new(ins, &imu, &p0, 15, FilterSettings::default()).unwrap();
+    let (dt, steps) = (0.01, 500);
+    let w = earth_rate_ned(&WGS84, here.latitude).unwrap() * dt + Vector3::new(1e-6, -2e-6, 3e-6);
+    let f = -gravity_ned(&WGS84, here.latitude, here.height).unwrap() * dt + Vector3::new(2e-4, 1e-4, -1e-4);
+    let times: Vec<f64> = (0..=steps).map(|k| k as f64 * dt).collect();
+    let (dtheta, dv) = (vec![[w.x, w.y, w.z]; steps], vec![[f.x, f.y, f.z]; steps]);
+    let zupt = Measurement::ZeroVelocity { sigma_ned: Vector3::repeat(0.01) };
+    let heading = Measurement::Heading { heading: 0.001, sigma: 0.01 };
+    let (zupt_times, zupts) = (vec![1.0, 2.0, 3.0, 4.0, 5.0], vec![zupt; 5]);
+    let (heading_times, headings) = (vec![3.0], vec![heading]);
+    let sets = [
+        MeasurementSlices { times: &zupt_times, measurements: &zupts },
+        MeasurementSlices { times: &heading_times, measurements: &headings },
+    ];
+    let dyn_sets: Vec<&dyn MeasurementSet> = sets.iter().map(|s| s as &dyn MeasurementSet).collect();
+    let mut batch_nav = nav;
+    let mut batch = SmootherLog::new(&batch_nav).unwrap();
+    batch_nav.run(&times, &dtheta, &dv, &dyn_sets, &mut batch).unwrap();
+    let mut by_hand = nav;
+    let mut recorder = SmootherRecorder::new(&by_hand).unwrap();
+    for k in 0..steps {
+        // The run's interval is the difference of its times, as here.
+        recorder.predict(&mut by_hand, &ImuIncrement::new(w, f, times[k + 1] - times[k])).unwrap();
+        let t = times[k + 1];
+        if (t - t.round()).abs() < 1e-9 {
+            recorder.update(&mut by_hand, &zupt, 0).unwrap();
+            if (t - 3.0).abs() < 1e-9 {
+                recorder.update(&mut by_hand, &heading, 1).unwrap();
+            }
+        }
+    }
+    assert_eq!(recorder.len(), steps + 1);
+    let (mut a, mut b) = (Sigmas(vec![Vec::new(); steps + 1]), Sigmas(vec![Vec::new(); steps + 1]));
+    batch.smooth(&mut a).unwrap();
+    recorder.log(&by_hand).unwrap().smooth(&mut b).unwrap();
+    if let Some(k) = (0..=steps).find(|&k| a.0[k] != b.0[k]) {
+        panic!("first difference at IMU time {k}: {:?} vs {:?}", &a.0[k][..6], &b.0[k][..6]);
+    }
+    // A navigator changed behind the recorder's back is refused by name.
+    let mut other = by_hand;
+    other.predict(&ImuIncrement::new(w, f, dt)).unwrap();
+    let refused = recorder.predict(&mut other, &ImuIncrement::new(w, f, dt)).unwrap_err();
+    assert_eq!(refused.quantity(), "nav");
+}

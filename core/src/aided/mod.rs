@@ -82,4 +82,4 @@ pub use navigator::{
     check_measurement_times,
 };
 #[cfg(feature = "alloc")]
-pub use smoother::{Adjoint, CHECKPOINT_EVERY, SmoothedPoint, SmoothedSink, SmootherLog};
+pub use smoother::{Adjoint, CHECKPOINT_EVERY, SmoothedPoint, SmoothedSink, SmootherLog, SmootherRecorder};

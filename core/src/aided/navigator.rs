@@ -293,6 +293,35 @@ impl AidedNavigator {
         }
     }
 
+    /// [`update`](Self::update) with a measurement of set `set` (its `index`-th), telling the
+    /// sink: [`RunSink::updated`] for an accepted update when the sink traces, then
+    /// [`RunSink::measurement`]. On error the sink is told nothing.
+    ///
+    /// # Errors
+    /// As [`update`](Self::update).
+    #[inline]
+    pub fn update_traced<S: RunSink>(
+        &mut self,
+        measurement: &Measurement,
+        set: usize,
+        index: usize,
+        sink: &mut S,
+    ) -> Result<UpdateReport> {
+        let report = if S::TRACES {
+            each!(&mut self.filter, f => {
+                let (report, gain) = f.update_with_gain(measurement)?;
+                if let Some(g) = &gain {
+                    sink.updated(&GainTrace::from(g), f.covariance().as_slice());
+                }
+                report
+            })
+        } else {
+            self.update(measurement)?
+        };
+        sink.measurement(set, index, &report);
+        Ok(report)
+    }
+
     /// See [`AidedFilter::update`].
     ///
     /// # Errors
@@ -472,19 +501,7 @@ impl AidedNavigator {
         let (mut any, mut accepted) = (false, false);
         for (s, set) in sets.iter().enumerate() {
             while cursors[s] < set.len() && set.time(cursors[s]) <= now + TIME_SNAP {
-                let measurement = set.measurement(cursors[s]);
-                let report = if S::TRACES {
-                    each!(&mut self.filter, f => {
-                        let (report, gain) = f.update_with_gain(&measurement)?;
-                        if let Some(g) = &gain {
-                            sink.updated(&GainTrace::from(g), f.covariance().as_slice());
-                        }
-                        report
-                    })
-                } else {
-                    self.update(&measurement)?
-                };
-                sink.measurement(s, cursors[s], &report);
+                let report = self.update_traced(&set.measurement(cursors[s]), s, cursors[s], sink)?;
                 accepted |= report.accepted;
                 any = true;
                 cursors[s] += 1;

@@ -53,9 +53,10 @@ use nalgebra::{SMatrix, SVector, Vector3};
 use super::filter::Gain;
 use super::gate::MAX_ROWS;
 use super::navigator::{AidedNavigator, GainTrace, RunSink};
+use super::{Measurement, UpdateReport};
 use crate::error::{Error, Result};
 use crate::linearise::inertial::{NOISE_INPUTS, error_model, noise_psd, propagate_covariance_second_order_in_place};
-use crate::nav::{ImuErrorModel, MechanizationState, NavState, StepMemory, Strapdown, StrapdownConfig};
+use crate::nav::{ImuErrorModel, ImuIncrement, MechanizationState, NavState, StepMemory, Strapdown, StrapdownConfig};
 
 /// Propagations between two stored covariances (besides those after every accepted update):
 /// the longest segment the backward pass rebuilds.
@@ -518,6 +519,190 @@ impl SmootherLog {
             here -= 1;
             adjoint.through_second_order_step(&current.models[here - current.start], self.pieces[here].interval)?;
         }
+    }
+}
+
+/// A run recorded call by call, for a filter driven one increment and one measurement at a
+/// time (the C interface): the records [`AidedNavigator::run`] would hand a [`SmootherLog`]
+/// over the same calls. An IMU time is closed (its solution recorded) by the next
+/// [`predict`](Self::predict) or by [`log`](Self::log); the updates between two predicts are
+/// those of one time.
+///
+/// ```
+/// use nalgebra::Vector3;
+/// use rotaframe::aided::{AidedNavigator, FilterSettings, Measurement};
+/// use rotaframe::aided::smoother::{SmoothedPoint, SmoothedSink, SmootherRecorder};
+/// use rotaframe::earth::{earth_rate_ned, gravity_ned, Geodetic, WGS84};
+/// use rotaframe::nav::{ImuErrorModel, ImuIncrement, NavState, Strapdown, StrapdownConfig};
+/// let here = Geodetic::from_degrees(45.0, 7.0, 200.0);
+/// let ins = Strapdown::new(StrapdownConfig::default(), &NavState::new(here, Vector3::zeros(), Default::default())).unwrap();
+/// let mut p0 = [0.0; 225];
+/// for i in 0..15 { p0[i * 16] = if i < 2 { 1e-12 } else { 1e-4 }; }
+/// let mut nav = AidedNavigator::new(ins, &ImuErrorModel::default(), &p0, 15, FilterSettings::default()).unwrap();
+/// let mut recorder = SmootherRecorder::new(&nav).unwrap();
+/// let still = ImuIncrement::new(
+///     earth_rate_ned(&WGS84, here.latitude).unwrap() * 0.01,
+///     -gravity_ned(&WGS84, here.latitude, here.height).unwrap() * 0.01,
+///     0.01,
+/// );
+/// for k in 1..=200 {
+///     recorder.predict(&mut nav, &still).unwrap();
+///     if k % 100 == 0 {
+///         recorder.update(&mut nav, &Measurement::ZeroVelocity { sigma_ned: Vector3::repeat(0.01) }, 0).unwrap();
+///     }
+/// }
+/// struct Sigma(Vec<f64>);
+/// impl SmoothedSink for Sigma {
+///     fn point(&mut self, index: usize, point: &SmoothedPoint<'_>) { self.0[index] = point.sigma[3]; }
+/// }
+/// let mut sigma = Sigma(vec![0.0; 201]);
+/// recorder.log(&nav).unwrap().smooth(&mut sigma).unwrap();
+/// assert!(sigma.0[50] < 1e-2); // the filter's is still about 1e-2 there
+/// ```
+#[derive(Debug, Clone)]
+pub struct SmootherRecorder {
+    log: SmootherLog,
+    /// The IMU times recorded.
+    recorded: usize,
+    /// Whether the present IMU time is recorded.
+    closed: bool,
+    /// Whether a measurement was processed at the present time, and whether one was accepted.
+    processed: bool,
+    accepted: bool,
+    /// Measurements recorded per set.
+    counts: [usize; super::MAX_MEASUREMENT_SETS],
+    /// The navigator's state after the last recorded call.
+    last: MechanizationState,
+}
+
+impl SmootherRecorder {
+    /// A recorder of `navigator`'s calls from its present state (the first IMU time).
+    ///
+    /// # Errors
+    /// As [`SmootherLog::new`].
+    pub fn new(navigator: &AidedNavigator) -> Result<Self> {
+        Ok(Self {
+            log: SmootherLog::new(navigator)?,
+            recorded: 0,
+            closed: false,
+            processed: false,
+            accepted: false,
+            counts: [0; super::MAX_MEASUREMENT_SETS],
+            last: navigator.strapdown().parts().1,
+        })
+    }
+
+    /// Room for `increments` more predictions and `measurements` more updates (as
+    /// [`SmootherLog::try_reserve`]), so that recording them allocates nothing.
+    ///
+    /// # Errors
+    /// The allocator's.
+    pub fn try_reserve(
+        &mut self,
+        increments: usize,
+        measurements: usize,
+    ) -> core::result::Result<(), alloc::collections::TryReserveError> {
+        self.log.try_reserve(increments, measurements)
+    }
+
+    /// The number of IMU times (the present one included).
+    #[must_use]
+    pub fn len(&self) -> usize {
+        self.recorded + usize::from(!self.closed)
+    }
+
+    /// Never empty: the start is an IMU time.
+    #[must_use]
+    pub fn is_empty(&self) -> bool {
+        false
+    }
+
+    /// The number of states.
+    #[must_use]
+    pub fn states(&self) -> usize {
+        self.log.states
+    }
+
+    /// Refuses a navigator that is not the one recorded (changed by calls the recorder did not
+    /// see).
+    fn check(&self, navigator: &AidedNavigator) -> Result<()> {
+        if navigator.states() != self.log.states || navigator.strapdown().parts().1 != self.last {
+            return Err(Error::Invalid {
+                quantity: "nav",
+                reason: "the navigator changed outside the recorder (every call must go through it)",
+            });
+        }
+        Ok(())
+    }
+
+    /// Records the present IMU time's solution (once).
+    fn close(&mut self, navigator: &AidedNavigator) {
+        if !self.closed {
+            if self.processed {
+                self.log.epoch(navigator.time().unwrap_or(0.0), navigator, self.accepted);
+            }
+            self.log.step(self.recorded, navigator);
+            self.recorded += 1;
+            self.closed = true;
+        }
+    }
+
+    /// Closes the present IMU time and advances `navigator` by `increment`, recording the
+    /// propagation. On error nothing is recorded and the navigator is unchanged.
+    ///
+    /// # Errors
+    /// [`Error::Invalid`] naming `nav` for a navigator changed outside the recorder; as
+    /// [`AidedNavigator::predict`].
+    pub fn predict(&mut self, navigator: &mut AidedNavigator, increment: &ImuIncrement) -> Result<()> {
+        self.check(navigator)?;
+        let start = navigator.strapdown().parts().1;
+        let mut next = *navigator;
+        next.predict(increment)?;
+        self.close(navigator);
+        self.log.propagated(&start, increment.interval, &next);
+        *navigator = next;
+        self.last = navigator.strapdown().parts().1;
+        (self.closed, self.processed, self.accepted) = (false, false, false);
+        Ok(())
+    }
+
+    /// Applies a measurement of set `set` at the present IMU time, recording its gain if it is
+    /// accepted. On error nothing is recorded and the navigator is unchanged.
+    ///
+    /// # Errors
+    /// [`Error::Invalid`] naming `nav` for a navigator changed outside the recorder or a time
+    /// already closed by [`log`](Self::log); [`Error::OutOfRange`] naming `set` (below
+    /// [`MAX_MEASUREMENT_SETS`](super::MAX_MEASUREMENT_SETS)); as [`AidedNavigator::update`].
+    pub fn update(&mut self, navigator: &mut AidedNavigator, measurement: &Measurement, set: usize) -> Result<UpdateReport> {
+        self.check(navigator)?;
+        if self.closed {
+            return Err(Error::Invalid { quantity: "nav", reason: "this time was closed by `log`: predict before updating" });
+        }
+        let count = *self.counts.get(set).ok_or(Error::OutOfRange {
+            quantity: "set",
+            value: set as f64,
+            min: 0.0,
+            max: (super::MAX_MEASUREMENT_SETS - 1) as f64,
+        })?;
+        let mut next = *navigator;
+        let report = next.update_traced(measurement, set, count, &mut self.log)?;
+        *navigator = next;
+        self.last = navigator.strapdown().parts().1;
+        self.counts[set] += 1;
+        self.processed = true;
+        self.accepted |= report.accepted;
+        Ok(report)
+    }
+
+    /// The log, with the present IMU time closed: ready for [`SmootherLog::smooth`] and
+    /// [`SmootherLog::budget`]. A later [`predict`](Self::predict) goes on recording.
+    ///
+    /// # Errors
+    /// [`Error::Invalid`] naming `nav` for a navigator changed outside the recorder.
+    pub fn log(&mut self, navigator: &AidedNavigator) -> Result<&SmootherLog> {
+        self.check(navigator)?;
+        self.close(navigator);
+        Ok(&self.log)
     }
 }
 

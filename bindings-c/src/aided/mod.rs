@@ -6,7 +6,30 @@
 //! core's navigator of either size (15 or 21 states) held in place, behind a tag that
 //! `rf_aided_init` writes. Every call checks the tag (`RF_STATUS_INVALID_ARGUMENT` for storage
 //! that `rf_aided_init` did not fill) and works on a copy, so that on error the storage is
-//! unchanged. Nothing is allocated.
+//! unchanged. Nothing is allocated, except by the smoother of ground tools ([`smoother`]), whose
+//! navigator records its calls.
+
+#[cfg(feature = "std")]
+pub mod smoother;
+
+#[cfg(feature = "std")]
+use smoother::Recorder;
+
+/// Without the standard library nothing records (no heap): a recorder cannot exist.
+#[cfg(not(feature = "std"))]
+#[derive(Debug)]
+enum Recorder {}
+
+#[cfg(not(feature = "std"))]
+impl Recorder {
+    fn predict(&mut self, _: &mut AidedNavigator, _: &ImuIncrement) -> Fallible<()> {
+        match *self {}
+    }
+
+    fn update(&mut self, _: &mut AidedNavigator, _: &Measurement) -> Fallible<UpdateReport> {
+        match *self {}
+    }
+}
 
 use rotaframe::aided::{self, AidedNavigator, FilterSettings, Measurement, StationaryRecord, UpdateReport};
 use rotaframe::nalgebra::Vector3;
@@ -53,6 +76,10 @@ const TAG: u64 = 0x7266_6169_6465_6431;
 struct Stored {
     tag: u64,
     navigator: AidedNavigator,
+    /// The recorder of a smoother's navigator (null otherwise), valid while `home` is this
+    /// storage's own address (a copy elsewhere records nothing).
+    recorder: *mut Recorder,
+    home: usize,
 }
 
 const _: () = {
@@ -72,10 +99,45 @@ fn load(storage: &rf_aided_nav) -> Fallible<AidedNavigator> {
     Ok(stored.navigator)
 }
 
-/// Writes a navigator and the tag into the storage.
-fn save(storage: &mut rf_aided_nav, navigator: AidedNavigator) {
+/// Writes a navigator and the tag into the storage, not recording.
+fn fill(storage: &mut rf_aided_nav, navigator: AidedNavigator) {
+    let stored = Stored { tag: TAG, navigator, recorder: core::ptr::null_mut(), home: 0 };
     // SAFETY: as in `load`: the storage holds at least a `Stored`, aligned to 8.
-    unsafe { storage.storage.as_mut_ptr().cast::<Stored>().write(Stored { tag: TAG, navigator }) };
+    unsafe { storage.storage.as_mut_ptr().cast::<Stored>().write(stored) };
+}
+
+/// Writes a navigator into filled storage, leaving its recording as it is.
+fn save(storage: &mut rf_aided_nav, navigator: AidedNavigator) {
+    // SAFETY: as in `load`; the storage was filled (its tag checked by the `load` before), so
+    // writing the one field keeps the rest.
+    unsafe { (*storage.storage.as_mut_ptr().cast::<Stored>()).navigator = navigator };
+}
+
+/// The recorder of a smoother's navigator, if `storage` is one (at its own address).
+fn recorder_of(storage: &mut rf_aided_nav) -> Option<&mut Recorder> {
+    let home = core::ptr::from_mut(storage) as usize;
+    // SAFETY: as in `load` (the callers loaded the storage first, so it is filled).
+    let stored = unsafe { &*(storage.storage.as_ptr().cast::<Stored>()) };
+    if stored.recorder.is_null() || stored.home != home {
+        return None;
+    }
+    // SAFETY: `recorder` and `home` are set together only by `rf_smoother_new`, for the
+    // navigator inside the smoother's allocation, whose recorder it points to; that navigator
+    // is at `home`, so this storage is it, and the recorder lives as long as it does (both are
+    // freed together by `rf_smoother_free`). Copies elsewhere have another address.
+    Some(unsafe { &mut *stored.recorder })
+}
+
+/// Marks the storage (filled, at its final address) as recording into `recorder`.
+#[cfg(feature = "std")]
+fn attach(storage: &mut rf_aided_nav, recorder: *mut Recorder) {
+    let home = core::ptr::from_mut(storage) as usize;
+    // SAFETY: as in `save`.
+    unsafe {
+        let stored = storage.storage.as_mut_ptr().cast::<Stored>();
+        (*stored).recorder = recorder;
+        (*stored).home = home;
+    }
 }
 
 /// Creates an aided navigator in `out_nav` starting from `strapdown`'s state: `errors`
@@ -110,31 +172,39 @@ pub unsafe extern "C" fn rf_aided_init(
         let p0 = unsafe { slice(p0, states * states) }?;
         let gate = if gate == 0.0 { None } else { Some(gate) };
         let navigator = AidedNavigator::new(stepper, &model, p0, states, FilterSettings { gate, propagate_every })?;
-        save(unsafe { out(out_nav) }?, navigator);
+        fill(unsafe { out(out_nav) }?, navigator);
         Ok(())
     })
 }
 
 /// Advances `nav` by one IMU increment (compensated by the current sensor-error estimate).
-/// On error `nav` is unchanged.
+/// On error `nav` is unchanged. A smoother's navigator (`rf_smoother_nav`) records the call;
+/// `RF_STATUS_OUT_OF_MEMORY` if its recording cannot grow.
 #[unsafe(no_mangle)]
 pub unsafe extern "C" fn rf_aided_predict(nav: *mut rf_aided_nav, increment: *const rf_imu_increment) -> rf_status {
     boundary(|| {
         let increment: ImuIncrement = unsafe { read(increment) }?.into();
         let storage = unsafe { out(nav) }?;
         let mut navigator = load(storage)?;
-        navigator.predict(&increment)?;
+        match recorder_of(storage) {
+            Some(recorder) => recorder.predict(&mut navigator, &increment)?,
+            None => navigator.predict(&increment)?,
+        }
         save(storage, navigator);
         Ok(())
     })
 }
 
-/// Applies one measurement; writes its report to `out_report` (NULL allowed).
+/// Applies one measurement (recorded by a smoother's navigator); writes its report to
+/// `out_report` (NULL allowed).
 unsafe fn update(nav: *mut rf_aided_nav, measurement: Measurement, out_report: *mut rf_aided_report) -> rf_status {
     boundary(|| {
         let storage = unsafe { out(nav) }?;
         let mut navigator = load(storage)?;
-        let report: UpdateReport = navigator.update(&measurement)?;
+        let report: UpdateReport = match recorder_of(storage) {
+            Some(recorder) => recorder.update(&mut navigator, &measurement)?,
+            None => navigator.update(&measurement)?,
+        };
         save(storage, navigator);
         if let Some(o) = unsafe { out_report.as_mut() } {
             *o = rf_aided_report {
