@@ -270,46 +270,53 @@ pub fn increments_from_rates<'py>(
     specific_force: &Bound<'py, PyAny>,
     max_gap: Option<f64>,
 ) -> PyResult<Bound<'py, PyTuple>> {
-    let tags = sample_times(t, "t", 2)?;
-    let n = tags.len();
-    let rows = |obj: &Bound<'py, PyAny>, name: &'static str| -> PyResult<numpy::PyReadonlyArrayDyn<'py, f64>> {
+    // C-contiguous views of the caller's arrays when they are such (no copy), else copies.
+    let view = |obj: &Bound<'py, PyAny>, name: &'static str| -> PyResult<numpy::PyReadonlyArrayDyn<'py, f64>> {
         let array = crate::plumbing::broadcast::real_array(obj, name)?;
-        let shape = numpy::PyUntypedArrayMethods::shape(&array).to_vec();
-        if shape != [n, 3] {
-            return Err(ShapeError::new_err(format!("`{name}` must have shape ({n}, 3), one row per tag in `t`, got {shape:?}")));
-        }
-        // A C-contiguous view when the caller's array is one (no copy), else a copy.
         let contiguous = numpy::PyUntypedArrayMethods::is_c_contiguous(&array);
         let array = if contiguous { array } else { array.call_method0("copy")?.cast_into()? };
         Ok(numpy::PyArrayMethods::readonly(&array))
     };
+    let tags = view(t, "t")?;
+    let n = match numpy::PyUntypedArrayMethods::shape(&*tags) {
+        &[n] if n >= 2 => n,
+        shape => {
+            return Err(ShapeError::new_err(format!("`t` must be a 1-D array of at least 2 times, got shape {shape:?}")));
+        }
+    };
+    let rows = |obj: &Bound<'py, PyAny>, name: &'static str| -> PyResult<numpy::PyReadonlyArrayDyn<'py, f64>> {
+        let array = view(obj, name)?;
+        let shape = numpy::PyUntypedArrayMethods::shape(&*array).to_vec();
+        if shape != [n, 3] {
+            return Err(ShapeError::new_err(format!("`{name}` must have shape ({n}, 3), one row per tag in `t`, got {shape:?}")));
+        }
+        Ok(array)
+    };
     let (w, a) = (rows(angular_rate, "angular_rate")?, rows(specific_force, "specific_force")?);
     let (w_rows, _) = w.as_slice()?.as_chunks::<3>();
     let (a_rows, _) = a.as_slice()?.as_chunks::<3>();
+    let tags = tags.as_slice()?;
     let dtheta = numpy::PyArray2::<f64>::zeros(py, [n - 1, 3], false);
     let dv = numpy::PyArray2::<f64>::zeros(py, [n - 1, 3], false);
     {
         let (mut out_angle, mut out_velocity) =
             (numpy::PyArrayMethods::readwrite(&dtheta), numpy::PyArrayMethods::readwrite(&dv));
         let (angles, velocities) = (out_angle.as_slice_mut()?, out_velocity.as_slice_mut()?);
-        py.detach(|| -> Result<(), nav::RateLogError> {
-            nav::check_rate_log(&tags, w_rows, a_rows, max_gap)?;
-            // In blocks through a small buffer, written straight into the two arrays.
-            let mut block = [ImuIncrement::default(); 256];
-            for (b, (angle, velocity)) in angles.chunks_mut(3 * 256).zip(velocities.chunks_mut(3 * 256)).enumerate() {
-                let part = &mut block[..angle.len() / 3];
-                nav::write_increments(&tags, w_rows, a_rows, 256 * b, part)
-                    .map_err(|error| nav::RateLogError::Input { index: 256 * b, error })?;
-                for ((i, x), y) in part.iter().zip(angle.chunks_exact_mut(3)).zip(velocity.chunks_exact_mut(3)) {
+        // One pass, block by block, straight into the two fresh arrays (dropped on error).
+        py.detach(|| {
+            nav::increments_in_blocks(tags, w_rows, a_rows, max_gap, |first, block| {
+                let (angle, velocity) = (&mut angles[3 * first..], &mut velocities[3 * first..]);
+                for ((i, x), y) in block.iter().zip(angle.chunks_exact_mut(3)).zip(velocity.chunks_exact_mut(3)) {
                     x.copy_from_slice(i.delta_angle.as_slice());
                     y.copy_from_slice(i.delta_velocity.as_slice());
                 }
-            }
-            Ok(())
+            })
         })
         .map_err(|e| match e {
             nav::RateLogError::Input { index, error } => {
-                let named = if error.quantity() == "interval" { error.with_quantity("t") } else { error };
+                // The tags' checks name the interval's ends; the user's argument is `t`.
+                let named =
+                    if matches!(error.quantity(), "interval" | "start" | "end") { error.with_quantity("t") } else { error };
                 to_py(&named, &format!("(sample {index})"))
             }
             gap @ nav::RateLogError::Gap(_) => crate::plumbing::errors::RotaframeError::new_err(gap.to_string()),

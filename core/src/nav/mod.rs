@@ -43,7 +43,9 @@ pub use imu::{
     increment_from_node_samples, quadrature_times,
 };
 pub use lever::{lever_arm_kinematics, lever_arm_state, sensor_mount};
-pub use rates::{DataGap, RateLogError, check_rate_log, increments_from_rates, write_increments};
+pub use rates::{
+    DataGap, RATE_LOG_BLOCK, RateLogError, check_rate_log, increments_from_rates, increments_in_blocks, write_increments,
+};
 pub use recorded::{
     CartesianSamples, GeodeticPoses, PoseSource, RecordedSample, RecordedSlices, RecordedTrajectory, SampleSource, SampledMotion,
     SegmentCache,
