@@ -321,3 +321,27 @@ pub(crate) fn ensure_finite3(v: &nalgebra::Vector3<f64>, quantity: &'static str)
 pub(crate) fn ensure_finite1(v: f64, quantity: &'static str) -> Result<()> {
     if v.is_finite() { Ok(()) } else { Err(Error::NonFinite { quantity }) }
 }
+
+/// A data file (an IERS table) that could not be read: the line (1-based; 0 for the file as
+/// a whole) and why.
+///
+/// ```
+/// use rotaframe::error::ParseError;
+/// let e = ParseError { line: 3, reason: "MJDs must increase" };
+/// assert_eq!(e.to_string(), "line 3: MJDs must increase");
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct ParseError {
+    /// The line (1-based; 0 for the file as a whole).
+    pub line: usize,
+    /// Why it could not be read.
+    pub reason: &'static str,
+}
+
+impl fmt::Display for ParseError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        if self.line == 0 { write!(f, "{}", self.reason) } else { write!(f, "line {}: {}", self.line, self.reason) }
+    }
+}
+
+impl core::error::Error for ParseError {}

@@ -86,6 +86,7 @@ pub mod motion;
 pub mod nav;
 pub mod propagate;
 pub mod rotation;
+pub mod time;
 
 pub use error::{BatchError, Error, Result};
 

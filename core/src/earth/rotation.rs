@@ -65,7 +65,7 @@ pub const J2000_JULIAN_DATE: f64 = 2_451_545.0;
 
 /// Largest magnitude of either part of a Julian date (days): about 2.7 million years either
 /// side of the epoch of Julian dates, far beyond the validity of the rotation model.
-pub const MAX_JULIAN_DATE: f64 = 1.0e9;
+pub const MAX_JULIAN_DATE: f64 = crate::time::MAX_JULIAN_DAY;
 
 /// The Earth Rotation Angle (rad, in [0, 2π)) at the UT1 Julian date `jd_ut1 + jd_ut1_fraction`.
 ///
