@@ -32,6 +32,7 @@ FLOORS = {
     "bindings-py/src": {
         "plumbing": 0,
         "rotation": 1,
+        "time": 1,
         "earth": 2,
         "motion": 3,
         "apparent": 4,
@@ -50,6 +51,7 @@ FLOORS = {
         "rotation": 2,
         "motion": 2,
         "earth": 2,
+        "time": 2,
         "nav": 3,
         "graph": 4,
         "linearise": 4,

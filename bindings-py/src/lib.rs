@@ -9,7 +9,7 @@
 // takes them as Rust arguments: the argument count mirrors the Python signature.
 #![allow(clippy::too_many_arguments)]
 
-// Floors (scripts/check_layers.py holds them): plumbing; rotation; earth; motion; apparent;
+// Floors (scripts/check_layers.py holds them): plumbing; rotation, time; earth; motion; apparent;
 // nav; graph, linearise, calibrate, aided; propagate. A file imports only from floors below its own
 // (or from files of its own folder, without circles).
 mod plumbing;
@@ -24,6 +24,7 @@ mod motion;
 mod nav;
 mod propagate;
 mod rotation;
+mod time;
 
 use pyo3::prelude::*;
 
@@ -39,6 +40,14 @@ fn fast_kernels_active() -> bool {
 fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     plumbing::errors::register(m)?;
     m.add_function(wrap_pyfunction!(fast_kernels_active, m)?)?;
+    m.add_class::<time::leap_seconds::PyLeapSeconds>()?;
+    m.add_class::<time::orientation::PyEarthOrientation>()?;
+    m.add_class::<time::orientation::PyEarthOrientationAt>()?;
+    m.add_function(wrap_pyfunction!(time::julian_date, m)?)?;
+    m.add_function(wrap_pyfunction!(time::calendar_date, m)?)?;
+    m.add_function(wrap_pyfunction!(time::convert_time, m)?)?;
+    m.add_function(wrap_pyfunction!(time::gps_week_seconds, m)?)?;
+    m.add_function(wrap_pyfunction!(time::from_gps_week_seconds, m)?)?;
     m.add_class::<earth::model::PyEarthModel>()?;
     m.add("WGS84", earth::model::PyEarthModel::preset(rotaframe::earth::WGS84, "WGS84"))?;
     m.add("GRS80", earth::model::PyEarthModel::preset(rotaframe::earth::GRS80, "GRS80"))?;

@@ -8,7 +8,8 @@ in NED and ECEF form, IMU error simulation and lever arms; free-body trajectorie
 frames with the deflection budget of each apparent term; Jacobians of the transforms
 (``jacobian=True``) and the inertial error-state model with covariance prediction; IMU
 calibration from multi-position and rate-table tests, and Allan deviation with the noise
-terms read from it. The math is rotaframe's Rust core; this package converts, validates and
+terms read from it; time scales (UTC, TAI, TT, GPS, UT1), GPS weeks, leap seconds and IERS
+Earth orientation tables. The math is rotaframe's Rust core; this package converts, validates and
 batches.
 
 Conventions (the same in Rust, C and Python):
@@ -28,6 +29,14 @@ that apply to you and licensed engineering practice.
 
 from ._native import (
     AidedNavigator,
+    EarthOrientation,
+    EarthOrientationAt,
+    LeapSeconds,
+    calendar_date,
+    convert_time,
+    from_gps_week_seconds,
+    gps_week_seconds,
+    julian_date,
     AidedResult,
     SolutionAt,
     Alignment,
@@ -123,6 +132,14 @@ from ._native import (
 __version__ = "0.1.0"
 
 __all__ = [
+    "EarthOrientation",
+    "EarthOrientationAt",
+    "LeapSeconds",
+    "calendar_date",
+    "convert_time",
+    "from_gps_week_seconds",
+    "gps_week_seconds",
+    "julian_date",
     "AidedNavigator",
     "AidedResult",
     "SolutionAt",

@@ -1,5 +1,6 @@
 """Type stubs for rotaframe's native module (checked with mypy and mypy.stubtest)."""
 
+import os
 from typing import Any, Callable, Literal, Optional, Sequence, Union, final, overload
 
 import numpy as np
@@ -10,6 +11,14 @@ _Array = NDArray[np.float64]
 _FloatOrArray = Union[float, _Array]
 
 __all__ = [
+    "EarthOrientation",
+    "EarthOrientationAt",
+    "LeapSeconds",
+    "calendar_date",
+    "convert_time",
+    "from_gps_week_seconds",
+    "gps_week_seconds",
+    "julian_date",
     "AidedNavigator",
     "AidedResult",
     "Alignment",
@@ -131,6 +140,111 @@ class ConcurrentUseError(RotaframeError): ...
 class FrameGraphError(RotaframeError): ...
 class InputTypeError(RotaframeError, TypeError): ...
 class UnobservableError(RotaframeError): ...
+
+_TimeScale = Literal["utc", "tai", "tt", "gps", "ut1"]
+
+@final
+class LeapSeconds:
+    """A leap-second table: the MJDs at which TAI − UTC (s) takes each value, from 1972 on."""
+
+    def __new__(cls, mjd: Sequence[int], tai_minus_utc: Sequence[float], expires: Optional[int] = None) -> LeapSeconds: ...
+    @staticmethod
+    def built_in() -> LeapSeconds: ...
+    @staticmethod
+    def from_iers(path: Union[str, os.PathLike[str]]) -> LeapSeconds: ...
+    @property
+    def steps(self) -> tuple[_Array, _Array]: ...
+    @property
+    def expires(self) -> Optional[int]: ...
+    def tai_minus_utc(self, mjd: int) -> float: ...
+
+@final
+class EarthOrientationAt:
+    """The Earth orientation at dates: UT1 − UTC (s), xp, yp, dX, dY (rad)."""
+
+    @property
+    def ut1_minus_utc(self) -> _FloatOrArray: ...
+    @property
+    def xp(self) -> _FloatOrArray: ...
+    @property
+    def yp(self) -> _FloatOrArray: ...
+    @property
+    def dx(self) -> _FloatOrArray: ...
+    @property
+    def dy(self) -> _FloatOrArray: ...
+    @property
+    def offsets_given(self) -> Union[bool, _Array]: ...
+
+@final
+class EarthOrientation:
+    """IERS Earth orientation parameters tabulated at UTC dates, interpolated by 4-point Lagrange."""
+
+    def __new__(
+        cls,
+        mjd_utc: ArrayLike,
+        ut1_minus_utc: ArrayLike,
+        xp: ArrayLike,
+        yp: ArrayLike,
+        dx: Optional[ArrayLike] = None,
+        dy: Optional[ArrayLike] = None,
+        leap_seconds: Optional[LeapSeconds] = None,
+    ) -> EarthOrientation: ...
+    @staticmethod
+    def from_iers(path: Union[str, os.PathLike[str]], *, leap_seconds: Optional[LeapSeconds] = None) -> EarthOrientation: ...
+    @property
+    def mjd_span(self) -> tuple[float, float]: ...
+    @property
+    def offsets_until(self) -> Optional[float]: ...
+    @property
+    def rows(self) -> tuple[_Array, _Array, _Array, _Array, _Array, _Array]: ...
+    def at(self, jd_utc: ArrayLike, jd_utc_fraction: Optional[ArrayLike] = None, *, threads: int = 1) -> EarthOrientationAt: ...
+
+def julian_date(
+    year: ArrayLike,
+    month: ArrayLike,
+    day: ArrayLike,
+    hour: Optional[ArrayLike] = None,
+    minute: Optional[ArrayLike] = None,
+    second: Optional[ArrayLike] = None,
+    *,
+    scale: Optional[_TimeScale] = None,
+    leap_seconds: Optional[LeapSeconds] = None,
+    threads: int = 1,
+) -> tuple[_FloatOrArray, _FloatOrArray]: ...
+def calendar_date(
+    jd: ArrayLike,
+    jd_fraction: Optional[ArrayLike] = None,
+    *,
+    scale: Optional[_TimeScale] = None,
+    leap_seconds: Optional[LeapSeconds] = None,
+    threads: int = 1,
+) -> tuple[Union[int, _Array], Union[int, _Array], Union[int, _Array], Union[int, _Array], Union[int, _Array], _FloatOrArray]: ...
+def convert_time(
+    jd: ArrayLike,
+    jd_fraction: Optional[ArrayLike],
+    from_scale: _TimeScale,
+    to_scale: _TimeScale,
+    *,
+    eop: Optional[EarthOrientation] = None,
+    leap_seconds: Optional[LeapSeconds] = None,
+    threads: int = 1,
+) -> tuple[_FloatOrArray, _FloatOrArray]: ...
+def gps_week_seconds(
+    jd: ArrayLike,
+    jd_fraction: Optional[ArrayLike] = None,
+    *,
+    scale: Optional[_TimeScale] = None,
+    leap_seconds: Optional[LeapSeconds] = None,
+    threads: int = 1,
+) -> tuple[Union[int, _Array], _FloatOrArray]: ...
+def from_gps_week_seconds(
+    week: ArrayLike,
+    seconds: ArrayLike,
+    *,
+    scale: Optional[_TimeScale] = None,
+    leap_seconds: Optional[LeapSeconds] = None,
+    threads: int = 1,
+) -> tuple[_FloatOrArray, _FloatOrArray]: ...
 
 @final
 class EarthModel:
