@@ -67,6 +67,11 @@
 #define RF_OMIT_EULER 8
 
 /**
+ * Steps an `rf_leap_seconds` holds.
+ */
+#define RF_MAX_LEAP_SECOND_STEPS 128
+
+/**
  * The result of every rotaframe C function. Values are fixed and never reused.
  */
 enum rf_status
@@ -392,6 +397,43 @@ enum rf_dominant_noise
 typedef enum rf_dominant_noise rf_dominant_noise;
 #else
 typedef uint32_t rf_dominant_noise;
+#endif // __STDC_VERSION__ >= 202311L
+#endif // __cplusplus
+
+/**
+ * Time scales.
+ */
+enum rf_time_scale
+#if defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+  : uint32_t
+#endif // defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+ {
+  /**
+   * Coordinated Universal Time (quasi Julian dates across leap seconds).
+   */
+  RF_TIME_UTC = 0,
+  /**
+   * International Atomic Time.
+   */
+  RF_TIME_TAI = 1,
+  /**
+   * Terrestrial Time (TAI + 32.184 s).
+   */
+  RF_TIME_TT = 2,
+  /**
+   * GPS time (TAI − 19 s).
+   */
+  RF_TIME_GPS = 3,
+  /**
+   * Universal Time UT1 (needs Earth orientation data).
+   */
+  RF_TIME_UT1 = 4,
+};
+#ifndef __cplusplus
+#if __STDC_VERSION__ >= 202311L
+typedef enum rf_time_scale rf_time_scale;
+#else
+typedef uint32_t rf_time_scale;
 #endif // __STDC_VERSION__ >= 202311L
 #endif // __cplusplus
 
@@ -1272,6 +1314,149 @@ typedef struct rf_propagation_result {
 } rf_propagation_result;
 
 /**
+ * A leap-second table: `count` steps, the MJD at which TAI − UTC takes each value and the
+ * value (s), and the MJD until which it is valid (0 if not known).
+ */
+typedef struct rf_leap_seconds {
+  /**
+   * MJD at which each value starts.
+   */
+  int64_t mjd[RF_MAX_LEAP_SECOND_STEPS];
+  /**
+   * TAI − UTC from then (s).
+   */
+  double tai_minus_utc[RF_MAX_LEAP_SECOND_STEPS];
+  /**
+   * Steps used.
+   */
+  size_t count;
+  /**
+   * MJD until which the table is valid; 0 if not known.
+   */
+  int64_t expires;
+} rf_leap_seconds;
+
+/**
+ * A calendar date and time of day (`second` up to 61 in the last minute of a UTC day that ends
+ * in a leap second).
+ */
+typedef struct rf_calendar_time {
+  /**
+   * Year (astronomical numbering).
+   */
+  int32_t year;
+  /**
+   * Month, 1 to 12.
+   */
+  int32_t month;
+  /**
+   * Day of the month.
+   */
+  int32_t day;
+  /**
+   * Hour, 0 to 23.
+   */
+  int32_t hour;
+  /**
+   * Minute, 0 to 59.
+   */
+  int32_t minute;
+  /**
+   * Second with its fraction.
+   */
+  double second;
+} rf_calendar_time;
+
+/**
+ * A Julian date in two parts, `jd + fraction` (days).
+ */
+typedef struct rf_julian_date {
+  /**
+   * One part, usually the JD of the day's 0h.
+   */
+  double jd;
+  /**
+   * The other part, usually the fraction of the day.
+   */
+  double fraction;
+} rf_julian_date;
+
+/**
+ * An Earth orientation table over caller arrays of `rows` rows: MJD (UTC, increasing, from
+ * 1972), UT1 − UTC (s), xp, yp (rad), and dX, dY (rad) for the first `offset_rows` rows (0
+ * to `rows`; `dx`, `dy` may be NULL when it is 0). `leap_seconds` NULL means the built-in
+ * table.
+ */
+typedef struct rf_earth_orientation {
+  /**
+   * MJD (UTC) of each row.
+   */
+  const double *mjd;
+  /**
+   * UT1 − UTC (s).
+   */
+  const double *ut1_minus_utc;
+  /**
+   * Pole coordinate x (rad).
+   */
+  const double *xp;
+  /**
+   * Pole coordinate y (rad).
+   */
+  const double *yp;
+  /**
+   * Celestial pole offset dX (rad).
+   */
+  const double *dx;
+  /**
+   * Celestial pole offset dY (rad).
+   */
+  const double *dy;
+  /**
+   * Rows.
+   */
+  size_t rows;
+  /**
+   * Rows (from the first) that give dX, dY.
+   */
+  size_t offset_rows;
+  /**
+   * The leap seconds for the steps of UT1 − UTC (NULL: built in).
+   */
+  const struct rf_leap_seconds *leap_seconds;
+} rf_earth_orientation;
+
+/**
+ * The Earth orientation at a date.
+ */
+typedef struct rf_earth_orientation_sample {
+  /**
+   * UT1 − UTC (s).
+   */
+  double ut1_minus_utc;
+  /**
+   * Pole coordinate x (rad).
+   */
+  double xp;
+  /**
+   * Pole coordinate y (rad).
+   */
+  double yp;
+  /**
+   * Celestial pole offset dX (rad); 0 where the table does not give it.
+   */
+  double dx;
+  /**
+   * Celestial pole offset dY (rad); 0 where the table does not give it.
+   */
+  double dy;
+  /**
+   * 1 where the table gives dX, dY at the date, 0 where it does not.
+   */
+  int32_t offsets_given;
+} rf_earth_orientation_sample;
+
+/**
  * Quadratic aerodynamic drag for `rf_drag_force`: ballistic coefficient `m / (C_D A)`
  * (kg/m²), air `density` (kg/m³; at the frame's origin when `scale_height` > 0, for the
  * exponential atmosphere `density · exp(−(up · r) / scale_height)`, `up` the upward
@@ -2115,6 +2300,67 @@ uint32_t rf_fast_kernels_active(void);
  * a message saying so). The string lives for the whole program.
  */
 const char *rf_status_message(uint32_t status);
+
+/**
+ * The table built into rotaframe (every step up to 2017-01-01, TAI − UTC = 37 s).
+ */
+rf_status rf_leap_seconds_built_in(struct rf_leap_seconds *out_table);
+
+/**
+ * Reads the IERS `Leap_Second.dat` file's text (`length` bytes, UTF-8). On a malformed file
+ * returns `RF_STATUS_INVALID_ARGUMENT` and, given `out_error_line`, the 1-based line (0 for
+ * the file as a whole); `out_table` is then untouched.
+ */
+rf_status rf_leap_seconds_read_iers(const uint8_t *text, size_t length, struct rf_leap_seconds *out_table, size_t *out_error_line);
+
+/**
+ * The two-part Julian date (the JD of the day's 0h and the fraction) of a calendar date and
+ * time in `scale`; `leap_seconds` NULL means the built-in table. Impossible dates and times,
+ * and UTC before 1972, return `RF_STATUS_OUT_OF_RANGE`.
+ */
+rf_status rf_julian_date_from_calendar(const struct rf_calendar_time *calendar, uint32_t scale, const struct rf_leap_seconds *leap_seconds, struct rf_julian_date *out_date);
+
+/**
+ * The calendar date and time of a two-part Julian date in `scale`.
+ */
+rf_status rf_calendar_date(const struct rf_julian_date *date, uint32_t scale, const struct rf_leap_seconds *leap_seconds, struct rf_calendar_time *out_calendar);
+
+/**
+ * The Earth orientation at the UTC date `utc`, interpolated by 4-point Lagrange (IERS
+ * Conventions 2010 §5.5). A date outside the table returns `RF_STATUS_OUT_OF_RANGE`. The
+ * table is checked at every call (O(rows)); a loop over many dates may check it once with a
+ * first call and keep it unchanged.
+ */
+rf_status rf_earth_orientation_at(const struct rf_earth_orientation *table, const struct rf_julian_date *utc, struct rf_earth_orientation_sample *out_sample);
+
+/**
+ * Reads an IERS file's text (`finals2000A` or EOP C04, `length` bytes) into caller arrays of
+ * `capacity` rows each: MJD (UTC), UT1 − UTC (s), xp, yp, dX, dY (rad); writes the rows read
+ * to `out_rows` and the rows that give dX, dY to `out_offset_rows`. Rows before 1972 and the
+ * blank rows at the end are left out. On a malformed file returns
+ * `RF_STATUS_INVALID_ARGUMENT` and, given `out_error_line`, the line; with too small a
+ * capacity, `RF_STATUS_OUT_OF_MEMORY` and the rows needed in `out_rows`. Nothing else is
+ * written on error (the text is read twice: checked, then copied).
+ */
+rf_status rf_earth_orientation_read_iers(const uint8_t *text, size_t length, size_t capacity, double *mjd, double *ut1_minus_utc, double *xp, double *yp, double *dx, double *dy, size_t *out_rows, size_t *out_offset_rows, size_t *out_error_line);
+
+/**
+ * Converts a two-part Julian date from scale `from` to scale `to` (`rf_time_scale` values).
+ * `leap_seconds` NULL means the built-in table; `eop` is needed (non-NULL) only when one of
+ * the scales is UT1, else ignored. UTC before 1972 returns `RF_STATUS_OUT_OF_RANGE`.
+ */
+rf_status rf_convert_time(const struct rf_julian_date *date, uint32_t from, uint32_t to, const struct rf_leap_seconds *leap_seconds, const struct rf_earth_orientation *eop, struct rf_julian_date *out_date);
+
+/**
+ * The GPS week (full count since 1980-01-06) and second of the week of a date on the GPS time
+ * scale.
+ */
+rf_status rf_gps_week_seconds(const struct rf_julian_date *gps, int64_t *out_week, double *out_seconds);
+
+/**
+ * The date on the GPS time scale of a GPS week and second (`seconds` in [0, 604800)).
+ */
+rf_status rf_from_gps_week_seconds(int64_t week, double seconds, struct rf_julian_date *out_date);
 
 #ifdef __cplusplus
 }  // extern "C"

@@ -25,6 +25,7 @@ pub mod nav;
 pub mod propagate;
 pub mod rotation;
 pub mod status;
+pub mod time;
 pub mod types;
 
 #[cfg(all(not(feature = "std"), not(test)))]
