@@ -227,9 +227,9 @@ impl PyFrameGraph {
     }
 
     /// Adds the Earth-fixed frame `name` (ECEF) turning relative to `parent` (an inertial
-    /// frame): t = 0 at rotation angle `angle_at_epoch` (rad), or at the UT1 Julian date
-    /// `epoch_jd_ut1` (a number or a pair (day, fraction), whose Earth Rotation Angle is then
-    /// the angle).
+    /// frame): t = 0 at rotation angle `angle_at_epoch` (rad), turning at the model's rate, or
+    /// at the UT1 Julian date `epoch_jd_ut1` (a number or a pair (day, fraction), whose Earth
+    /// Rotation Angle is then the angle), turning at the ERA's rate (t in UT1 seconds).
     #[pyo3(signature = (name, parent, *, angle_at_epoch=0.0, model=None, epoch_jd_ut1=None))]
     fn add_earth(
         &self,

@@ -234,8 +234,11 @@ fn earth_motion_spins_about_the_pole_at_the_model_rate() {
     let expected: f64 = 0.5 + 7.292115e-5 * 43200.0;
     let x_axis: Vector3<f64> = m.rotation() * Vector3::x();
     assert_abs_diff_eq!(x_axis, Vector3::new(expected.cos(), expected.sin(), 0.0), epsilon = 1e-14);
-    // At a UT1 date the angle is the Earth Rotation Angle.
-    let at_j2000: rotaframe::motion::FrameMotion<Eci, Ecef> = earth_motion_at_ut1(&WGS84, 2451545.0, 0.0).unwrap();
+    // At a UT1 date the angle is the Earth Rotation Angle, and the rate its rate, 2π ×
+    // 1.00273781191135448 per UT1 day (IERS Conventions 2010, eq. 5.15).
+    let at_j2000: rotaframe::motion::FrameMotion<Eci, Ecef> = earth_motion_at_ut1(2451545.0, 0.0).unwrap();
+    let era_rate = 2.0 * std::f64::consts::PI * 1.002_737_811_911_354_5 / 86_400.0;
+    assert!((at_j2000.angular_velocity().z - era_rate).abs() < 1e-20);
     let x_axis: Vector3<f64> = at_j2000.rotation() * Vector3::x();
     let theta = earth_rotation_angle(2451545.0, 0.0).unwrap();
     assert_abs_diff_eq!(x_axis, Vector3::new(theta.cos(), theta.sin(), 0.0), epsilon = 1e-14);

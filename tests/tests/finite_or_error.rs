@@ -186,7 +186,19 @@ proptest! {
         let m = model(c);
         check(earth::earth_motion(&m, t, angle), motion_numbers, "earth_motion");
         check(earth::earth_rotation_angle(jd, frac), |x| vec![*x], "earth_rotation_angle");
-        check(earth::earth_motion_at_ut1(&m, jd, frac), motion_numbers, "earth_motion_at_ut1");
+        check(earth::earth_motion_at_ut1(jd, frac), motion_numbers, "earth_motion_at_ut1");
+    }
+
+    #[test]
+    fn time_scale_conversions_are_finite_or_refused(jd in finite(), frac in finite(), week in any::<i64>(), seconds in finite(), from in 0usize..4, to in 0usize..4) {
+        use rotaframe::time::{self, JulianDate, LeapSeconds, TimeScale};
+        let scales = [TimeScale::Utc, TimeScale::Tai, TimeScale::Tt, TimeScale::Gps];
+        let date = JulianDate { jd, fraction: frac };
+        let parts = |d: &JulianDate| vec![d.jd, d.fraction];
+        check(time::convert_time(date, scales[from], scales[to], &LeapSeconds::BUILT_IN, None), parts, "convert_time");
+        check(time::calendar_date(date, scales[from], &LeapSeconds::BUILT_IN), |c| vec![c.second], "calendar_date");
+        check(time::gps_week_seconds(date), |t| vec![t.seconds], "gps_week_seconds");
+        check(time::from_gps_week_seconds(week, seconds), parts, "from_gps_week_seconds");
     }
 
     #[test]

@@ -45,4 +45,4 @@ pub use local::{
     enu_in_ned, local_level_motion, ned_from_ecef, radii_of_curvature, transport_rate_ned,
 };
 pub use model::{EarthModel, EarthModelConstants, GRS80, MAX_FLATTENING, WGS84};
-pub use rotation::{earth_motion, earth_motion_at_ut1, earth_rotation_angle};
+pub use rotation::{ERA_RATE, earth_motion, earth_motion_at_rate, earth_motion_at_ut1, earth_rotation_angle};

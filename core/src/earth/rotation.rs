@@ -38,8 +38,15 @@
 //! anything that must agree with the stars to better than a microradian need the full IERS
 //! transformation, which rotaframe does not provide.
 //!
-//! Note that the Earth-rotation-angle rate (7.292115146706979e-5 rad/s) and the WGS 84 `Ω`
-//! (7.292115e-5 rad/s) differ by 2 parts in 10⁸.
+//! # Which rate
+//!
+//! The Earth-rotation-angle rate [`ERA_RATE`] (2π × 1.00273781191135448 per UT1 day,
+//! 7.292115146706979e-5 rad/s) and the WGS 84 `Ω` (7.292115e-5 rad/s) differ by 2 parts in
+//! 10⁸ (about 0.03″ a day). Wherever a UT1 date is given, the angle and the rate are the ERA's:
+//! [`earth_motion_at_ut1`] and the frame graph's Earth edge with a UT1 epoch
+//! ([`EarthRotation::at_ut1_epoch`](crate::graph::EarthRotation::at_ut1_epoch), whose time is
+//! UT1 seconds after the epoch). [`earth_motion`], given an angle and no date, turns at the
+//! model's `Ω` (the rate inertial navigation mechanizes with).
 
 use nalgebra::Vector3;
 
@@ -60,6 +67,10 @@ pub const ERA_TURNS_PER_UT1_DAY: f64 = 1.002_737_811_911_354_48;
 /// it to rounding).
 #[allow(clippy::excessive_precision)]
 const ERA_EXCESS_TURNS_PER_UT1_DAY: f64 = 0.002_737_811_911_354_48;
+/// The Earth Rotation Angle's rate (rad per second of UT1): 2π × [`ERA_TURNS_PER_UT1_DAY`] /
+/// 86400 = 7.292115146706979e-5 (IERS Conventions 2010, eq. 5.15).
+pub const ERA_RATE: f64 = core::f64::consts::TAU * ERA_TURNS_PER_UT1_DAY / 86_400.0;
+
 /// Julian date of the J2000.0 epoch (2000 January 1, 12h).
 pub const J2000_JULIAN_DATE: f64 = 2_451_545.0;
 
@@ -109,17 +120,32 @@ pub fn earth_rotation_angle(jd_ut1: f64, jd_ut1_fraction: f64) -> Result<f64> {
 /// ```
 #[inline(always)]
 pub fn earth_motion(model: &EarthModel, time: f64, angle_at_epoch: f64) -> Result<FrameMotion<Eci, Ecef>> {
-    ensure_finite1(time, "time")?;
-    ensure_finite1(angle_at_epoch, "angle_at_epoch")?;
-    let rate = model.rotation_rate();
-    FrameMotion::about_axis(Vector3::z(), angle_at_epoch + rate * time, rate, 0.0)
+    earth_motion_at_rate(model.rotation_rate(), time, angle_at_epoch)
 }
 
 /// The motion of ECEF relative to [`Eci`] at a UT1 Julian date: the rotation angle is the
-/// Earth Rotation Angle ([`earth_rotation_angle`]) and the rate the model's `Ω`.
+/// Earth Rotation Angle ([`earth_rotation_angle`]) and the rate [`ERA_RATE`].
 ///
 /// # Errors
 /// As [`earth_rotation_angle`].
-pub fn earth_motion_at_ut1(model: &EarthModel, jd_ut1: f64, jd_ut1_fraction: f64) -> Result<FrameMotion<Eci, Ecef>> {
-    earth_motion(model, 0.0, earth_rotation_angle(jd_ut1, jd_ut1_fraction)?)
+///
+/// ```
+/// use rotaframe::earth::{earth_motion_at_ut1, ERA_RATE};
+/// let m = earth_motion_at_ut1(2_460_000.5, 0.25).unwrap();
+/// assert_eq!(m.angular_velocity().z, ERA_RATE);
+/// ```
+pub fn earth_motion_at_ut1(jd_ut1: f64, jd_ut1_fraction: f64) -> Result<FrameMotion<Eci, Ecef>> {
+    earth_motion_at_rate(ERA_RATE, 0.0, earth_rotation_angle(jd_ut1, jd_ut1_fraction)?)
+}
+
+/// ECEF relative to [`Eci`] `time` seconds after an epoch at angle `angle_at_epoch`, turning at
+/// `rate` (rad/s) about the common z axis.
+///
+/// # Errors
+/// [`Error::NonFinite`](crate::Error::NonFinite) naming `time` or `angle_at_epoch`.
+#[inline(always)]
+pub fn earth_motion_at_rate(rate: f64, time: f64, angle_at_epoch: f64) -> Result<FrameMotion<Eci, Ecef>> {
+    ensure_finite1(time, "time")?;
+    ensure_finite1(angle_at_epoch, "angle_at_epoch")?;
+    FrameMotion::about_axis(Vector3::z(), angle_at_epoch + rate * time, rate, 0.0)
 }

@@ -203,10 +203,11 @@ impl Spin {
 }
 
 /// The Earth-fixed frame (ECEF) relative to the inertial frame, `t` seconds after an epoch:
-/// the rotation angle at the epoch is given directly, or as the Earth Rotation Angle of a
-/// two-part UT1 Julian date (IERS Conventions 2010, eq. 5.15; see
-/// [`earth_rotation_angle`](crate::earth::earth_rotation_angle)), so that `t` stays small and
-/// precise whatever the date.
+/// the rotation angle at the epoch is given directly (and the frame turns at the model's `Ω`),
+/// or as the Earth Rotation Angle of a two-part UT1 Julian date (IERS Conventions 2010, eq.
+/// 5.15; see [`earth_rotation_angle`](crate::earth::earth_rotation_angle)), and the frame then
+/// turns at the ERA's rate [`ERA_RATE`](crate::earth::ERA_RATE), `t` being UT1 seconds after
+/// the epoch, so that `t` stays small and precise whatever the date.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct EarthRotation {
     model: EarthModel,
@@ -224,8 +225,9 @@ impl EarthRotation {
         Ok(Self { model, angle_at_epoch, epoch_ut1: None })
     }
 
-    /// The Earth turning at `model`'s rate, `t = 0` at the UT1 Julian date
-    /// `jd_ut1 + jd_ut1_fraction`.
+    /// The Earth turning at the Earth Rotation Angle's rate
+    /// ([`ERA_RATE`](crate::earth::ERA_RATE)), `t = 0` (UT1 seconds) at the UT1 Julian date
+    /// `jd_ut1 + jd_ut1_fraction`. (`model` is kept for the frame graph's other uses of it.)
     ///
     /// # Errors
     /// As [`earth_rotation_angle`](crate::earth::earth_rotation_angle).
@@ -257,7 +259,8 @@ impl EarthRotation {
     #[inline(always)]
     pub fn motion_at(&self, time: f64) -> Result<Motion> {
         limits::check_scalar(time, limits::MAX_TIME, "s", "time")?;
-        Ok(earth::earth_motion(&self.model, time, self.angle_at_epoch)?.erase_frames())
+        let rate = if self.epoch_ut1.is_some() { earth::ERA_RATE } else { self.model.rotation_rate() };
+        Ok(earth::earth_motion_at_rate(rate, time, self.angle_at_epoch)?.erase_frames())
     }
 }
 
