@@ -7,7 +7,11 @@ use rotaframe::time::LeapSeconds;
 
 use crate::plumbing::errors::to_py;
 
-/// A table of leap seconds: when TAI − UTC (s) steps, from 1972-01-01 on.
+/// A table of leap seconds: the MJDs at which TAI − UTC (s) takes each value, from 1972-01-01
+/// on. `LeapSeconds.built_in()` holds every step announced up to 2017-01-01 (37 s);
+/// `LeapSeconds.from_iers(path)` reads the IERS `Leap_Second.dat` file (with its expiry date);
+/// `LeapSeconds(mjd, tai_minus_utc, expires=None)` builds one from arrays. Pass it as
+/// `leap_seconds=` to the time functions and `EarthOrientation`.
 #[pyclass(name = "LeapSeconds", module = "rotaframe._native", frozen)]
 #[derive(Debug)]
 pub struct PyLeapSeconds {

@@ -81,7 +81,15 @@ fn dates<'py, const N: usize>(
     crate::plumbing::broadcast::tuple_of(py, &plan, vec![jd, fraction])
 }
 
-/// Two-part Julian dates `(jd, jd_fraction)` of calendar dates and times of day in `scale`.
+/// Two-part Julian dates `(jd, jd_fraction)` (days) of calendar dates and times of day in
+/// `scale` (`"utc"` by default; also `"tai"`, `"tt"`, `"gps"`, `"ut1"`): `jd` is the Julian date
+/// of the day's 0h, `jd_fraction` the fraction of the day. Arguments broadcast; `year`, `month`,
+/// `day`, `hour`, `minute` must be whole numbers, `second` may have a fraction. On a UTC day
+/// that ends in a leap second the day has 86,401 s and 23:59:60.x exists (the IAU standards'
+/// quasi Julian date: `julian_date(2016, 12, 31, 23, 59, 60.5)` is
+/// `(2457753.5, 86400.5 / 86401)`). Raises `OutOfRangeError` naming the field for an impossible
+/// date or time, and naming `jd` for UTC before 1972. `leap_seconds` replaces the built-in table
+/// (a `LeapSeconds`).
 #[pyfunction]
 #[pyo3(signature = (year, month, day, hour=None, minute=None, second=None, *, scale=None, leap_seconds=None, threads=1))]
 pub fn julian_date<'py>(
@@ -121,7 +129,10 @@ pub fn julian_date<'py>(
 }
 
 /// The calendar dates and times of day `(year, month, day, hour, minute, second)` of two-part
-/// Julian dates in `scale`.
+/// Julian dates `jd + jd_fraction` (days) in `scale` (`"utc"` by default): integers (int64
+/// arrays, or ints for scalar input) and the second as a float; the inverse of
+/// `julian_date` (inside a UTC leap second the minute is 59 and the second 60.x). Raises
+/// `OutOfRangeError` naming `jd` outside the years −4712 to 9999 or for UTC before 1972.
 #[pyfunction]
 #[pyo3(signature = (jd, jd_fraction=None, *, scale=None, leap_seconds=None, threads=1))]
 pub fn calendar_date<'py>(
@@ -157,7 +168,15 @@ pub fn calendar_date<'py>(
     PyTuple::new(py, items)
 }
 
-/// Converts two-part Julian dates from `from_scale` to `to_scale`.
+/// Converts two-part Julian dates `jd + jd_fraction` (days) from `from_scale` to `to_scale`
+/// (`"utc"`, `"tai"`, `"tt"`, `"gps"` or `"ut1"`) and returns `(jd, jd_fraction)`:
+/// TT = TAI + 32.184 s, GPS = TAI − 19 s, TAI − UTC from the leap-second table (the built-in
+/// one, or `leap_seconds`), UT1 = UTC + (UT1 − UTC) from `eop` (an `EarthOrientation`, needed
+/// only when a scale is `"ut1"`). Dates to or from UTC come back as the JD of the day's 0h and
+/// the fraction of the day; between the other scales the offset is added to the smaller part.
+/// Precise to well under a nanosecond (the fraction carries about 10 ps). Raises
+/// `OutOfRangeError` naming `jd` for UTC before 1972 or a date outside `eop`'s table, and
+/// `RotaframeError` naming `eop` when UT1 is asked for without it.
 #[pyfunction]
 #[pyo3(signature = (jd, jd_fraction, from_scale, to_scale, *, eop=None, leap_seconds=None, threads=1))]
 pub fn convert_time<'py>(
@@ -181,8 +200,11 @@ pub fn convert_time<'py>(
     })
 }
 
-/// The GPS week and second of the week `(week, seconds)` of two-part Julian dates in `scale`
-/// (GPS time unless said).
+/// The GPS week and second of the week `(week, seconds)` of two-part Julian dates
+/// `jd + jd_fraction` (days) in `scale` (`"gps"` unless said; `"utc"` adds the leap seconds on
+/// the way): `week` is the full count since 1980-01-06 0h GPS (IS-GPS-200), not the broadcast
+/// count modulo 1024 (int64, or an int for scalar input), `seconds` the second of the week in
+/// [0, 604800). Raises `OutOfRangeError` naming `jd` before the GPS epoch.
 #[pyfunction]
 #[pyo3(signature = (jd, jd_fraction=None, *, scale=None, leap_seconds=None, threads=1))]
 pub fn gps_week_seconds<'py>(
@@ -210,8 +232,9 @@ pub fn gps_week_seconds<'py>(
     PyTuple::new(py, [integers(py, &plan, week)?, scalar_or_array(py, &plan, seconds)?])
 }
 
-/// Two-part Julian dates `(jd, jd_fraction)` in `scale` (GPS time unless said) of GPS weeks
-/// and seconds of the week.
+/// Two-part Julian dates `(jd, jd_fraction)` in `scale` (`"gps"` unless said) of GPS weeks
+/// `week` (whole, the full count since 1980-01-06) and seconds of the week `seconds` (s, in
+/// [0, 604800)). Raises `OutOfRangeError` naming `week` or `seconds`.
 #[pyfunction]
 #[pyo3(signature = (week, seconds, *, scale=None, leap_seconds=None, threads=1))]
 pub fn from_gps_week_seconds<'py>(

@@ -22,7 +22,12 @@ fn vector(obj: &Bound<'_, PyAny>, name: &'static str) -> PyResult<Vec<f64>> {
 }
 
 /// Earth orientation parameters tabulated at UTC dates: UT1 − UTC (s), the pole coordinates
-/// xp, yp and the celestial pole offsets dX, dY (rad), interpolated by 4-point Lagrange.
+/// xp, yp and the celestial pole offsets dX, dY (rad), interpolated by 4-point Lagrange (IERS
+/// Conventions 2010 §5.5; exact at the tabulated dates; UT1 − UTC continued across leap
+/// seconds; diurnal and subdiurnal tidal terms not applied). Build one from arrays,
+/// `EarthOrientation(mjd_utc, ut1_minus_utc, xp, yp, dx=None, dy=None, leap_seconds=None)`
+/// (MJD of 0h UTC, increasing, from 1972, at least four rows; `dx`, `dy` may cover only the
+/// first rows), or read an IERS file with `EarthOrientation.from_iers(path)`.
 #[pyclass(name = "EarthOrientation", module = "rotaframe._native", frozen)]
 #[derive(Debug)]
 pub struct PyEarthOrientation {
@@ -55,7 +60,11 @@ impl PyEarthOrientation {
         Ok(PyEarthOrientation { table: table.with_leap_seconds(leap_seconds::table(leap_seconds)) })
     }
 
-    /// Reads an IERS file at `path`: `finals2000A` (its Bulletin A columns) or EOP C04.
+    /// Reads an IERS file at `path`: `finals2000A` (`.all`, `.data`, `.daily`; its Bulletin A
+    /// columns) or EOP C04 (`eopc04.1962-now`). The table holds the rows from 1972 on whose
+    /// UT1 − UTC, xp and yp are given (blank prediction rows at the end are left out); dX, dY
+    /// as long as given (see `offsets_until`). Raises `RotaframeError` giving the line of a
+    /// malformed row, `OSError` when the file cannot be read.
     #[staticmethod]
     #[pyo3(signature = (path, *, leap_seconds=None))]
     fn from_iers(path: std::path::PathBuf, leap_seconds: Option<&Bound<'_, PyLeapSeconds>>) -> PyResult<Self> {
@@ -88,7 +97,10 @@ impl PyEarthOrientation {
         PyTuple::new(py, row_arrays(py, &self.table))
     }
 
-    /// The orientation at UTC dates `jd_utc + jd_utc_fraction`, interpolated.
+    /// The orientation at UTC dates `jd_utc + jd_utc_fraction` (days), interpolated: an
+    /// `EarthOrientationAt` with `ut1_minus_utc` (s), `xp`, `yp`, `dx`, `dy` (rad; dx, dy are 0
+    /// past `offsets_until`, where `offsets_given` is False), each shaped like the dates.
+    /// Raises `OutOfRangeError` naming `jd_utc` outside the table (giving its span).
     #[pyo3(signature = (jd_utc, jd_utc_fraction=None, *, threads=1))]
     fn at<'py>(
         &self,
