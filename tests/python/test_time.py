@@ -247,3 +247,20 @@ def test_eop_c04_is_read_and_reproduced_exactly_at_its_rows():
     # Before 1972: refused, naming the date and giving the span.
     with pytest.raises(rf.OutOfRangeError, match="2441317.5"):
         read.at(2441000.5)
+
+
+def test_ut1_inside_leap_seconds_matches_the_reference_and_runs_on_smoothly():
+    # Inside each leap second the table covers (finals2000A starts in 1973): UT1 from rotaframe
+    # against erfa's utcut1 given the same UT1 − UTC, within 1 ns; and UT1 advances by the SI
+    # seconds elapsed (less the day's drift of UT1 − TAI, a few ms a day: 1e-6 s over 1.5 s).
+    eop = rf.EarthOrientation.from_iers(DATA / "finals2000A.all")
+    mjd, _ = rf.LeapSeconds.built_in().steps
+    for step in mjd[mjd > eop.mjd_span[0] + 2]:
+        y, mo, d, _ = erfa.jd2cal(2400000.5, float(step) - 1.0)
+        inside = rf.julian_date(y, mo, d, 23, 59, 60.5)
+        dut1 = eop.at(*inside).ut1_minus_utc
+        ours = rf.convert_time(*inside, "utc", "ut1", eop=eop)
+        assert abs(seconds_apart(ours, erfa.utcut1(*inside, dut1))) < 1e-9
+        before = rf.convert_time(*rf.julian_date(y, mo, d, 23, 59, 59.75), "utc", "ut1", eop=eop)
+        after = rf.convert_time(*rf.julian_date(*erfa.jd2cal(2400000.5, float(step))[:3], 0, 0, 0.25), "utc", "ut1", eop=eop)
+        assert abs(seconds_apart(after, before) - 1.5) < 1e-6
