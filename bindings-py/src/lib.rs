@@ -58,6 +58,10 @@ fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(graph::_frame_graph_from_parts, m)?)?;
     m.add_function(wrap_pyfunction!(motion::_frame_motion_from_parts, m)?)?;
     m.add_function(wrap_pyfunction!(motion::earth_motion, m)?)?;
+    m.add_function(wrap_pyfunction!(motion::earth_motion_iers, m)?)?;
+    m.add_function(wrap_pyfunction!(earth::celestial::celestial_to_terrestrial, m)?)?;
+    m.add_function(wrap_pyfunction!(earth::celestial::cip_coordinates, m)?)?;
+    m.add_function(wrap_pyfunction!(earth::celestial::tio_locator, m)?)?;
     m.add_function(wrap_pyfunction!(motion::local_level_motion, m)?)?;
     m.add_function(wrap_pyfunction!(apparent::apparent_acceleration, m)?)?;
     m.add_class::<nav::strapdown::PyStrapdown>()?;

@@ -668,6 +668,55 @@ pub fn earth_motion<'py>(
     Ok(PyFrameMotion::new_batch(motions, plan.shape, Some("eci".into()), Some("ecef".into())))
 }
 
+/// ITRS relative to GCRS at TT dates `jd_tt + jd_tt_fraction` (days), with UT1 − UTC, polar
+/// motion and the celestial pole offsets from `eop` (an `EarthOrientation`): the rotation (ITRS
+/// coordinates to GCRS coordinates, IERS Conventions 2010 eq. 5.1), the angular velocity and
+/// angular acceleration of the Earth (rad/s, rad/s², per second of TT, resolved in GCRS),
+/// including the precession-nutation rate, the rate of UT1 − UTC and the polar-motion rate.
+/// Labels: parent "gcrs", child "itrs". Raises `OutOfRangeError` naming `jd` for a date outside
+/// the table.
+#[pyfunction]
+#[pyo3(signature = (jd_tt, jd_tt_fraction, eop, *, threads=1))]
+pub fn earth_motion_iers<'py>(
+    py: Python<'py>,
+    jd_tt: &Bound<'py, PyAny>,
+    jd_tt_fraction: Option<&Bound<'py, PyAny>>,
+    eop: &Bound<'py, PyAny>,
+    #[pyo3(from_py_with = crate::plumbing::batch::threads)] threads: usize,
+) -> PyResult<PyFrameMotion> {
+    let eop = crate::time::orientation::ut1_source(Some(eop))?
+        .ok_or_else(|| crate::plumbing::errors::input_type_error("`eop` must be an EarthOrientation, got None".into()))?;
+    let view = eop.get().table.view();
+    let mut ops = [Operand::extract(jd_tt, "jd_tt", &[])?, Operand::optional(jd_tt_fraction, "jd_tt_fraction", &[])?];
+    let plan = {
+        let mut refs: Vec<&mut Operand<'py>> = ops.iter_mut().collect();
+        Plan::for_operands(&mut refs, &[])?
+    };
+    let mut motions = vec![Motion::identity(); plan.n];
+    {
+        let access: Vec<_> = ops.iter().map(|o| o.access(&plan)).collect();
+        let ranges = crate::plumbing::batch::chunk_ranges(plan.n, threads);
+        let pieces = crate::plumbing::batch::split(&mut motions, &ranges, 1);
+        let work: Vec<_> = ranges.into_iter().zip(pieces).collect();
+        let results = py.detach(|| {
+            crate::plumbing::batch::parallel(threads, work, |(range, piece)| {
+                for (local, i) in range.enumerate() {
+                    let tt = rotaframe::time::JulianDate { jd: access[0].scalar(i), fraction: access[1].scalar(i) };
+                    piece[local] = rotaframe::earth::celestial::itrs_motion(tt, &view)
+                        .map_err(|error| crate::plumbing::broadcast::Failure { index: i, error })?
+                        .erase_frames();
+                }
+                Ok(())
+            })
+        })?;
+        if let Err(f) = crate::plumbing::batch::first_failure(results, |f: &crate::plumbing::broadcast::Failure| f.index) {
+            let refs: Vec<&Operand<'py>> = ops.iter().collect();
+            return Err(failure_to_py(&f, &plan, &refs));
+        }
+    }
+    Ok(PyFrameMotion::new_batch(motions, plan.shape, Some("gcrs".into()), Some("itrs".into())))
+}
+
 /// The NED frame carried by a vehicle, relative to ECEF, at geodetic positions with NED
 /// velocities and Earth-relative accelerations. Labels: parent "ecef", child "ned".
 #[pyfunction]

@@ -114,6 +114,21 @@ frame!(
     pub Ecef
 );
 frame!(
+    /// Geocentric Celestial Reference System: origin at the Earth's centre of mass, axes fixed
+    /// relative to the extragalactic sources of the ICRS (IAU 2000 Resolution B1.3). The
+    /// inertial frame of orbit and long-range trajectory work; see
+    /// [`earth::celestial`](crate::earth::celestial) for its relation to [`Itrs`]. Unlike
+    /// [`Eci`], it does not follow the Earth's precessing, nutating axis.
+    pub Gcrs: inertial
+);
+frame!(
+    /// International Terrestrial Reference System: the Earth-fixed frame realised by the ITRF,
+    /// related to [`Gcrs`] by precession-nutation, the Earth Rotation Angle and polar motion
+    /// ([`earth::celestial`](crate::earth::celestial)). For navigation, [`Ecef`] (WGS 84) and
+    /// ITRS agree to centimetres.
+    pub Itrs
+);
+frame!(
     /// Local-level north-east-down frame: x north, y east, z down along the ellipsoidal normal.
     /// Its origin is set by the motion that defines it (usually a vehicle's navigation point).
     pub Ned

@@ -8,8 +8,8 @@ in NED and ECEF form, IMU error simulation and lever arms; free-body trajectorie
 frames with the deflection budget of each apparent term; Jacobians of the transforms
 (``jacobian=True``) and the inertial error-state model with covariance prediction; IMU
 calibration from multi-position and rate-table tests, and Allan deviation with the noise
-terms read from it; time scales (UTC, TAI, TT, GPS, UT1), GPS weeks, leap seconds and IERS
-Earth orientation tables. The math is rotaframe's Rust core; this package converts, validates and
+terms read from it; time scales (UTC, TAI, TT, GPS, UT1), GPS weeks, leap seconds, IERS
+Earth orientation tables and the IERS celestial-to-terrestrial (GCRS → ITRS) transformation. The math is rotaframe's Rust core; this package converts, validates and
 batches.
 
 Conventions (the same in Rust, C and Python):
@@ -31,6 +31,10 @@ from ._native import (
     AidedNavigator,
     EarthOrientation,
     EarthOrientationAt,
+    celestial_to_terrestrial,
+    cip_coordinates,
+    earth_motion_iers,
+    tio_locator,
     LeapSeconds,
     calendar_date,
     convert_time,
@@ -132,6 +136,10 @@ from ._native import (
 __version__ = "0.1.0"
 
 __all__ = [
+    "celestial_to_terrestrial",
+    "cip_coordinates",
+    "earth_motion_iers",
+    "tio_locator",
     "EarthOrientation",
     "EarthOrientationAt",
     "LeapSeconds",

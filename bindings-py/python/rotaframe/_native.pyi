@@ -11,6 +11,10 @@ _Array = NDArray[np.float64]
 _FloatOrArray = Union[float, _Array]
 
 __all__ = [
+    "celestial_to_terrestrial",
+    "cip_coordinates",
+    "earth_motion_iers",
+    "tio_locator",
     "EarthOrientation",
     "EarthOrientationAt",
     "LeapSeconds",
@@ -199,6 +203,26 @@ class EarthOrientation:
     def rows(self) -> tuple[_Array, _Array, _Array, _Array, _Array, _Array]: ...
     def at(self, jd_utc: ArrayLike, jd_utc_fraction: Optional[ArrayLike] = None, *, threads: int = 1) -> EarthOrientationAt: ...
 
+def celestial_to_terrestrial(
+    jd_tt: ArrayLike,
+    jd_tt_fraction: Optional[ArrayLike],
+    jd_ut1: ArrayLike,
+    jd_ut1_fraction: Optional[ArrayLike],
+    xp: ArrayLike,
+    yp: ArrayLike,
+    *,
+    dx: Optional[ArrayLike] = None,
+    dy: Optional[ArrayLike] = None,
+    out: _Out = None,
+    threads: int = 1,
+) -> _Array: ...
+def cip_coordinates(
+    jd_tt: ArrayLike, jd_tt_fraction: Optional[ArrayLike] = None, *, threads: int = 1
+) -> tuple[_FloatOrArray, _FloatOrArray, _FloatOrArray]: ...
+def tio_locator(jd_tt: ArrayLike, jd_tt_fraction: Optional[ArrayLike] = None, *, threads: int = 1) -> _FloatOrArray: ...
+def earth_motion_iers(
+    jd_tt: ArrayLike, jd_tt_fraction: Optional[ArrayLike], eop: EarthOrientation, *, threads: int = 1
+) -> FrameMotion: ...
 def julian_date(
     year: ArrayLike,
     month: ArrayLike,

@@ -24,6 +24,8 @@
 //! heights ellipsoidal and positive up; "gravity" includes the centrifugal term and
 //! "gravitation" does not (see [`gravity`]).
 
+pub mod celestial;
+mod cip_series;
 pub mod field;
 pub mod geodetic;
 pub mod gravity;

@@ -189,6 +189,26 @@ impl<'a> EarthOrientationView<'a> {
     /// As [`JulianDate::new`]; [`Error::OutOfRange`] naming `jd` for a date outside the
     /// table's span (giving the span as Julian dates).
     pub fn at(&self, utc: JulianDate) -> Result<EarthOrientationSample> {
+        Ok(self.at_with_rates(utc)?[0])
+    }
+
+    /// The Earth orientation at the UTC date `utc` and its first and second time derivatives
+    /// (per second and per second squared), from the derivatives of the same interpolating
+    /// cubics: `[value, rate, acceleration]`. (`UT1 − UTC` is continued across a leap second
+    /// as in [`at`](Self::at), so its rate is that of `UT1 − TAI`.)
+    ///
+    /// # Errors
+    /// As [`at`](Self::at).
+    ///
+    /// ```
+    /// use rotaframe::time::{EarthOrientation, JulianDate};
+    /// // UT1 − UTC falling 1 ms a day: a rate of −1e-3/86400 s/s.
+    /// let mjd = [60_000.0, 60_001.0, 60_002.0, 60_003.0];
+    /// let eop = EarthOrientation::new(&mjd, &[0.010, 0.009, 0.008, 0.007], &[0.0; 4], &[0.0; 4], None).unwrap();
+    /// let [_, rate, _] = eop.view().at_with_rates(JulianDate::new(2_460_001.5, 0.3).unwrap()).unwrap();
+    /// assert!((rate.ut1_minus_utc + 1e-3 / 86_400.0).abs() < 1e-20);
+    /// ```
+    pub fn at_with_rates(&self, utc: JulianDate) -> Result<[EarthOrientationSample; 3]> {
         let (day, fraction) = utc.mjd_split()?;
         let (first, last) = self.span();
         let t_day = day as f64;
@@ -205,25 +225,37 @@ impl<'a> EarthOrientationView<'a> {
         let window = window_start(mjd, t_day + fraction);
         let weights = lagrange_weights(&mjd[window..window + 4], t_day, fraction);
         let dat = self.leaps.tai_minus_utc(day)?;
-        let mut ut1 = 0.0;
-        for (j, w) in weights.iter().enumerate() {
+        let mut dut1 = [0.0; 4];
+        for (j, value) in dut1.iter_mut().enumerate() {
             let row = window + j;
             // A row on the far side of a leap second, moved by the step.
             let step = dat - self.leaps.tai_minus_utc(crate::math::floor(mjd[row]) as i64)?;
-            let value = self.rows.ut1_minus_utc[row];
-            ut1 += w * if step == 0.0 { value } else { value + step };
+            let tabulated = self.rows.ut1_minus_utc[row];
+            *value = if step == 0.0 { tabulated } else { tabulated + step };
         }
-        let sum = |values: &[f64]| weights.iter().zip(&values[window..window + 4]).map(|(w, v)| w * v).sum::<f64>();
+        // Per day, then per second.
+        let scale = [1.0, 1.0 / 86_400.0, 1.0 / (86_400.0 * 86_400.0)];
+        let combine = |w: &[[f64; 4]; 3], values: &[f64]| -> [f64; 3] {
+            core::array::from_fn(|order| w[order].iter().zip(values).map(|(w, v)| w * v).sum::<f64>() * scale[order])
+        };
+        let ut1 = combine(&weights, &dut1);
+        let xp = combine(&weights, &self.rows.xp[window..window + 4]);
+        let yp = combine(&weights, &self.rows.yp[window..window + 4]);
         let given = self.rows.dx.len();
-        let (dx, dy) = if given >= 4 && t_day + fraction <= mjd[given - 1] {
+        let offsets = if given >= 4 && t_day + fraction <= mjd[given - 1] {
             let start = window_start(&mjd[..given], t_day + fraction);
             let w = lagrange_weights(&mjd[start..start + 4], t_day, fraction);
-            let sum = |values: &[f64]| w.iter().zip(&values[start..start + 4]).map(|(w, v)| w * v).sum::<f64>();
-            (Some(sum(self.rows.dx)), Some(sum(self.rows.dy)))
+            Some((combine(&w, &self.rows.dx[start..start + 4]), combine(&w, &self.rows.dy[start..start + 4])))
         } else {
-            (None, None)
+            None
         };
-        Ok(EarthOrientationSample { ut1_minus_utc: ut1, xp: sum(self.rows.xp), yp: sum(self.rows.yp), dx, dy })
+        Ok(core::array::from_fn(|order| EarthOrientationSample {
+            ut1_minus_utc: ut1[order],
+            xp: xp[order],
+            yp: yp[order],
+            dx: offsets.map(|(dx, _)| dx[order]),
+            dy: offsets.map(|(_, dy)| dy[order]),
+        }))
     }
 }
 
@@ -477,18 +509,22 @@ fn window_start(mjd: &[f64], t: f64) -> usize {
 }
 
 /// The 4-point Lagrange weights of `nodes` at `day + fraction` (the differences taken from the
-/// whole day first, so that the fraction keeps its precision): exactly one at a node.
-fn lagrange_weights(nodes: &[f64], day: f64, fraction: f64) -> [f64; 4] {
+/// whole day first, so that the fraction keeps its precision), and the weights of the first and
+/// second derivatives (per day): `[ℓ_j, ℓ_j′, ℓ_j″]`. The value weights are exactly one and
+/// zero at a node.
+fn lagrange_weights(nodes: &[f64], day: f64, fraction: f64) -> [[f64; 4]; 3] {
     let d: [f64; 4] = core::array::from_fn(|m| (day - nodes[m]) + fraction);
-    core::array::from_fn(|j| {
-        let mut w = 1.0;
-        for m in 0..4 {
-            if m != j {
-                w *= d[m] / (nodes[j] - nodes[m]);
-            }
-        }
-        w
-    })
+    let mut w = [[0.0; 4]; 3];
+    for j in 0..4 {
+        let others: [usize; 3] = core::array::from_fn(|k| if k < j { k } else { k + 1 });
+        let denominator: f64 = others.iter().map(|&m| nodes[j] - nodes[m]).product();
+        let [a, b, c] = others.map(|m| d[m]);
+        // ℓ = abc/den (each factor divided in turn keeps a node's weight exactly 1 or 0).
+        w[0][j] = others.iter().fold(1.0, |acc, &m| acc * (d[m] / (nodes[j] - nodes[m])));
+        w[1][j] = (a * b + a * c + b * c) / denominator;
+        w[2][j] = 2.0 * (a + b + c) / denominator;
+    }
+    w
 }
 
 /// Splits a fixed-column field of `line` (1-based inclusive bytes) into a number, `None` for
