@@ -926,6 +926,129 @@ typedef struct rf_frame_motion {
 } rf_frame_motion;
 
 /**
+ * A Julian date in two parts, `jd + fraction` (days).
+ */
+typedef struct rf_julian_date {
+  /**
+   * One part, usually the JD of the day's 0h.
+   */
+  double jd;
+  /**
+   * The other part, usually the fraction of the day.
+   */
+  double fraction;
+} rf_julian_date;
+
+/**
+ * The CIP coordinates X, Y and the CIO locator s (rad) of the IAU 2006/2000A model.
+ */
+typedef struct rf_cip_xys {
+  /**
+   * X (rad).
+   */
+  double x;
+  /**
+   * Y (rad).
+   */
+  double y;
+  /**
+   * s (rad).
+   */
+  double s;
+} rf_cip_xys;
+
+/**
+ * Polar motion and the celestial pole offsets (rad) for `rf_celestial_to_terrestrial`; all
+ * zero is the model without observed Earth orientation.
+ */
+typedef struct rf_pole_coordinates {
+  /**
+   * Pole coordinate x (rad).
+   */
+  double xp;
+  /**
+   * Pole coordinate y (rad).
+   */
+  double yp;
+  /**
+   * Celestial pole offset dX (rad), added to X.
+   */
+  double dx;
+  /**
+   * Celestial pole offset dY (rad), added to Y.
+   */
+  double dy;
+} rf_pole_coordinates;
+
+/**
+ * A leap-second table: `count` steps, the MJD at which TAI − UTC takes each value and the
+ * value (s), and the MJD until which it is valid (0 if not known).
+ */
+typedef struct rf_leap_seconds {
+  /**
+   * MJD at which each value starts.
+   */
+  int64_t mjd[RF_MAX_LEAP_SECOND_STEPS];
+  /**
+   * TAI − UTC from then (s).
+   */
+  double tai_minus_utc[RF_MAX_LEAP_SECOND_STEPS];
+  /**
+   * Steps used.
+   */
+  size_t count;
+  /**
+   * MJD until which the table is valid; 0 if not known.
+   */
+  int64_t expires;
+} rf_leap_seconds;
+
+/**
+ * An Earth orientation table over caller arrays of `rows` rows: MJD (UTC, increasing, from
+ * 1972), UT1 − UTC (s), xp, yp (rad), and dX, dY (rad) for the first `offset_rows` rows (0
+ * to `rows`; `dx`, `dy` may be NULL when it is 0). `leap_seconds` NULL means the built-in
+ * table.
+ */
+typedef struct rf_earth_orientation {
+  /**
+   * MJD (UTC) of each row.
+   */
+  const double *mjd;
+  /**
+   * UT1 − UTC (s).
+   */
+  const double *ut1_minus_utc;
+  /**
+   * Pole coordinate x (rad).
+   */
+  const double *xp;
+  /**
+   * Pole coordinate y (rad).
+   */
+  const double *yp;
+  /**
+   * Celestial pole offset dX (rad).
+   */
+  const double *dx;
+  /**
+   * Celestial pole offset dY (rad).
+   */
+  const double *dy;
+  /**
+   * Rows.
+   */
+  size_t rows;
+  /**
+   * Rows (from the first) that give dX, dY.
+   */
+  size_t offset_rows;
+  /**
+   * The leap seconds for the steps of UT1 − UTC (NULL: built in).
+   */
+  const struct rf_leap_seconds *leap_seconds;
+} rf_earth_orientation;
+
+/**
  * A caller's edge: writes the motion of the child relative to the parent at `time` (s) to
  * `out_motion` and returns `RF_STATUS_OK`, or any other status to abort the query.
  */
@@ -1314,29 +1437,6 @@ typedef struct rf_propagation_result {
 } rf_propagation_result;
 
 /**
- * A leap-second table: `count` steps, the MJD at which TAI − UTC takes each value and the
- * value (s), and the MJD until which it is valid (0 if not known).
- */
-typedef struct rf_leap_seconds {
-  /**
-   * MJD at which each value starts.
-   */
-  int64_t mjd[RF_MAX_LEAP_SECOND_STEPS];
-  /**
-   * TAI − UTC from then (s).
-   */
-  double tai_minus_utc[RF_MAX_LEAP_SECOND_STEPS];
-  /**
-   * Steps used.
-   */
-  size_t count;
-  /**
-   * MJD until which the table is valid; 0 if not known.
-   */
-  int64_t expires;
-} rf_leap_seconds;
-
-/**
  * A calendar date and time of day (`second` up to 61 in the last minute of a UTC day that ends
  * in a leap second).
  */
@@ -1366,65 +1466,6 @@ typedef struct rf_calendar_time {
    */
   double second;
 } rf_calendar_time;
-
-/**
- * A Julian date in two parts, `jd + fraction` (days).
- */
-typedef struct rf_julian_date {
-  /**
-   * One part, usually the JD of the day's 0h.
-   */
-  double jd;
-  /**
-   * The other part, usually the fraction of the day.
-   */
-  double fraction;
-} rf_julian_date;
-
-/**
- * An Earth orientation table over caller arrays of `rows` rows: MJD (UTC, increasing, from
- * 1972), UT1 − UTC (s), xp, yp (rad), and dX, dY (rad) for the first `offset_rows` rows (0
- * to `rows`; `dx`, `dy` may be NULL when it is 0). `leap_seconds` NULL means the built-in
- * table.
- */
-typedef struct rf_earth_orientation {
-  /**
-   * MJD (UTC) of each row.
-   */
-  const double *mjd;
-  /**
-   * UT1 − UTC (s).
-   */
-  const double *ut1_minus_utc;
-  /**
-   * Pole coordinate x (rad).
-   */
-  const double *xp;
-  /**
-   * Pole coordinate y (rad).
-   */
-  const double *yp;
-  /**
-   * Celestial pole offset dX (rad).
-   */
-  const double *dx;
-  /**
-   * Celestial pole offset dY (rad).
-   */
-  const double *dy;
-  /**
-   * Rows.
-   */
-  size_t rows;
-  /**
-   * Rows (from the first) that give dX, dY.
-   */
-  size_t offset_rows;
-  /**
-   * The leap seconds for the steps of UT1 − UTC (NULL: built in).
-   */
-  const struct rf_leap_seconds *leap_seconds;
-} rf_earth_orientation;
 
 /**
  * The Earth orientation at a date.
@@ -1825,6 +1866,31 @@ rf_status rf_centripetal_acceleration_ecef(const struct rf_earth_model *model, c
  * Eötvös correction (m/s², to add to a moving gravimeter's reading).
  */
 rf_status rf_eotvos_correction(const struct rf_earth_model *model, double latitude, double height, const struct rf_vec3 *velocity_ned, double *out_correction);
+
+/**
+ * The CIP coordinates and CIO locator at the TT date `tt` (IERS Conventions 2010, tables 5.2a,
+ * 5.2b, 5.2d). More than ten centuries from J2000.0 returns `RF_STATUS_OUT_OF_RANGE`.
+ */
+rf_status rf_cip_coordinates(const struct rf_julian_date *tt, struct rf_cip_xys *out_coordinates);
+
+/**
+ * The TIO locator s′ (rad) at the TT date `tt` (IERS Conventions 2010, eq. 5.13).
+ */
+rf_status rf_tio_locator(const struct rf_julian_date *tt, double *out_s_prime);
+
+/**
+ * The matrix that maps GCRS coordinates to ITRS coordinates at TT date `tt` and UT1 date `ut1`
+ * with `pole` (NULL: zeros), written row-major to `out_matrix[9]` (IERS Conventions 2010, eq.
+ * 5.1, CIO based).
+ */
+rf_status rf_celestial_to_terrestrial(const struct rf_julian_date *tt, const struct rf_julian_date *ut1, const struct rf_pole_coordinates *pole, double *out_matrix);
+
+/**
+ * ITRS relative to GCRS at the TT date `tt`, with UT1 − UTC, polar motion and dX, dY from
+ * `eop` (interpolated with their rates): rotation, angular velocity and acceleration (per TT
+ * second, resolved in GCRS). A date outside the table returns `RF_STATUS_OUT_OF_RANGE`.
+ */
+rf_status rf_earth_motion_iers(const struct rf_julian_date *tt, const struct rf_earth_orientation *eop, struct rf_frame_motion *out_motion);
 
 /**
  * An empty graph (its root, frame 0, only) over the caller's `storage` of `capacity` nodes

@@ -409,3 +409,96 @@ pub unsafe extern "C" fn rf_eotvos_correction(
         Ok(())
     })
 }
+
+/// The CIP coordinates X, Y and the CIO locator s (rad) of the IAU 2006/2000A model.
+#[repr(C)]
+#[derive(Debug, Clone, Copy, Default)]
+pub struct rf_cip_xys {
+    /// X (rad).
+    pub x: f64,
+    /// Y (rad).
+    pub y: f64,
+    /// s (rad).
+    pub s: f64,
+}
+
+/// Polar motion and the celestial pole offsets (rad) for `rf_celestial_to_terrestrial`; all
+/// zero is the model without observed Earth orientation.
+#[repr(C)]
+#[derive(Debug, Clone, Copy, Default)]
+pub struct rf_pole_coordinates {
+    /// Pole coordinate x (rad).
+    pub xp: f64,
+    /// Pole coordinate y (rad).
+    pub yp: f64,
+    /// Celestial pole offset dX (rad), added to X.
+    pub dx: f64,
+    /// Celestial pole offset dY (rad), added to Y.
+    pub dy: f64,
+}
+
+/// The CIP coordinates and CIO locator at the TT date `tt` (IERS Conventions 2010, tables 5.2a,
+/// 5.2b, 5.2d). More than ten centuries from J2000.0 returns `RF_STATUS_OUT_OF_RANGE`.
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn rf_cip_coordinates(
+    tt: *const crate::time::rf_julian_date,
+    out_coordinates: *mut rf_cip_xys,
+) -> rf_status {
+    boundary(|| {
+        let tt = unsafe { read(tt) }?;
+        let o = unsafe { out(out_coordinates) }?;
+        let c = earth::celestial::cip_coordinates(tt.into())?;
+        *o = rf_cip_xys { x: c.x, y: c.y, s: c.s };
+        Ok(())
+    })
+}
+
+/// The TIO locator s′ (rad) at the TT date `tt` (IERS Conventions 2010, eq. 5.13).
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn rf_tio_locator(tt: *const crate::time::rf_julian_date, out_s_prime: *mut f64) -> rf_status {
+    boundary(|| {
+        let tt = unsafe { read(tt) }?;
+        let o = unsafe { out(out_s_prime) }?;
+        *o = earth::celestial::tio_locator(tt.into())?;
+        Ok(())
+    })
+}
+
+/// The matrix that maps GCRS coordinates to ITRS coordinates at TT date `tt` and UT1 date `ut1`
+/// with `pole` (NULL: zeros), written row-major to `out_matrix[9]` (IERS Conventions 2010, eq.
+/// 5.1, CIO based).
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn rf_celestial_to_terrestrial(
+    tt: *const crate::time::rf_julian_date,
+    ut1: *const crate::time::rf_julian_date,
+    pole: *const rf_pole_coordinates,
+    out_matrix: *mut f64,
+) -> rf_status {
+    boundary(|| {
+        let (tt, ut1) = (unsafe { read(tt) }?, unsafe { read(ut1) }?);
+        // SAFETY: NULL or valid, as documented.
+        let p = unsafe { pole.as_ref() }.copied().unwrap_or_default();
+        let out_matrix = unsafe { slice_mut(out_matrix, 9) }?;
+        let pole = earth::celestial::PoleCoordinates { xp: p.xp, yp: p.yp, dx: p.dx, dy: p.dy };
+        put_row_major(out_matrix, &earth::celestial::celestial_to_terrestrial(tt.into(), ut1.into(), &pole)?);
+        Ok(())
+    })
+}
+
+/// ITRS relative to GCRS at the TT date `tt`, with UT1 − UTC, polar motion and dX, dY from
+/// `eop` (interpolated with their rates): rotation, angular velocity and acceleration (per TT
+/// second, resolved in GCRS). A date outside the table returns `RF_STATUS_OUT_OF_RANGE`.
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn rf_earth_motion_iers(
+    tt: *const crate::time::rf_julian_date,
+    eop: *const crate::time::rf_earth_orientation,
+    out_motion: *mut rf_frame_motion,
+) -> rf_status {
+    boundary(|| {
+        let (tt, table) = (unsafe { read(tt) }?, unsafe { read(eop) }?);
+        let o = unsafe { out(out_motion) }?;
+        let motion = unsafe { crate::time::with_view(&table, |view| Ok(earth::celestial::itrs_motion(tt.into(), view)?)) }?;
+        *o = (&motion).into();
+        Ok(())
+    })
+}

@@ -261,7 +261,10 @@ pub struct rf_earth_orientation_sample {
 ///
 /// # Safety
 /// The table's pointers are valid for the counts it states.
-unsafe fn with_view<R>(table: &rf_earth_orientation, body: impl FnOnce(&EarthOrientationView<'_>) -> Fallible<R>) -> Fallible<R> {
+pub(crate) unsafe fn with_view<R>(
+    table: &rf_earth_orientation,
+    body: impl FnOnce(&EarthOrientationView<'_>) -> Fallible<R>,
+) -> Fallible<R> {
     let n = table.rows;
     if table.offset_rows > n {
         return Err(rf_status::RF_STATUS_INVALID_ARGUMENT);

@@ -107,6 +107,46 @@ int main(void) {
         CHECK(rf_convert_time(&at, RF_TIME_UTC, RF_TIME_UT1, NULL, NULL, &ut1) == RF_STATUS_NULL_POINTER, "UT1 needs a table");
     }
     {
+        /* The GCRS → ITRS matrix (IERS Conventions 2010, eq. 5.1): a rotation whose third row,
+           the ITRS pole in GCRS, is the CIP (X, Y, √(1 − X² − Y²)) when polar motion is zero
+           (to s′, below 1e-12 rad); and the motion from the EOP table has the matrix's
+           transpose as its rotation. The comparison with the reference library is in
+           tests/python/test_celestial.py. */
+        rf_julian_date tt = {2457752.5, 0.4}, ut1 = {2457752.5, 0.4 - 68.6 / 86400.0};
+        rf_cip_xys cip;
+        double m[9], z;
+        int i, j, k;
+        OK(rf_cip_coordinates(&tt, &cip));
+        OK(rf_celestial_to_terrestrial(&tt, &ut1, NULL, m));
+        for (i = 0; i < 3; ++i)
+            for (j = 0; j < 3; ++j) {
+                double dot = 0.0;
+                for (k = 0; k < 3; ++k) dot += m[3 * i + k] * m[3 * j + k];
+                CLOSE(dot, i == j ? 1.0 : 0.0, 1e-15, "orthonormal rows");
+            }
+        z = sqrt(1.0 - cip.x * cip.x - cip.y * cip.y);
+        CLOSE(m[6], cip.x, 1e-12, "pole x");
+        CLOSE(m[7], cip.y, 1e-12, "pole y");
+        CLOSE(m[8], z, 1e-12, "pole z");
+        {
+            double mjd[8], dut1[8], xp[8], yp[8], dx[8], dy[8];
+            size_t rows = 0, offset_rows = 0;
+            rf_earth_orientation table;
+            rf_frame_motion motion;
+            OK(rf_earth_orientation_read_iers((const uint8_t *)c04, sizeof c04 - 1, 8, mjd, dut1, xp, yp, dx, dy, &rows, &offset_rows, NULL));
+            memset(&table, 0, sizeof table);
+            table.mjd = mjd, table.ut1_minus_utc = dut1, table.xp = xp, table.yp = yp, table.dx = dx, table.dy = dy;
+            table.rows = rows, table.offset_rows = offset_rows;
+            OK(rf_earth_motion_iers(&tt, &table, &motion));
+            CLOSE(sqrt(motion.angular_velocity.x * motion.angular_velocity.x + motion.angular_velocity.y * motion.angular_velocity.y +
+                       motion.angular_velocity.z * motion.angular_velocity.z),
+                  7.292115146706979e-5, 1e-10, "the Earth's rate (the ERA's, with the excess length of day)");
+            tt.jd = 2457900.5;
+            memset(&motion, 0xAB, sizeof motion);
+            CHECK(rf_earth_motion_iers(&tt, &table, &motion) == RF_STATUS_OUT_OF_RANGE && still_filled(&motion, sizeof motion, 0xAB), "outside the table");
+        }
+    }
+    {
         /* Bad input: UTC before 1972, an impossible date, an unknown scale, NULL output. */
         rf_julian_date d;
         memset(&when, 0, sizeof when);
