@@ -229,8 +229,11 @@ impl PyFrameGraph {
     /// Adds the Earth-fixed frame `name` (ECEF) turning relative to `parent` (an inertial
     /// frame): t = 0 at rotation angle `angle_at_epoch` (rad), turning at the model's rate, or
     /// at the UT1 Julian date `epoch_jd_ut1` (a number or a pair (day, fraction), whose Earth
-    /// Rotation Angle is then the angle), turning at the ERA's rate (t in UT1 seconds).
-    #[pyo3(signature = (name, parent, *, angle_at_epoch=0.0, model=None, epoch_jd_ut1=None))]
+    /// Rotation Angle is then the angle), turning at the ERA's rate (t in UT1 seconds). With
+    /// `eop` (an `EarthOrientation`) the frame is the ITRS relative to the GCRS by the full IERS
+    /// model instead (`rf.earth_motion_iers`), t in seconds of TT after `epoch_jd_tt` (a number or
+    /// a pair); saved to TOML as a declared function frame, attached again in code.
+    #[pyo3(signature = (name, parent, *, angle_at_epoch=0.0, model=None, epoch_jd_ut1=None, eop=None, epoch_jd_tt=None))]
     fn add_earth(
         &self,
         name: &str,
@@ -238,20 +241,39 @@ impl PyFrameGraph {
         #[pyo3(from_py_with = crate::plumbing::args::angle_at_epoch)] angle_at_epoch: f64,
         #[pyo3(from_py_with = crate::earth::model::earth_model)] model: Option<Bound<'_, PyEarthModel>>,
         epoch_jd_ut1: Option<&Bound<'_, PyAny>>,
+        eop: Option<&Bound<'_, PyAny>>,
+        epoch_jd_tt: Option<&Bound<'_, PyAny>>,
     ) -> PyResult<()> {
+        let two_parts = |epoch: &Bound<'_, PyAny>, name: &'static str| -> PyResult<(f64, f64)> {
+            let mut op = Operand::extract(epoch, name, &[])?;
+            let plan = Plan::for_operands(&mut [&mut op], &[])?;
+            let access = op.access(&plan);
+            let parts: Vec<f64> = (0..plan.n).map(|i| access.scalar(i)).collect();
+            match parts.as_slice() {
+                [jd] => Ok((*jd, 0.0)),
+                [jd, fraction] => Ok((*jd, *fraction)),
+                _ => Err(ShapeError::new_err(format!("`{name}` must be a Julian date or a pair (day, fraction)"))),
+            }
+        };
+        if let Some(table) = crate::time::orientation::ut1_source(eop)? {
+            let epoch = epoch_jd_tt
+                .filter(|o| !o.is_none())
+                .ok_or_else(|| crate::plumbing::errors::RotaframeError::new_err("`epoch_jd_tt` is needed with `eop`"))?;
+            let (jd, fraction) = two_parts(epoch, "epoch_jd_tt")?;
+            let edge = rotaframe::graph::IersEarth::new(rotaframe::time::JulianDate { jd, fraction }, table.get().table.clone())
+                .map_err(|e| edge_error(if e.quantity() == "jd_tt" { e.with_quantity("epoch_jd_tt") } else { e }))?;
+            let mut state = self.write()?;
+            return self.add(state.graph.add_earth_iers(name, parent, edge));
+        }
+        if epoch_jd_tt.is_some_and(|o| !o.is_none()) {
+            return Err(crate::plumbing::errors::RotaframeError::new_err("`epoch_jd_tt` goes with `eop` (the full IERS model)"));
+        }
         let m = model_or_default(model.as_ref());
         let edge = match epoch_jd_ut1.filter(|o| !o.is_none()) {
             None => EarthRotation::with_angle(m, angle_at_epoch),
             Some(epoch) => {
-                let mut op = Operand::extract(epoch, "epoch_jd_ut1", &[])?;
-                let plan = Plan::for_operands(&mut [&mut op], &[])?;
-                let access = op.access(&plan);
-                let parts: Vec<f64> = (0..plan.n).map(|i| access.scalar(i)).collect();
-                match parts.as_slice() {
-                    [jd] => EarthRotation::at_ut1_epoch(m, *jd, 0.0),
-                    [jd, fraction] => EarthRotation::at_ut1_epoch(m, *jd, *fraction),
-                    _ => return Err(ShapeError::new_err("`epoch_jd_ut1` must be a Julian date or a pair (day, fraction)")),
-                }
+                let (jd, fraction) = two_parts(epoch, "epoch_jd_ut1")?;
+                EarthRotation::at_ut1_epoch(m, jd, fraction)
             }
         }
         .map_err(edge_error)?;
@@ -486,8 +508,10 @@ impl PyFrameGraph {
     fn __reduce__<'py>(&self, py: Python<'py>) -> PyResult<(Bound<'py, PyAny>, Bound<'py, PyTuple>)> {
         let state = self.read()?;
         let g = &state.graph;
-        if g.has_functions() {
-            let names: Vec<&str> = g.frames().filter(|n| g.edge(n).is_ok_and(|e| e.kind_name() == "function")).collect();
+        let functions: Vec<&str> =
+            g.frames().filter(|n| g.edge(n).is_ok_and(|e| matches!(e, Edge::Function(_) | Edge::External))).collect();
+        if !functions.is_empty() {
+            let names = functions;
             return Err(FrameGraphError::new_err(format!(
                 "a FrameGraph with function edges ({}) cannot be pickled; rebuild it in the other process, or replace them by samples",
                 names.join(", ")
@@ -513,8 +537,16 @@ impl PyFrameGraph {
                 ))?;
             }
         }
+        // Full-model Earth edges: the epoch and the Earth orientation table.
+        let iers = PyList::empty(py);
+        for name in g.frames() {
+            if let Ok(Edge::EarthIers(edge)) = g.edge(name) {
+                let table = Bound::new(py, crate::time::orientation::PyEarthOrientation { table: edge.eop().clone() })?;
+                iers.append((name, edge.epoch_tt().jd, edge.epoch_tt().fraction, table))?;
+            }
+        }
         let rebuild = py.import("rotaframe._native")?.getattr("_frame_graph_from_parts")?;
-        Ok((rebuild, (g.to_toml(), samples).into_pyobject(py)?))
+        Ok((rebuild, (g.to_toml(), samples, iers).into_pyobject(py)?))
     }
 }
 
@@ -532,8 +564,21 @@ type PickledSamples<'py> = (
 
 /// Rebuilds a pickled `FrameGraph`.
 #[pyfunction]
-pub fn _frame_graph_from_parts(toml: &str, samples: &Bound<'_, PyList>) -> PyResult<PyFrameGraph> {
+#[pyo3(signature = (toml, samples, iers=None))]
+pub fn _frame_graph_from_parts(
+    toml: &str,
+    samples: &Bound<'_, PyList>,
+    iers: Option<&Bound<'_, PyList>>,
+) -> PyResult<PyFrameGraph> {
     let mut graph = FrameGraph::from_toml(toml).map_err(graph_error)?;
+    for item in iers.into_iter().flat_map(|list| list.iter()) {
+        let (name, jd, fraction, table): (String, f64, f64, Bound<'_, crate::time::orientation::PyEarthOrientation>) =
+            item.extract()?;
+        let parent = graph.parent_of(&name).map_err(graph_error)?.unwrap_or_default().to_string();
+        let edge = rotaframe::graph::IersEarth::new(rotaframe::time::JulianDate { jd, fraction }, table.get().table.clone())
+            .map_err(edge_error)?;
+        graph.add_earth_iers(&name, &parent, edge).map_err(graph_error)?;
+    }
     for item in samples.iter() {
         let (name, _kind, t, r, q, v, w): PickledSamples<'_> = item.extract()?;
         let (times, _) = PyFrameGraph::times(&t)?;

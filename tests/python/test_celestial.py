@@ -125,3 +125,20 @@ def test_earth_motion_iers_broadcasts_and_refuses_dates_outside_the_table():
     assert np.array_equal(motions.angular_velocity[2], single.angular_velocity)
     with pytest.raises(rf.OutOfRangeError, match="`jd`"):
         rf.earth_motion_iers(2441000.5, 0.0, eop)
+
+
+def test_a_graph_edge_with_the_full_model_matches_earth_motion_iers_and_pickles():
+    import pickle
+
+    eop = rf.EarthOrientation.from_iers(DATA / "finals2000A.all")
+    epoch = (2460310.5, 0.25)
+    g = rf.FrameGraph("gcrs", inertial=True)
+    g.add_earth("itrs", "gcrs", eop=eop, epoch_jd_tt=epoch)
+    t = np.array([0.0, 600.0, 86400.0])
+    from_graph = g.motion("gcrs", "itrs", t)
+    direct = rf.earth_motion_iers(epoch[0], epoch[1] + t / 86400.0, eop)
+    assert np.array_equal(from_graph.angular_velocity, direct.angular_velocity)
+    again = pickle.loads(pickle.dumps(g))
+    assert np.array_equal(again.motion("gcrs", "itrs", t).rotation, from_graph.rotation)
+    with pytest.raises(rf.RotaframeError, match="epoch_jd_tt"):
+        g.add_earth("other", "gcrs", eop=eop)

@@ -819,6 +819,8 @@ class FrameGraph:
         angle_at_epoch: float = 0.0,
         model: Optional[EarthModel] = None,
         epoch_jd_ut1: Optional[ArrayLike] = None,
+        eop: Optional[EarthOrientation] = None,
+        epoch_jd_tt: Optional[ArrayLike] = None,
     ) -> None: ...
     def add_site(
         self,
@@ -874,7 +876,7 @@ class FrameGraph:
     def __len__(self) -> int: ...
     def __reduce__(self) -> tuple[Any, ...]: ...
 
-def _frame_graph_from_parts(toml: str, samples: list[Any]) -> FrameGraph: ...
+def _frame_graph_from_parts(toml: str, samples: list[Any], iers: Optional[list[Any]] = None) -> FrameGraph: ...
 
 @final
 class Drag:

@@ -36,7 +36,7 @@
 //! of a navigation-grade gyro (0.01 °/h ≈ 5e-8 rad/s). That is why inertial navigation
 //! mechanizes in this simplified frame. Celestial pointing, orbit determination and
 //! anything that must agree with the stars to better than a microradian need the full IERS
-//! transformation, which rotaframe does not provide.
+//! transformation: [`celestial`](super::celestial) (GCRS and ITRS).
 //!
 //! # Which rate
 //!

@@ -266,7 +266,9 @@ impl FrameDoc {
         let mut doc = FrameDoc {
             name: name.to_string(),
             parent: parent.to_string(),
-            kind: edge.kind_name().to_string(),
+            // The full-model Earth edge needs its Earth orientation table: declared, attached in
+            // code after loading.
+            kind: if matches!(edge, Edge::EarthIers(_)) { "function" } else { edge.kind_name() }.to_string(),
             ..Self::default()
         };
         let model_doc = |m: &EarthModel| {

@@ -10,6 +10,7 @@
 //! | [`Fixed`] | a constant rotation and offset (a sensor mount, a lever arm) |
 //! | [`Spin`] | rotation about a fixed axis: angle `θ₀ + ω t + ½ α t²`, rate `ω + α t`, angular acceleration `α` |
 //! | [`EarthRotation`] | ECEF relative to the inertial frame: [`earth_motion`](crate::earth::earth_motion) at `t` seconds after an epoch given by its rotation angle or its two-part UT1 Julian date |
+//! | [`IersEarth`] (with `alloc`) | ITRS relative to GCRS by the full IERS model ([`itrs_motion`](crate::earth::celestial::itrs_motion)), `t` in seconds of TT after a stated epoch, with Earth orientation data |
 //! | [`Site`] | a local-level frame (NED or ENU) at a fixed geodetic point, relative to ECEF |
 //! | sampled | a logged motion interpolated by [`SampledMotion`](crate::nav::SampledMotion) (all six kinematic quantities, no extrapolation) |
 //! | function | the user's own (a closure of time) |
@@ -65,6 +66,8 @@ pub mod config;
 mod error;
 mod evaluate;
 #[cfg(feature = "alloc")]
+mod iers;
+#[cfg(feature = "alloc")]
 mod sampled;
 #[cfg(feature = "alloc")]
 mod tree;
@@ -72,6 +75,8 @@ mod tree;
 #[cfg(feature = "alloc")]
 pub use error::GraphError;
 pub use evaluate::EdgeCaches;
+#[cfg(feature = "alloc")]
+pub use iers::IersEarth;
 #[cfg(feature = "alloc")]
 pub use sampled::{SampledEdge, SamplesKind};
 #[cfg(feature = "alloc")]

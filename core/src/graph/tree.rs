@@ -9,6 +9,7 @@ use core::fmt;
 use nalgebra::Vector3;
 
 use super::error::{GraphError, GraphResult};
+use super::iers::IersEarth;
 use super::sampled::{SampledEdge, SamplesKind};
 use super::{EarthRotation, EdgeCaches, Fixed, FrameId, FrameTree, GraphFault, Motion, Path, Site, Spin, StaticEdge};
 use crate::apparent::{ApparentAcceleration, FrameDynamics, apparent_terms};
@@ -38,6 +39,8 @@ pub enum Edge {
     Root,
     /// A fixed, spin, Earth or site edge.
     Static(StaticEdge),
+    /// The Earth by the full IERS model (ITRS relative to GCRS).
+    EarthIers(Box<IersEarth>),
     /// A logged motion.
     Sampled(SampledEdge),
     /// A user's function.
@@ -54,6 +57,7 @@ impl fmt::Debug for Edge {
         match self {
             Edge::Root => f.write_str("Root"),
             Edge::Static(s) => f.debug_tuple("Static").field(s).finish(),
+            Edge::EarthIers(e) => f.debug_tuple("EarthIers").field(&e.epoch_tt()).field(&e.eop().span()).finish(),
             Edge::Sampled(s) => f.debug_tuple("Sampled").field(&s.kind()).field(&s.span()).finish(),
             Edge::Function(_) => f.write_str("Function"),
             Edge::External => f.write_str("External"),
@@ -69,6 +73,7 @@ impl Edge {
         match self {
             Edge::Root => "root",
             Edge::Static(s) => s.kind_name(),
+            Edge::EarthIers(_) => "earth",
             Edge::Sampled(_) | Edge::Declared(Declared::Samples) => "samples",
             Edge::Function(_) | Edge::External | Edge::Declared(Declared::Function) => "function",
         }
@@ -183,7 +188,7 @@ impl FrameGraph {
     /// The first Earth-fixed frame (one attached by an Earth edge), if any.
     #[must_use]
     pub fn earth_frame(&self) -> Option<FrameId> {
-        self.frames.iter().position(|e| matches!(e.edge, Edge::Static(StaticEdge::Earth(_))))
+        self.frames.iter().position(|e| matches!(e.edge, Edge::Static(StaticEdge::Earth(_)) | Edge::EarthIers(_)))
     }
 
     /// The root's name.
@@ -286,7 +291,7 @@ impl FrameGraph {
             let attachable = matches!(
                 (&entry.edge, &edge),
                 (Edge::Declared(Declared::Samples), Edge::Sampled(_))
-                    | (Edge::Declared(Declared::Function), Edge::Function(_) | Edge::External)
+                    | (Edge::Declared(Declared::Function), Edge::Function(_) | Edge::External | Edge::EarthIers(_))
             );
             if attachable && entry.parent == Some(parent_id) {
                 self.frames[i].edge = edge;
@@ -334,6 +339,17 @@ impl FrameGraph {
         self.insert(name, parent, Edge::Static(StaticEdge::Earth(edge)))
     }
 
+    /// Adds the ITRS turning relative to `parent` (the GCRS, an inertial frame) by the full IERS
+    /// model, the graph's time being seconds of TT after the edge's epoch. A configuration file
+    /// declares it as a function frame (`kind = "function"`): attach it again in code with this
+    /// method after loading.
+    ///
+    /// # Errors
+    /// As [`add_fixed`](Self::add_fixed).
+    pub fn add_earth_iers(&mut self, name: &str, parent: &str, edge: IersEarth) -> GraphResult<FrameId> {
+        self.insert(name, parent, Edge::EarthIers(Box::new(edge)))
+    }
+
     /// Adds a local-level frame at a fixed geodetic point of `parent` (an Earth-fixed frame).
     ///
     /// # Errors
@@ -358,7 +374,7 @@ impl FrameGraph {
     pub fn add_samples(&mut self, name: &str, parent: &str, edge: SampledEdge) -> GraphResult<FrameId> {
         if edge.kind() == SamplesKind::Geodetic {
             let p = self.id(parent)?;
-            if !matches!(self.frames[p].edge, Edge::Static(StaticEdge::Earth(_))) {
+            if !matches!(self.frames[p].edge, Edge::Static(StaticEdge::Earth(_)) | Edge::EarthIers(_)) {
                 return Err(GraphError::NotEarthFixed { name: name.to_string(), parent: parent.to_string() });
             }
         }
@@ -395,7 +411,7 @@ impl FrameGraph {
     /// Whether any frame has a function edge (such graphs cannot be saved whole).
     #[must_use]
     pub fn has_functions(&self) -> bool {
-        self.frames.iter().any(|e| matches!(e.edge, Edge::Function(_) | Edge::External))
+        self.frames.iter().any(|e| matches!(e.edge, Edge::Function(_) | Edge::External | Edge::EarthIers(_)))
     }
 
     /// The motion of frame `frame` relative to its parent at `time`, with `cache` for a sampled
@@ -412,6 +428,7 @@ impl FrameGraph {
         match &self.frames[frame].edge {
             Edge::Root => Ok(Motion::identity()),
             Edge::Static(s) => s.motion_at(time).map_err(wrap),
+            Edge::EarthIers(e) => e.motion_at(time).map_err(wrap),
             Edge::Sampled(s) => s.motion_at(time, cache).map_err(wrap),
             Edge::Function(f) => f(time).and_then(check_motion).map_err(wrap),
             Edge::External => external(frame).and_then(check_motion).map_err(wrap),
