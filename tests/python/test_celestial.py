@@ -42,6 +42,10 @@ def test_cip_coordinates_and_tio_locator_match_the_reference():
     # s is below 1e-7 rad: 1e-16 rad.
     assert np.max(np.abs(s - rs)) < 1e-16
     np.testing.assert_allclose(rf.tio_locator(day, fraction), erfa.sp00(day, fraction), rtol=1e-13, atol=1e-22)
+    # The Earth Rotation Angle (IERS Conventions 2010, eq. 5.15): 1e-12 rad allows for the
+    # rounding of an angle of up to 2π taken from a two-part date.
+    era = rf.earth_rotation_angle(day, fraction)
+    assert np.max(np.abs(np.angle(np.exp(1j * (era - erfa.era00(day, fraction)))))) < 1e-12
 
 
 def test_the_gcrs_to_itrs_matrix_matches_the_reference_within_2_microarcseconds():
