@@ -33,11 +33,23 @@ pub fn direction(v: &Vector3<f64>) -> String {
     }
 }
 
+/// A frame's name as the trade writes it: the acronyms in capitals (NED, ENU, ECEF, ECI, GCRS,
+/// ITRS), other names as they are.
+#[must_use]
+pub fn trade_name(name: &str) -> String {
+    match name {
+        "Ned" | "Enu" | "Ecef" | "Eci" | "Gcrs" | "Itrs" => name.to_uppercase(),
+        _ => name.to_string(),
+    }
+}
+
 /// Prints an apparent-acceleration budget as a table: each term's components, magnitude in
 /// m/s² and in g, and direction, resolved in the frame `B` whose axis names are given.
+/// Components below 1e-12 of the table's largest term are rounding residue (the sum of a
+/// few products of numbers of that size rounds to about 1e-16 of it) and print as zero.
 pub fn print_budget<B: Frame>(title: &str, axes: [&str; 3], terms: &ApparentAcceleration<B>) {
     println!("{title}");
-    println!("resolved in {} axes ({}, {}, {})", B::NAME, axes[0], axes[1], axes[2]);
+    println!("resolved in {} axes ({}, {}, {})", trade_name(B::NAME), axes[0], axes[1], axes[2]);
     println!("{:<14} {:>13} {:>13} {:>13} {:>13} {:>11}   direction", "term", axes[0], axes[1], axes[2], "|a| m/s²", "|a| g");
     let rows = [
         ("translational", terms.translational),
@@ -46,7 +58,10 @@ pub fn print_budget<B: Frame>(title: &str, axes: [&str; 3], terms: &ApparentAcce
         ("Euler", terms.euler),
         ("total", terms.total),
     ];
+    let largest = rows.iter().map(|(_, v)| v.norm()).fold(0.0, f64::max);
+    let shown = |v: &Vector3<f64>| v.map(|x| if x.abs() <= 1e-12 * largest { 0.0 } else { x });
     for (i, (name, v)) in rows.iter().enumerate() {
+        let v = &shown(v);
         if i == rows.len() - 1 {
             println!("{}", "-".repeat(100));
         }

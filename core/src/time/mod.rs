@@ -29,6 +29,15 @@
 //! Dates converted to or from UTC come back as the JD of their day's 0h (ending in .5) and
 //! the fraction of the day in `[0, 1)`; between the other scales the offset is added to the
 //! part of smaller magnitude and the caller's split is kept.
+//!
+//! # Why rotaframe's own
+//!
+//! The arithmetic is small (whole-second leap steps, fixed offsets, two-part dates, the
+//! Gregorian day number) and every line of it is checked against the IAU reference library in
+//! the tests; it must build without `std` or allocation, name the user's argument in every
+//! error, and follow the quasi Julian date convention of UTC. The time-scale crates we know of
+//! belong to larger astrodynamics toolkits, which this project neither adopts nor imitates, so
+//! the module is written here rather than taken from one.
 
 pub mod calendar;
 pub mod gps;
