@@ -133,7 +133,7 @@ from ._native import (
     transport_rate_ned,
 )
 
-__version__ = "0.1.0"
+__version__ = "0.2.0"
 
 __all__ = [
     "celestial_to_terrestrial",

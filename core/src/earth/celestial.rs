@@ -446,11 +446,14 @@ pub fn celestial_to_terrestrial(tt: JulianDate, ut1: JulianDate, pole: &PoleCoor
 ///
 /// ```
 /// use rotaframe::earth::celestial::itrs_motion;
-/// use rotaframe::time::{EarthOrientation, JulianDate};
+/// use rotaframe::time::{EarthOrientationRows, EarthOrientationView, JulianDate, LeapSeconds};
 /// // Invented Earth orientation rows around the date.
 /// let mjd = [59_999.0, 60_000.0, 60_001.0, 60_002.0];
-/// let eop = EarthOrientation::new(&mjd, &[-0.0188, -0.0192, -0.0196, -0.0200], &[5e-7; 4], &[1.5e-6; 4], None).unwrap();
-/// let m = itrs_motion(JulianDate::new(2_460_000.5, 0.5).unwrap(), &eop.view()).unwrap();
+/// let dut1 = [-0.0188, -0.0192, -0.0196, -0.0200];
+/// let (xp, yp) = ([5e-7; 4], [1.5e-6; 4]);
+/// let rows = EarthOrientationRows { mjd: &mjd, ut1_minus_utc: &dut1, xp: &xp, yp: &yp, dx: &[], dy: &[] };
+/// let eop = EarthOrientationView::new(rows, &LeapSeconds::BUILT_IN).unwrap();
+/// let m = itrs_motion(JulianDate::new(2_460_000.5, 0.5).unwrap(), &eop).unwrap();
 /// // The Earth turns at the ERA's rate plus the precession-nutation rate (about 50″ a year).
 /// assert!((m.angular_velocity().norm() - 7.292115146706979e-5).abs() < 1e-11);
 /// ```

@@ -201,11 +201,13 @@ impl<'a> EarthOrientationView<'a> {
     /// As [`at`](Self::at).
     ///
     /// ```
-    /// use rotaframe::time::{EarthOrientation, JulianDate};
+    /// use rotaframe::time::{EarthOrientationRows, EarthOrientationView, JulianDate, LeapSeconds};
     /// // UT1 − UTC falling 1 ms a day: a rate of −1e-3/86400 s/s.
     /// let mjd = [60_000.0, 60_001.0, 60_002.0, 60_003.0];
-    /// let eop = EarthOrientation::new(&mjd, &[0.010, 0.009, 0.008, 0.007], &[0.0; 4], &[0.0; 4], None).unwrap();
-    /// let [_, rate, _] = eop.view().at_with_rates(JulianDate::new(2_460_001.5, 0.3).unwrap()).unwrap();
+    /// let (dut1, zero) = ([0.010, 0.009, 0.008, 0.007], [0.0; 4]);
+    /// let rows = EarthOrientationRows { mjd: &mjd, ut1_minus_utc: &dut1, xp: &zero, yp: &zero, dx: &[], dy: &[] };
+    /// let eop = EarthOrientationView::new(rows, &LeapSeconds::BUILT_IN).unwrap();
+    /// let [_, rate, _] = eop.at_with_rates(JulianDate::new(2_460_001.5, 0.3).unwrap()).unwrap();
     /// assert!((rate.ut1_minus_utc + 1e-3 / 86_400.0).abs() < 1e-20);
     /// ```
     pub fn at_with_rates(&self, utc: JulianDate) -> Result<[EarthOrientationSample; 3]> {
