@@ -264,3 +264,32 @@ def test_ut1_inside_leap_seconds_matches_the_reference_and_runs_on_smoothly():
         before = rf.convert_time(*rf.julian_date(y, mo, d, 23, 59, 59.75), "utc", "ut1", eop=eop)
         after = rf.convert_time(*rf.julian_date(*erfa.jd2cal(2400000.5, float(step))[:3], 0, 0, 0.25), "utc", "ut1", eop=eop)
         assert abs(seconds_apart(after, before) - 1.5) < 1e-6
+
+
+@pytest.mark.parametrize("value", [0.0, -0.0, 1.0, 2451545.0, 2460000.5, 1e9, -1e9, 1e300, -1e300, np.nan, np.inf, -np.inf, 5e-324])
+def test_time_functions_give_finite_results_or_named_errors(value):
+    # The house convention (finite input in range gives finite output; anything else a
+    # RotaframeError naming the argument), over edge values in every date argument.
+    eop = rf.EarthOrientation.from_iers(DATA / "finals2000A.all")
+    calls = [
+        lambda: rf.convert_time(value, 0.25, "utc", "tt"),
+        lambda: rf.convert_time(2451545.0, value, "tt", "utc"),
+        lambda: rf.convert_time(value, 0.0, "ut1", "utc", eop=eop),
+        lambda: rf.calendar_date(value, 0.5),
+        lambda: rf.gps_week_seconds(value, 0.0),
+        lambda: rf.from_gps_week_seconds(2000, value),
+        lambda: rf.from_gps_week_seconds(value, 0.0),
+        lambda: rf.julian_date(value, 1, 1),
+        lambda: eop.at(value, 0.0).ut1_minus_utc,
+        lambda: rf.cip_coordinates(value, 0.0),
+        lambda: rf.celestial_to_terrestrial(value, 0.0, value, 0.0, 0.0, 0.0),
+        lambda: rf.celestial_to_terrestrial(2451545.0, 0.0, 2451545.0, 0.0, value * 1e-9, 0.0),
+        lambda: rf.earth_motion_iers(value, 0.0, eop).angular_velocity,
+    ]
+    for call in calls:
+        try:
+            result = call()
+        except rf.RotaframeError as e:
+            assert "`" in str(e), str(e)  # the message names the argument
+            continue
+        assert np.all(np.isfinite(np.asarray(result, dtype=float)))

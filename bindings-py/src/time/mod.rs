@@ -25,11 +25,15 @@ fn scale(obj: &Bound<'_, PyAny>, name: &str) -> PyResult<TimeScale> {
 }
 
 /// An integral value given as a float (a calendar field, a GPS week), naming its argument.
+/// Values beyond ±1e9 are refused as out of range (no calendar field or GPS week comes near).
 fn whole(value: f64, quantity: &'static str) -> rotaframe::Result<i32> {
-    if value != value.floor() || value.abs() > 1e9 {
-        if !value.is_finite() {
-            return Err(rotaframe::Error::NonFinite { quantity });
-        }
+    if !value.is_finite() {
+        return Err(rotaframe::Error::NonFinite { quantity });
+    }
+    if value.abs() > 1e9 {
+        return Err(rotaframe::Error::OutOfRange { quantity, value, min: -1e9, max: 1e9 });
+    }
+    if value != value.floor() {
         return Err(rotaframe::Error::Invalid { quantity, reason: "must be a whole number" });
     }
     Ok(value as i32)
