@@ -12,3 +12,12 @@ def test_readme_python_blocks_run(monkeypatch):
     assert blocks, "the README has Python examples"
     for block in blocks:
         exec(compile(block, "README.md", "exec"), {})
+
+
+def test_the_python_package_readme_blocks_run():
+    # The package's own README (its PyPI page).
+    text = (README.parent / "bindings-py" / "README.md").read_text()
+    blocks = re.findall(r"```python\n(.*?)```", text, flags=re.S)
+    assert blocks, "the package README has a Python example"
+    for block in blocks:
+        exec(compile(block, "bindings-py/README.md", "exec"), {})
