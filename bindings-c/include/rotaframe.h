@@ -1888,7 +1888,8 @@ rf_status rf_celestial_to_terrestrial(const struct rf_julian_date *tt, const str
 /**
  * ITRS relative to GCRS at the TT date `tt`, with UT1 − UTC, polar motion and dX, dY from
  * `eop` (interpolated with their rates): rotation, angular velocity and acceleration (per TT
- * second, resolved in GCRS). A date outside the table returns `RF_STATUS_OUT_OF_RANGE`.
+ * second, resolved in GCRS). A date outside the table returns `RF_STATUS_OUT_OF_RANGE`. The
+ * table is checked whole at every call, as by `rf_earth_orientation_at`.
  */
 rf_status rf_earth_motion_iers(const struct rf_julian_date *tt, const struct rf_earth_orientation *eop, struct rf_frame_motion *out_motion);
 
@@ -2394,8 +2395,9 @@ rf_status rf_calendar_date(const struct rf_julian_date *date, uint32_t scale, co
 /**
  * The Earth orientation at the UTC date `utc`, interpolated by 4-point Lagrange (IERS
  * Conventions 2010 §5.5). A date outside the table returns `RF_STATUS_OUT_OF_RANGE`. The
- * table is checked at every call (O(rows)); a loop over many dates may check it once with a
- * first call and keep it unchanged.
+ * table is checked whole at every call (order, ranges: O(rows), some tens of microseconds for
+ * a 20,000-row C04 table); a loop over many dates is faster with a table of the rows that
+ * cover them.
  */
 rf_status rf_earth_orientation_at(const struct rf_earth_orientation *table, const struct rf_julian_date *utc, struct rf_earth_orientation_sample *out_sample);
 

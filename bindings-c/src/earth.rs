@@ -487,7 +487,8 @@ pub unsafe extern "C" fn rf_celestial_to_terrestrial(
 
 /// ITRS relative to GCRS at the TT date `tt`, with UT1 − UTC, polar motion and dX, dY from
 /// `eop` (interpolated with their rates): rotation, angular velocity and acceleration (per TT
-/// second, resolved in GCRS). A date outside the table returns `RF_STATUS_OUT_OF_RANGE`.
+/// second, resolved in GCRS). A date outside the table returns `RF_STATUS_OUT_OF_RANGE`. The
+/// table is checked whole at every call, as by `rf_earth_orientation_at`.
 #[unsafe(no_mangle)]
 pub unsafe extern "C" fn rf_earth_motion_iers(
     tt: *const crate::time::rf_julian_date,

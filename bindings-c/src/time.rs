@@ -287,8 +287,9 @@ pub(crate) unsafe fn with_view<R>(
 
 /// The Earth orientation at the UTC date `utc`, interpolated by 4-point Lagrange (IERS
 /// Conventions 2010 §5.5). A date outside the table returns `RF_STATUS_OUT_OF_RANGE`. The
-/// table is checked at every call (O(rows)); a loop over many dates may check it once with a
-/// first call and keep it unchanged.
+/// table is checked whole at every call (order, ranges: O(rows), some tens of microseconds for
+/// a 20,000-row C04 table); a loop over many dates is faster with a table of the rows that
+/// cover them.
 #[unsafe(no_mangle)]
 pub unsafe extern "C" fn rf_earth_orientation_at(
     table: *const rf_earth_orientation,
