@@ -62,10 +62,9 @@ use crate::error::{Error, Result};
 use crate::frames::{Gcrs, Itrs};
 use crate::math;
 use crate::motion::{FrameMotion, MotionParts};
+use crate::time::orientation::{ARCSEC, MAX_POLE};
 use crate::time::{EarthOrientationView, JulianDate, TimeScale};
 
-/// Radians per arcsecond.
-const ARCSEC: f64 = core::f64::consts::PI / 648_000.0;
 /// Arcseconds in a full turn.
 const TURN_ARCSEC: f64 = 1_296_000.0;
 /// Days per Julian century.
@@ -74,8 +73,6 @@ const CENTURY_DAYS: f64 = 36_525.0;
 const MAX_CENTURIES: f64 = 10.0;
 /// The TIO locator's rate (rad per Julian century): −47 µas (IERS Conventions 2010, eq. 5.13).
 const TIO_RATE: f64 = -47e-6 * ARCSEC;
-/// The largest pole coordinate or offset accepted (rad): 10″.
-const MAX_POLE: f64 = 10.0 * ARCSEC;
 
 /// The CIP coordinates `X, Y` and the CIO locator `s` (rad) of the IAU 2006/2000A model.
 #[derive(Debug, Clone, Copy, PartialEq)]

@@ -54,11 +54,11 @@ use super::{JulianDate, LeapSeconds, MJD_ZERO_JD, Ut1Source};
 use crate::error::{Error, ParseError, Result};
 
 /// Radians per arcsecond.
-const ARCSEC: f64 = core::f64::consts::PI / 648_000.0;
+pub(crate) const ARCSEC: f64 = core::f64::consts::PI / 648_000.0;
 
 /// The largest pole coordinate or celestial pole offset accepted (rad): 10″ (the pole wanders
 /// within about 1″).
-const MAX_POLE: f64 = 10.0 * ARCSEC;
+pub(crate) const MAX_POLE: f64 = 10.0 * ARCSEC;
 
 /// The Earth orientation at a date: `UT1 − UTC` (s), `xp`, `yp`, `dX`, `dY` (rad).
 #[derive(Debug, Clone, Copy, PartialEq)]
